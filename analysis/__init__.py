@@ -1,0 +1,59 @@
+"""plumbframe's engine: read an IFC model, count and check it, analyse it, write results back.
+
+The public API (everything here can be used without Blender):
+
+>>> from analysis import FrameBuilder, Section, Material, LoadCase, NodalLoad, analyze
+"""
+from __future__ import annotations
+
+from .errors import AnalysisError, Diagnostic, IfcInputError, ModelError, UnitError, UnstableStructureError
+from .model import (
+    ACTION_NAMES,
+    DOF_NAMES,
+    REACTION_NAMES,
+    AnalysisOptions,
+    Combination,
+    Diaphragm,
+    Frame,
+    FrameBuilder,
+    LineLoad,
+    LoadCase,
+    Material,
+    NodalLoad,
+    PointLoad,
+    RigidBody,
+    Section,
+    Settlement,
+)
+from .results import Results
+from .stiffness.analyze import analyze
+
+__version__ = "0.1.0"
+
+__all__ = [
+    "__version__",
+    "AnalysisError",
+    "Diagnostic",
+    "IfcInputError",
+    "ModelError",
+    "UnitError",
+    "UnstableStructureError",
+    "ACTION_NAMES",
+    "DOF_NAMES",
+    "REACTION_NAMES",
+    "AnalysisOptions",
+    "Combination",
+    "Diaphragm",
+    "Frame",
+    "FrameBuilder",
+    "LineLoad",
+    "LoadCase",
+    "Material",
+    "NodalLoad",
+    "PointLoad",
+    "RigidBody",
+    "Section",
+    "Settlement",
+    "Results",
+    "analyze",
+]

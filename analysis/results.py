@@ -1,0 +1,315 @@
+"""Results of an analysis: displacements, reactions, member forces, diagrams, envelopes.
+
+All values SI. Displacements ``(n,6)`` and reactions ``(n,6)`` are in global
+axes; reactions are the forces the supports (and springs) exert on the
+structure. ``end_forces (m,2,6)`` are the forces the nodes exert on each
+member end, in member axes. Internal forces along a member follow the
+positive-face rule (see `analysis.stiffness.elements`): N > 0 tension.
+"""
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from .errors import Diagnostic
+from .model import ACTION_NAMES, DOF_NAMES, REACTION_NAMES, AnalysisOptions, Frame, member_ends
+from .stiffness.loads import _GAUSS_W, _GAUSS_X, CaseLoads, MemberLoading, internal_forces
+
+__all__ = ["CaseResult", "Results", "MemberDiagram", "SCHEMA"]
+
+SCHEMA = "plumbframe.results/1"
+
+
+@dataclass
+class CaseResult:
+    """One load case or combination."""
+
+    name: str
+    kind: str  # 'case' | 'combination'
+    displacements: np.ndarray  # (n,6)
+    reactions: np.ndarray  # (n,6)
+    end_forces: np.ndarray  # (m,2,6) nodes on member, member axes
+    end_displacements: np.ndarray  # (m,12) member-end displacements in member axes
+    loads: CaseLoads
+    factors: tuple[tuple[str, float], ...] = ()
+    equilibrium_residual: float = math.nan
+
+    @classmethod
+    def combine(cls, name: str, parts: list[tuple["CaseResult", float]], frame: Frame) -> "CaseResult":
+        n, m = frame.n_nodes, frame.n_members
+        disp = np.zeros((n, 6))
+        reac = np.zeros((n, 6))
+        ef = np.zeros((m, 2, 6))
+        ed = np.zeros((m, 12))
+        loads = CaseLoads(nodal=np.zeros((n, 6)), uniform=np.zeros((m, 3)), generic={})
+        for part, f in parts:
+            disp += f * part.displacements
+            reac += f * part.reactions
+            ef += f * part.end_forces
+            ed += f * part.end_displacements
+            loads.scaled_add(part.loads, f)
+        return cls(name=name, kind="combination", displacements=disp, reactions=reac, end_forces=ef,
+                   end_displacements=ed, loads=loads, factors=tuple((p.name, f) for p, f in parts))
+
+
+@dataclass(frozen=True)
+class MemberDiagram:
+    """Internal forces and deflections along one member (member axes)."""
+
+    stations: np.ndarray  # (s,) m from end i
+    forces: np.ndarray  # (s,6) N, Vy, Vz, T, My, Mz
+    deflections: np.ndarray  # (s,2) dy, dz (axis deflection incl. nodal displacements)
+
+    def __getitem__(self, key: str) -> np.ndarray:
+        if key in ACTION_NAMES:
+            return self.forces[:, ACTION_NAMES.index(key)]
+        if key in ("dy", "dz"):
+            return self.deflections[:, ("dy", "dz").index(key)]
+        raise KeyError(key)
+
+
+@dataclass
+class Results:
+    """Everything one analysis produced (see module docstring)."""
+
+    frame: Frame
+    options: AnalysisOptions
+    dofs: object
+    R: np.ndarray
+    L: np.ndarray
+    cases: dict[str, CaseResult]
+    diagnostics: tuple[Diagnostic, ...] = ()
+    solver: str = ""
+    n_unknowns: int = 0
+    timings: dict = field(default_factory=dict)
+    _diagram_cache: dict = field(default_factory=dict, repr=False)
+
+    # ------------------------------------------------------------------ basics
+    @property
+    def dimension(self) -> int:
+        return 2 if self.dofs.plane_axis is not None else 3
+
+    @property
+    def active_components(self) -> tuple[int, ...]:
+        return self.dofs.active
+
+    def case(self, name: str) -> CaseResult:
+        try:
+            return self.cases[name]
+        except KeyError:
+            raise KeyError(f"no load case or combination named {name!r}; have {', '.join(self.cases)}") from None
+
+    # ------------------------------------------------------------------ diagrams
+    def diagram(self, case: str, member: str | int, n_stations: int | None = None) -> MemberDiagram:
+        """Internal forces and deflections along a member, exact at load points and extremes."""
+        k = member if isinstance(member, (int, np.integer)) else self.frame.member_index(member)
+        key = (case, int(k), n_stations)
+        if key not in self._diagram_cache:
+            self._diagram_cache[key] = self._diagram(self.case(case), int(k), n_stations or self.options.stations)
+        return self._diagram_cache[key]
+
+    def _diagram(self, cr: CaseResult, k: int, n_st: int) -> MemberDiagram:
+        L = float(self.L[k])
+        loading = cr.loads.loading(k, L)
+        f_i = cr.end_forces[k, 0]
+        d = cr.end_displacements[k]
+        C = self._compliance(k)
+        breaks = loading.breakpoints(L)
+        base = np.unique(np.concatenate([np.linspace(0.0, L, n_st), breaks]))
+        extra = _extreme_points(loading, f_i, d, C, breaks, L)
+        stations = np.unique(np.concatenate([base, extra]))
+        # a concentrated load: both sides of the jump; station values just after the load
+        forces = internal_forces(loading, f_i, stations)
+        point_pos = loading.point_positions()
+        if point_pos:
+            left = np.array([s for s in stations if any(abs(s - a) < 1e-12 * max(L, 1) for a in point_pos) and s > 0])
+            if left.size:
+                before = internal_forces(loading, f_i, left - 1e-9 * L)
+                stations = np.concatenate([stations, left])
+                forces = np.concatenate([forces, before])
+                order = np.lexsort((np.concatenate([np.ones(len(stations) - left.size), np.zeros(left.size)]), stations))
+                stations, forces = stations[order], forces[order]
+        defl = _deflections(loading, f_i, d, C, stations, L)
+        return MemberDiagram(stations=stations, forces=forces, deflections=defl)
+
+    def _compliance(self, k: int) -> np.ndarray:
+        f = self.frame
+        shear = self.options.shear
+
+        def inv(x):
+            return 1.0 / x if x > 0 else 0.0
+
+        return np.array([inv(f.E[k] * f.A[k]), inv(f.G[k] * f.Avy[k]) if shear else 0.0,
+                         inv(f.G[k] * f.Avz[k]) if shear else 0.0, inv(f.G[k] * f.J[k]),
+                         0.0 if f.truss[k] else inv(f.E[k] * f.Iy[k]), 0.0 if f.truss[k] else inv(f.E[k] * f.Iz[k])])
+
+    # ------------------------------------------------------------------ envelopes
+    def envelopes(self) -> dict[str, dict[str, list[float]]]:
+        """Per member and action: [min, max] over all cases and combinations."""
+        out: dict[str, dict[str, list[float]]] = {}
+        for k, mid in enumerate(self.frame.member_ids):
+            lo = np.full(6, np.inf)
+            hi = np.full(6, -np.inf)
+            for name in self.cases:
+                F = self.diagram(name, k).forces
+                lo = np.minimum(lo, F.min(axis=0))
+                hi = np.maximum(hi, F.max(axis=0))
+            out[mid] = {a: [float(lo[i]), float(hi[i])] for i, a in enumerate(ACTION_NAMES)} if self.cases else {}
+        return out
+
+    # ------------------------------------------------------------------ checks
+    def check_equilibrium(self) -> None:
+        """Compute each case's relative equilibrium residual |Σ loads + Σ reactions| / Σ|loads|."""
+        frame = self.frame
+        xi, xj = member_ends(frame) if frame.n_members else (np.zeros((0, 3)), np.zeros((0, 3)))
+        size = max(float(np.ptp(frame.nodes, axis=0).max()) if frame.n_nodes else 1.0, 1.0)
+        active = np.zeros(6, bool)
+        active[list(self.dofs.active)] = True
+        for cr in self.cases.values():
+            F = np.zeros(3)
+            M = np.zeros(3)
+            scale = 0.0
+            nodal = cr.loads.nodal * active
+            F += nodal[:, :3].sum(axis=0)
+            M += nodal[:, 3:].sum(axis=0) + np.cross(frame.nodes, nodal[:, :3]).sum(axis=0)
+            scale += np.abs(nodal[:, :3]).sum() + np.abs(nodal[:, 3:]).sum() / size
+            for k in range(frame.n_members):
+                loading = cr.loads.loading(k, float(self.L[k]))
+                if loading.empty:
+                    continue
+                tot = loading.total(float(self.L[k]))  # about end j, member axes
+                Fg = self.R[k].T @ tot[:3]
+                Mg = self.R[k].T @ tot[3:] + np.cross(xj[k], Fg)
+                F += Fg
+                M += Mg
+                scale += np.abs(Fg).sum() + np.abs(Mg).sum() / size
+            r = cr.reactions
+            F += r[:, :3].sum(axis=0)
+            M += r[:, 3:].sum(axis=0) + np.cross(frame.nodes, r[:, :3]).sum(axis=0)
+            scale += np.abs(r[:, :3]).sum() + np.abs(r[:, 3:]).sum() / size
+            # a plane analysis balances only its in-plane components
+            resid = np.concatenate([F, M / size]) * active
+            cr.equilibrium_residual = float(np.abs(resid).max() / scale) if scale > 0 else 0.0
+
+    # ------------------------------------------------------------------ export
+    def to_dict(self, indeterminacy: dict | None = None, include_cases: bool = True) -> dict:
+        """The ``plumbframe.results/1`` document (see ARCHITECTURE.md)."""
+        frame = self.frame
+        comps = self._reported_components()
+        doc: dict = {
+            "schema": SCHEMA,
+            "units": {"length": "m", "force": "N", "moment": "N*m", "angle": "rad"},
+            "dimension": self.dimension,
+            "nodes": {nid: {"xyz": [float(v) for v in frame.nodes[i]], "source": frame.node_sources[i]}
+                      for i, nid in enumerate(frame.node_ids)},
+            "members": {mid: {"nodes": [frame.node_ids[frame.members[k, 0]], frame.node_ids[frame.members[k, 1]]],
+                              "length": float(self.L[k]), "source": frame.member_sources[k]}
+                        for k, mid in enumerate(frame.member_ids)},
+        }
+        if indeterminacy is not None:
+            doc["indeterminacy"] = indeterminacy
+        if include_cases:
+            doc["cases"] = {name: self._case_dict(cr, comps) for name, cr in self.cases.items()}
+            doc["envelopes"] = self.envelopes()
+        return doc
+
+    def _reported_components(self) -> list[int]:
+        return sorted(self.dofs.active)
+
+    def _case_dict(self, cr: CaseResult, comps: list[int]) -> dict:
+        frame = self.frame
+        supported = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
+        members = {}
+        for k, mid in enumerate(frame.member_ids):
+            dg = self.diagram(cr.name, k)
+            entry = {"stations": [float(s) for s in dg.stations]}
+            for a in ACTION_NAMES:
+                entry[a] = [float(v) for v in dg[a]]
+            entry["dy"] = [float(v) for v in dg["dy"]]
+            entry["dz"] = [float(v) for v in dg["dz"]]
+            members[mid] = entry
+        return {
+            "kind": cr.kind,
+            "displacements": {nid: {DOF_NAMES[c]: float(cr.displacements[i, c]) for c in comps}
+                              for i, nid in enumerate(frame.node_ids)},
+            "reactions": {frame.node_ids[i]: {REACTION_NAMES[c]: float(cr.reactions[i, c]) for c in comps}
+                          for i in supported},
+            "members": members,
+            "equilibrium_residual": float(cr.equilibrium_residual),
+        }
+
+
+def _segment_poly_roots(fun, a: float, b: float, degree: int) -> list[float]:
+    """Real roots in (a, b) of a polynomial of ``degree`` given as a callable on arrays."""
+    if b - a <= 0:
+        return []
+    x = np.linspace(a, b, degree + 1)
+    y = fun(x)
+    if np.allclose(y, 0.0, atol=1e-12 * max(np.abs(y).max(), 1e-300)):
+        return []
+    t = (x - a) / (b - a)
+    coef = np.polyfit(t, y, degree)
+    roots = np.roots(coef)
+    real = roots[np.abs(roots.imag) < 1e-9].real
+    inside = real[(real > 1e-9) & (real < 1 - 1e-9)]
+    return list(a + inside * (b - a))
+
+
+def _extreme_points(loading: MemberLoading, f_i, d, C, breaks, L) -> np.ndarray:
+    """Where a shear force or a slope vanishes inside a segment (bending-moment and deflection extremes)."""
+    pts: list[float] = []
+    for a, b in zip(breaks[:-1], breaks[1:]):
+        for comp in (1, 2):  # V is at most quadratic between load points
+            pts += _segment_poly_roots(lambda s, c=comp: internal_forces(loading, f_i, s)[:, c], a, b, 2)
+        for comp in (0, 1):  # slopes are at most quartic (cubic moments integrated)
+            pts += _segment_poly_roots(lambda s, c=comp: _slopes(loading, f_i, d, C, s, L)[:, c], a, b, 4)
+    return np.array(pts)
+
+
+def _cumulative(loading, f_i, C, s_sorted, L):
+    """Cumulative integrals over [0, s] of κz, s·κz, γy and κy, s·κy, γz at sorted stations."""
+    breaks = np.unique(np.concatenate([loading.breakpoints(L), s_sorted]))
+    a, b = breaks[:-1], breaks[1:]
+    mid, half = (a + b) / 2, (b - a) / 2
+    x = mid[:, None] + half[:, None] * _GAUSS_X[None, :]
+    w = half[:, None] * _GAUSS_W[None, :]
+    F = internal_forces(loading, f_i, x.ravel()).reshape(x.shape + (6,))
+    kz = F[..., 5] * C[5]
+    ky = F[..., 4] * C[4]
+    gy = F[..., 1] * C[1]
+    gz = F[..., 2] * C[2]
+    seg = np.stack([(w * kz).sum(1), (w * x * kz).sum(1), (w * gy).sum(1),
+                    (w * ky).sum(1), (w * x * ky).sum(1), (w * gz).sum(1)], axis=1)
+    cum = np.vstack([np.zeros(6), np.cumsum(seg, axis=0)])
+    pos = np.searchsorted(breaks, s_sorted)
+    return cum[pos]
+
+
+def _slopes(loading, f_i, d, C, s, L):
+    """dv/ds and dw/ds at s."""
+    s = np.atleast_1d(np.asarray(s, float))
+    order = np.argsort(s)
+    cum = _cumulative(loading, f_i, C, s[order], L)
+    F = internal_forces(loading, f_i, s[order])
+    dv = d[5] + cum[:, 0] + F[:, 1] * C[1]
+    dw = -d[4] - cum[:, 3] + F[:, 2] * C[2]
+    out = np.empty((s.size, 2))
+    out[order] = np.stack([dv, dw], axis=1)
+    return out
+
+
+def _deflections(loading, f_i, d, C, s, L) -> np.ndarray:
+    """Local deflections v (dy) and w (dz) of the member axis at s (incl. end displacements).
+
+    v(s) = v_i + θz_i s + ∫(s-t) κz dt + ∫ γy dt,  w(s) = w_i - θy_i s - ∫(s-t) κy dt + ∫ γz dt.
+    """
+    order = np.argsort(s, kind="stable")
+    ss = s[order]
+    cum = _cumulative(loading, f_i, C, ss, L)
+    v = d[1] + d[5] * ss + ss * cum[:, 0] - cum[:, 1] + cum[:, 2]
+    w = d[2] - d[4] * ss - (ss * cum[:, 3] - cum[:, 4]) + cum[:, 5]
+    out = np.empty((s.size, 2))
+    out[order] = np.stack([v, w], axis=1)
+    return out

@@ -1,0 +1,1 @@
+"""Sparse direct-stiffness engine for plane and space frames and trusses."""

@@ -1,0 +1,505 @@
+"""The unknowns of a frame under an idealisation: numbering, supports, constraints.
+
+Shared by the solver and the indeterminacy count, so the count always equals
+the number of unknowns the solver solves for.
+
+Unknowns ``x`` are (1) the free joint components (3 per joint in a plane
+analysis, 6 in space) less those no member end, spring or support attaches
+to (the rotation of a joint where every member is hinged, or of a truss
+joint), and (2) one own rotation per rotational end release (My, Mz) of a
+frame member, unless such rotations are condensed out. Exact constraints
+``C x + C_r u_r = 0`` (axially rigid members, rigid bodies, diaphragms) are
+eliminated: ``x = T q + x0`` with ``q`` the independent unknowns. The
+elimination is done per connected group of constraints with a rank-revealing
+QR factorisation (column pivoting), on columns where rotations are scaled by
+the model's size so the rank tolerance is geometric.
+"""
+from __future__ import annotations
+
+import logging
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.linalg
+import scipy.sparse as sp
+from scipy.sparse.csgraph import connected_components
+
+from ..errors import ModelError, UnstableStructureError
+from ..model import ACTION_NAMES, DOF_NAMES, AnalysisOptions, Frame, member_axes, member_lengths
+
+__all__ = ["DofSystem", "ConstraintRow", "build_dofs", "plane_of"]
+
+log = logging.getLogger(__name__)
+
+RANK_TOL = 1e-9
+
+
+@dataclass(frozen=True, slots=True)
+class ConstraintRow:
+    """One exact constraint equation, with who imposes it, in words."""
+
+    kind: str  # 'axial', 'rigid body', 'diaphragm'
+    owner: str  # member id or group name
+    label: str  # "axial constraint of member B3"
+    nodes: tuple[int, ...]
+
+
+@dataclass
+class DofSystem:
+    """Numbering of unknowns and the constraint elimination (see module docstring)."""
+
+    frame: Frame
+    options: AnalysisOptions
+    plane_axis: int | None  # normal of the analysis plane (0, 1, 2) or None in space
+    active: tuple[int, ...]  # global components analysed per joint
+    node_dof: np.ndarray  # (n,6) index into x, -1 when not an unknown
+    hinge_dof: np.ndarray  # (m,2,6) index into x of own end rotations, -1 none
+    condensed: np.ndarray  # (m,2,6) bool, released end actions condensed in the element
+    auto_released: np.ndarray  # (m,2,6) bool, rotations condensed at pinned ends (option)
+    restrained: np.ndarray  # (n,6) bool, active restrained components
+    unattached: list[tuple[int, int]]  # (node, comp) rotations nothing attaches to
+    n_x: int
+    C: sp.csr_array  # constraint rows over x
+    C_r: sp.csr_array  # constraint rows over restrained components (n*6 columns)
+    rows: list[ConstraintRow]
+    rank: int
+    redundant_rows: list[int]
+    T: sp.csr_array  # (n_x, n_q)
+    groups: list = field(default_factory=list)  # (row idx, x idx) per connected constraint group
+    slave_rhs: list = field(default_factory=list)  # (slave idx, W (r, rows), row idx) per group
+    consistency: list = field(default_factory=list)  # (row idx, Z (k, rows)) redundant combos
+
+    @property
+    def n_q(self) -> int:
+        return self.T.shape[1]
+
+    @property
+    def dof_per_joint(self) -> int:
+        return len(self.active)
+
+    @property
+    def n_hinges(self) -> int:
+        return int((self.hinge_dof >= 0).sum())
+
+    def particular(self, u_r: np.ndarray) -> np.ndarray:
+        """x0 ``(n_x, c)`` satisfying the constraints for prescribed support values ``u_r (n*6, c)``."""
+        c = u_r.shape[1]
+        x0 = np.zeros((self.n_x, c))
+        if not self.slave_rhs or not np.any(u_r):
+            return x0
+        rhs = self.C_r @ u_r  # (rows, c)
+        for row_idx, Z in self.consistency:
+            bad = Z @ rhs[row_idx]
+            scale = max(np.abs(rhs).max(), 1e-300)
+            if np.abs(bad).max() > 1e-8 * scale:
+                labels = ", ".join(self.rows[r].label for r in row_idx[:4])
+                raise ModelError(f"prescribed support displacements contradict the rigid constraints ({labels})")
+        for slaves, W, row_idx in self.slave_rhs:
+            x0[slaves] = W @ rhs[row_idx]
+        return x0
+
+
+def plane_of(frame: Frame) -> int | None:
+    """The world axis (0, 1, 2) normal to the plane all nodes lie in, or None."""
+    if frame.n_nodes == 0:
+        return None
+    span = np.ptp(frame.nodes, axis=0)
+    size = max(float(span.max()), 1.0)
+    flat = np.flatnonzero(span <= 1e-9 * size)
+    if flat.size == 0:
+        return None
+    if flat.size == 1:
+        return int(flat[0])
+    # a line of nodes: the plane holding the member reference vectors (beams along X: XZ)
+    axis = int(np.argmax(span))
+    return 1 if axis in (0, 2) else 0
+
+
+def build_dofs(frame: Frame, options: AnalysisOptions) -> DofSystem:
+    """Number the unknowns of ``frame`` and eliminate its exact constraints."""
+    n, m = frame.n_nodes, frame.n_members
+    plane_axis = None
+    if options.plane:
+        plane_axis = plane_of(frame)
+        if plane_axis is None:
+            raise ModelError("plane analysis asked for, but the nodes do not lie in one world coordinate plane (XY, XZ or YZ)")
+    active = _active_components(plane_axis)
+    act_mask = np.zeros(6, bool)
+    act_mask[list(active)] = True
+
+    restrained = frame.restraints & act_mask
+    _check_connected_nodes(frame)
+
+    R = member_axes(frame) if m else np.zeros((0, 3, 3))
+    # releases: truss members release bending at both ends and torsion at end j
+    rel = frame.releases.copy()
+    rel[frame.truss, :, 4:6] = True
+    rel[frame.truss, 1, 3] = True
+    user_rot = frame.releases[:, :, 4:6] & ~frame.truss[:, None, None]
+    auto = np.zeros((m, 2, 6), bool)
+    if options.condense_pinned:
+        auto = _pinned_end_releases(frame, R, rel, restrained, act_mask)
+        rel |= auto
+    # a plane analysis only sees in-plane actions: out-of-plane releases are irrelevant
+    condensed = rel.copy()
+    hinge = np.full((m, 2, 6), -1, dtype=np.int64)
+    keep_hinge = np.zeros((m, 2, 6), bool)
+    if not options.condense_pinned:
+        keep_hinge[:, :, 4:6] = user_rot
+        if plane_axis is not None:
+            keep_hinge &= _in_plane_rotation_mask(R, plane_axis)[:, None, :]
+        condensed &= ~keep_hinge
+
+    unattached = _unattached_rotations(frame, R, rel, restrained, act_mask)
+    node_dof = np.full((n, 6), -1, dtype=np.int64)
+    free = np.zeros((n, 6), bool)
+    free[:, list(active)] = True
+    free &= ~restrained
+    for k, c in unattached:
+        free[k, c] = False
+    node_dof[free] = np.arange(int(free.sum()))
+    n_x = int(free.sum())
+    hinge[keep_hinge] = n_x + np.arange(int(keep_hinge.sum()))
+    n_x += int(keep_hinge.sum())
+
+    rows, C_full = _constraint_rows(frame, R, options, plane_axis)
+    C, C_r = _split_columns(C_full, node_dof, restrained, n_x)
+    C, C_r, rows = _drop_empty(C, C_r, rows, C_full)
+    scale = _column_scale(frame, node_dof, hinge, n_x)
+    T, rank, redundant, slave_rhs, consistency, groups = _eliminate(C, scale, n_x)
+    return DofSystem(frame=frame, options=options, plane_axis=plane_axis, active=active, node_dof=node_dof,
+                     hinge_dof=hinge, condensed=condensed, auto_released=auto, restrained=restrained,
+                     unattached=unattached, n_x=n_x, C=C, C_r=C_r, rows=rows, rank=rank,
+                     redundant_rows=redundant, T=T, groups=groups, slave_rhs=slave_rhs, consistency=consistency)
+
+
+def _active_components(plane_axis: int | None) -> tuple[int, ...]:
+    if plane_axis is None:
+        return tuple(range(6))
+    inplane = [a for a in range(3) if a != plane_axis]
+    return (inplane[0], inplane[1], 3 + plane_axis)
+
+
+def _in_plane_rotation_mask(R: np.ndarray, plane_axis: int) -> np.ndarray:
+    """(m,6) True for the member-axis rotation components that turn about the plane normal."""
+    mask = np.zeros((R.shape[0], 6), bool)
+    mask[:, 3:6] = np.abs(R[:, :, plane_axis]) > 1e-6
+    return mask
+
+
+def _check_connected_nodes(frame: Frame) -> None:
+    used = np.zeros(frame.n_nodes, bool)
+    used[frame.members.ravel()] = True
+    for group in (*frame.rigid_bodies, *frame.diaphragms):
+        for node in group.nodes:
+            used[frame.node_index(node)] = True
+    if not used.all():
+        k = int(np.argmin(used))
+        raise ModelError(f"node {frame.node_labels[k]} is connected to no member")
+
+
+def _end_rotation_rows(R: np.ndarray, rel: np.ndarray, member: int, end: int) -> list[np.ndarray]:
+    """Global directions of joint rotation that a member end is rigidly attached to."""
+    return [R[member, a] for a in range(3) if not rel[member, end, 3 + a]]
+
+
+def _unattached_rotations(frame, R, rel, restrained, act_mask) -> list[tuple[int, int]]:
+    """Joint rotation components with no member end, spring or support attached."""
+    n = frame.n_nodes
+    full = ~rel[:, :, 3:6].any(axis=2)  # (m,2) ends attached in all three rotations
+    attached = np.zeros(n, bool)
+    np.logical_or.at(attached, frame.members[:, 0], full[:, 0])
+    np.logical_or.at(attached, frame.members[:, 1], full[:, 1])
+    attached |= np.zeros(n, bool)
+    in_group = np.zeros(n, bool)
+    for group in (*frame.rigid_bodies, *frame.diaphragms):
+        for node in group.nodes:
+            in_group[frame.node_index(node)] = True
+    out: list[tuple[int, int]] = []
+    candidates = np.flatnonzero(~attached & ~in_group)
+    if candidates.size == 0:
+        return out
+    ends_at: dict[int, list[tuple[int, int]]] = {}
+    for k, (i, j) in enumerate(frame.members):
+        for end, node in ((0, int(i)), (1, int(j))):
+            ends_at.setdefault(node, []).append((k, end))
+    rot_active = [c for c in range(3, 6) if act_mask[c]]
+    for node in candidates:
+        dirs = []
+        for k, end in ends_at.get(int(node), []):
+            dirs += _end_rotation_rows(R, rel, k, end)
+        for c in rot_active:
+            if restrained[node, c] or frame.springs[node, c] > 0:
+                e = np.zeros(3)
+                e[c - 3] = 1.0
+                dirs.append(e)
+        free_c = [c for c in rot_active if not restrained[node, c]]
+        if not free_c:
+            continue
+        D = np.array(dirs).reshape(-1, 3)[:, [c - 3 for c in free_c]]
+        if D.shape[0] == 0:
+            out += [(int(node), c) for c in free_c]
+            continue
+        # components whose unit direction is orthogonal to every attached direction
+        for idx, c in enumerate(free_c):
+            if np.all(np.abs(D[:, idx]) < 1e-9):
+                out.append((int(node), c))
+    return out
+
+
+def _pinned_end_releases(frame, R, rel, restrained, act_mask) -> np.ndarray:
+    """Rotations to condense at pinned member ends (the ``condense_pinned`` option).
+
+    A joint rotation counts as a pinned end when exactly one member end is
+    rigidly attached to it, nothing else (spring, support, other member,
+    rigid group) holds it, no load case puts a moment on the joint, and the
+    joint is held in translation (a support) or has other, hinged members.
+    """
+    n, m = frame.n_nodes, frame.n_members
+    auto = np.zeros((m, 2, 6), bool)
+    full = ~rel[:, :, 3:6].any(axis=2)
+    count = np.zeros(n, int)
+    np.add.at(count, frame.members[:, 0], full[:, 0])
+    np.add.at(count, frame.members[:, 1], full[:, 1])
+    degree = np.bincount(frame.members.ravel(), minlength=n)
+    moment_loaded = np.zeros(n, bool)
+    for case in frame.load_cases:
+        for load in case.nodal:
+            if np.any(np.asarray(load.values[3:]) != 0):
+                moment_loaded[frame.node_index(load.node)] = True
+    grouped = np.zeros(n, bool)
+    for group in (*frame.rigid_bodies, *frame.diaphragms):
+        for node in group.nodes:
+            grouped[frame.node_index(node)] = True
+    rot = [c for c in range(3, 6) if act_mask[c]]
+    held = restrained[:, :3].any(axis=1)
+    rot_free = ~(restrained[:, rot] | (frame.springs[:, rot] > 0)).any(axis=1)
+    pinned = (count == 1) & rot_free & ~moment_loaded & ~grouped & (held | (degree > 1))
+    for k, (i, j) in enumerate(frame.members):
+        for end, node in ((0, i), (1, j)):
+            if pinned[node] and full[k, end]:
+                auto[k, end, 4:6] = True
+    return auto
+
+
+def _constraint_rows(frame: Frame, R, options: AnalysisOptions, plane_axis):
+    """All exact constraint rows over the global components (n*6 columns)."""
+    n = frame.n_nodes
+    data: list[tuple[int, int, float]] = []
+    rows: list[ConstraintRow] = []
+
+    def add(coeffs: dict[tuple[int, int], float], row: ConstraintRow) -> None:
+        r = len(rows)
+        rows.append(row)
+        for (node, comp), v in coeffs.items():
+            if v != 0.0:
+                data.append((r, 6 * node + comp, v))
+
+    def skew(o):
+        return np.array([[0, -o[2], o[1]], [o[2], 0, -o[0]], [-o[1], o[0], 0]])
+
+    axial = frame.inextensible.copy()
+    if options.inextensible:
+        axial |= ~frame.truss
+    for k in np.flatnonzero(axial):
+        if frame.releases[k, :, 0].any():
+            continue  # an axially released member carries no axial force to make rigid
+        i, j = frame.members[k]
+        e = R[k, 0]
+        coeffs: dict[tuple[int, int], float] = {}
+        for node, sign, o in ((j, 1.0, frame.offsets[k, 1]), (i, -1.0, frame.offsets[k, 0])):
+            # e · (u - S(o) θ)
+            rot = -(e @ skew(o))
+            for c in range(3):
+                coeffs[(int(node), c)] = coeffs.get((int(node), c), 0.0) + sign * e[c]
+                coeffs[(int(node), 3 + c)] = coeffs.get((int(node), 3 + c), 0.0) + sign * rot[c]
+        add(coeffs, ConstraintRow("axial", frame.member_ids[k], f"axial constraint of member {frame.member_labels[k]}",
+                                  (int(i), int(j))))
+
+    for body in frame.rigid_bodies:
+        idx = [frame.node_index(x) for x in dict.fromkeys(body.nodes)]
+        mnode = idx[0]
+        for node in idx[1:]:
+            d = frame.nodes[node] - frame.nodes[mnode]
+            S = skew(d)
+            for c in range(3):  # u_k - u_m + S(d) θ_m = 0
+                coeffs = {(node, c): 1.0, (mnode, c): -1.0}
+                for q in range(3):
+                    coeffs[(mnode, 3 + q)] = S[c, q]
+                add(coeffs, ConstraintRow("rigid body", body.name,
+                                          f"rigid body {body.name!r} ties {DOF_NAMES[c]} of node {frame.node_labels[node]} to node {frame.node_labels[mnode]}",
+                                          (mnode, node)))
+            for c in range(3):
+                add({(node, 3 + c): 1.0, (mnode, 3 + c): -1.0},
+                    ConstraintRow("rigid body", body.name,
+                                  f"rigid body {body.name!r} ties {DOF_NAMES[3 + c]} of node {frame.node_labels[node]} to node {frame.node_labels[mnode]}",
+                                  (mnode, node)))
+
+    for dia in frame.diaphragms:
+        nvec = np.asarray(dia.normal, float)
+        nvec = nvec / np.linalg.norm(nvec)
+        t1 = np.cross(nvec, [1.0, 0, 0] if abs(nvec[0]) < 0.9 else [0, 1.0, 0])
+        t1 /= np.linalg.norm(t1)
+        t2 = np.cross(nvec, t1)
+        idx = [frame.node_index(x) for x in dict.fromkeys(dia.nodes)]
+        mnode = idx[0]
+        for node in idx[1:]:
+            d = frame.nodes[node] - frame.nodes[mnode]
+            nxd = np.cross(nvec, d)
+            for t, tname in ((t1, "in-plane translation 1"), (t2, "in-plane translation 2")):
+                # t · (u_k - u_m - (θ_m · n) (n × d)) = 0
+                coeffs = {}
+                for c in range(3):
+                    coeffs[(node, c)] = coeffs.get((node, c), 0.0) + t[c]
+                    coeffs[(mnode, c)] = coeffs.get((mnode, c), 0.0) - t[c]
+                    coeffs[(mnode, 3 + c)] = coeffs.get((mnode, 3 + c), 0.0) - (t @ nxd) * nvec[c]
+                add(coeffs, ConstraintRow("diaphragm", dia.name,
+                                          f"diaphragm {dia.name!r} ties the {tname} of node {frame.node_labels[node]} to node {frame.node_labels[mnode]}",
+                                          (mnode, node)))
+            coeffs = {}
+            for c in range(3):
+                coeffs[(node, 3 + c)] = nvec[c]
+                coeffs[(mnode, 3 + c)] = -nvec[c]
+            add(coeffs, ConstraintRow("diaphragm", dia.name,
+                                      f"diaphragm {dia.name!r} ties the in-plane rotation of node {frame.node_labels[node]} to node {frame.node_labels[mnode]}",
+                                      (mnode, node)))
+    if data:
+        r, c, v = (np.array(x) for x in zip(*data))
+    else:
+        r = c = np.zeros(0, int)
+        v = np.zeros(0)
+    C_full = sp.coo_array((v, (r, c)), shape=(len(rows), 6 * n)).tocsr()
+    return rows, C_full
+
+
+def _split_columns(C_full, node_dof, restrained, n_x):
+    """Constraint rows on unknowns ``x`` and on restrained components."""
+    col_map = node_dof.reshape(-1)
+    C_coo = C_full.tocoo()
+    to_x = col_map[C_coo.col]
+    keep = to_x >= 0
+    C = sp.coo_array((C_coo.data[keep], (C_coo.row[keep], to_x[keep])), shape=(C_full.shape[0], n_x)).tocsr()
+    rmask = restrained.reshape(-1)[C_coo.col]
+    C_r = sp.coo_array((C_coo.data[rmask], (C_coo.row[rmask], C_coo.col[rmask])), shape=C_full.shape).tocsr()
+    return C, C_r
+
+
+def _drop_empty(C, C_r, rows, C_full):
+    """Drop rows that vanish on the analysed components (out-of-plane rows of a plane analysis).
+
+    A row is kept when it touches an unknown or a restrained component;
+    rows that only involve components outside the analysis are not
+    constraints of this idealisation.
+    """
+    touched = (np.abs(C).sum(axis=1) > 0) | (np.abs(C_r).sum(axis=1) > 0)
+    touched = np.asarray(touched).reshape(-1)
+    if touched.all():
+        return C, C_r, rows
+    keep = np.flatnonzero(touched)
+    return C[keep], C_r[keep], [rows[k] for k in keep]
+
+
+def _column_scale(frame, node_dof, hinge, n_x) -> np.ndarray:
+    """Column scale: 1 for translations, 1/size for rotations (geometric rank tolerance)."""
+    size = max(float(np.ptp(frame.nodes, axis=0).max()) if frame.n_nodes else 1.0, 1e-3)
+    scale = np.ones(n_x)
+    rot = node_dof[:, 3:6]
+    scale[rot[rot >= 0]] = 1.0 / size
+    scale[hinge[hinge >= 0]] = 1.0 / size
+    return scale
+
+
+def _eliminate(C: sp.csr_array, scale: np.ndarray, n_x: int):
+    """Rank-revealing elimination per connected group of constraint rows.
+
+    Returns T (x = T q), the rank, the redundant row indices (rows that
+    depend on earlier rows of their group), and data for the particular
+    solution of prescribed support displacements.
+    """
+    r = C.shape[0]
+    if r == 0 or C.nnz == 0:
+        return sp.identity(n_x, format="csr"), 0, list(range(r)) if r else [], [], [], []
+    Cs = (C @ sp.diags_array(scale)).tocsr()
+    # connected groups of rows and columns: bipartite graph rows + cols
+    coo = Cs.tocoo()
+    g = sp.coo_array((np.ones(coo.nnz), (coo.row, r + coo.col)), shape=(r + n_x, r + n_x))
+    ncomp, labels = connected_components(g, directed=False)
+    row_lab = labels[:r]
+    col_lab = labels[r:]
+    is_slave = np.zeros(n_x, bool)
+    t_rows, t_cols, t_vals = [], [], []  # entries of slave rows of T over master columns (x indices)
+    rank = 0
+    redundant: list[int] = []
+    slave_rhs, consistency, groups = [], [], []
+    order = np.argsort(row_lab, kind="stable")
+    bounds = np.searchsorted(row_lab[order], np.arange(ncomp + 1))
+    cols_sorted = np.argsort(col_lab, kind="stable")
+    cbounds = np.searchsorted(col_lab[cols_sorted], np.arange(ncomp + 1))
+    for comp in range(ncomp):
+        ridx = order[bounds[comp]:bounds[comp + 1]]
+        if ridx.size == 0:
+            continue
+        cidx = cols_sorted[cbounds[comp]:cbounds[comp + 1]]
+        M = Cs[ridx][:, cidx].toarray()
+        groups.append((ridx, cidx))
+        # independent rows in their given order: QR with pivoting on Mᵀ would reorder, so
+        # test rows one at a time against an orthonormal basis (groups are small)
+        if np.linalg.matrix_rank(M, tol=RANK_TOL * max(np.abs(M).max(), 1e-300)) == M.shape[0]:
+            indep = list(range(M.shape[0]))
+        else:
+            indep = _independent_rows(M)
+        redundant += [int(ridx[k]) for k in range(len(ridx)) if k not in indep]
+        Mi = M[indep]
+        rk = len(indep)
+        rank += rk
+        Q, Rq, piv = scipy.linalg.qr(Mi, mode="economic", pivoting=True)
+        slaves_local = piv[:rk]
+        masters_local = piv[rk:]
+        R11 = Rq[:rk, :rk]
+        R12 = Rq[:rk, rk:]
+        S = -scipy.linalg.solve_triangular(R11, R12)  # scaled slaves in terms of scaled masters
+        sl = cidx[slaves_local]
+        ms = cidx[masters_local]
+        is_slave[sl] = True
+        # unscale: x_s = D_s⁻¹ S D_m x_m
+        Su = S * (scale[ms][None, :] / scale[sl][:, None])
+        ii, jj = np.nonzero(np.abs(Su) > 1e-14)
+        t_rows += list(sl[ii])
+        t_cols += list(ms[jj])
+        t_vals += list(Su[ii, jj])
+        # particular solution: C_s x_s (unscaled) = -C_r u_r - ...  =>  x_s = W rhs with rhs = C_r u_r
+        Winv = scipy.linalg.solve_triangular(R11, Q.T)  # (rk, rk): R11⁻¹ Qᵀ over independent rows
+        W = -(Winv / scale[sl][:, None])
+        slave_rhs.append((sl, W, ridx[indep]))
+        if len(indep) < len(ridx):
+            # combinations of the group's rows that vanish on x must vanish on the right side too
+            Z = scipy.linalg.null_space(M.T).T
+            if Z.size:
+                consistency.append((ridx, Z))
+    masters = np.flatnonzero(~is_slave)
+    qcol = np.full(n_x, -1)
+    qcol[masters] = np.arange(masters.size)
+    rows_T = list(masters) + t_rows
+    cols_T = list(qcol[masters]) + list(qcol[np.array(t_cols, dtype=int)]) if t_cols else list(qcol[masters])
+    vals_T = [1.0] * masters.size + t_vals
+    T = sp.coo_array((np.array(vals_T, float), (np.array(rows_T, int), np.array(cols_T, int))),
+                     shape=(n_x, masters.size)).tocsr()
+    return T, rank, sorted(redundant), slave_rhs, consistency, groups
+
+
+def _independent_rows(M: np.ndarray) -> list[int]:
+    """Rows of M independent of the rows before them (greedy, Gram-Schmidt twice)."""
+    basis: list[np.ndarray] = []
+    indep: list[int] = []
+    norms = np.linalg.norm(M, axis=1)
+    ref = max(float(norms.max()), 1e-300)
+    for k, row in enumerate(M):
+        v = row.copy()
+        for _ in range(2):
+            for b in basis:
+                v -= (b @ v) * b
+        nv = np.linalg.norm(v)
+        if nv > RANK_TOL * max(norms[k], ref * 1e-3) and nv > 1e-12 * ref:
+            basis.append(v / nv)
+            indep.append(k)
+    return indep
