@@ -126,7 +126,7 @@ class Results:
         if point_pos:
             left = np.array([s for s in stations if any(abs(s - a) < 1e-12 * max(L, 1) for a in point_pos) and s > 0])
             if left.size:
-                before = internal_forces(loading, f_i, left - 1e-9 * L)
+                before = internal_forces(loading, f_i, left, before=True)
                 stations = np.concatenate([stations, left])
                 forces = np.concatenate([forces, before])
                 order = np.lexsort((np.concatenate([np.ones(len(stations) - left.size), np.zeros(left.size)]), stations))

@@ -45,10 +45,11 @@ class MemberLoading:
     def point_positions(self) -> list[float]:
         return [a for a, _ in self.forces] + [a for a, _ in self.moments]
 
-    def resultant(self, s) -> np.ndarray:
+    def resultant(self, s, before: bool = False) -> np.ndarray:
         """G(s) ``(len(s),6)``: force and moment about the point s of all loads on [0, s].
 
-        Loads exactly at s are included (left-part convention s⁺).
+        Concentrated loads exactly at s are included (the value just after
+        the load), or left out with ``before=True`` (the value just before).
         """
         s = np.atleast_1d(np.asarray(s, float))
         out = np.zeros((s.size, 6))
@@ -64,11 +65,11 @@ class MemberLoading:
             out[:, :3] += F
             out[:, 3:] += _ex_cross(mom_int)
         for a, p in self.forces:
-            on = (s >= a)[:, None]
+            on = ((s > a) if before else (s >= a))[:, None]
             out[:, :3] += on * p
             out[:, 3:] += on * _ex_cross(np.outer(a - s, 1.0) * p)
         for a, mvec in self.moments:
-            out[:, 3:] += (s >= a)[:, None] * mvec
+            out[:, 3:] += ((s > a) if before else (s >= a))[:, None] * mvec
         return out
 
     def total(self, L: float) -> np.ndarray:
@@ -88,7 +89,7 @@ def _ex_cross(v: np.ndarray) -> np.ndarray:
     return out
 
 
-def internal_forces(loading: MemberLoading | None, f_i: np.ndarray, s: np.ndarray) -> np.ndarray:
+def internal_forces(loading: MemberLoading | None, f_i: np.ndarray, s: np.ndarray, before: bool = False) -> np.ndarray:
     """Internal forces ``(len(s),6)`` N, Vy, Vz, T, My, Mz at s from the end-i forces ``f_i``.
 
     Positive-face convention: the action of the part beyond s on the part [0, s].
@@ -98,7 +99,7 @@ def internal_forces(loading: MemberLoading | None, f_i: np.ndarray, s: np.ndarra
     R[:, 4] -= s * f_i[2]
     R[:, 5] += s * f_i[1]
     if loading is not None and not loading.empty:
-        R -= loading.resultant(s)
+        R -= loading.resultant(s, before)
     return R
 
 
