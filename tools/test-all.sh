@@ -23,7 +23,7 @@ run_pytest() {  # run_pytest PYTHON ARGS...; fail on "no tests collected" too
 echo "== engine on numpy 2 =="
 "$PY" -m venv "$WORK/np2"
 "$WORK/np2/bin/pip" install -q --upgrade pip
-"$WORK/np2/bin/pip" install -q -e ".[test]"
+"$WORK/np2/bin/pip" install -q -e ".[test,fast]"
 run_pytest "$WORK/np2/bin/python" -q -p no:cacheprovider tests --ignore=tests/addon
 
 echo "== engine on numpy 1.26 and the Blender add-on (bpy 5.0.1) =="

@@ -1,10 +1,10 @@
 """Sparse symmetric positive-definite solvers behind one interface.
 
 ``factorize(K, name)`` returns a `Factor` whose ``solve(B)`` takes all load
-cases as one block. The fastest installed library is used by default: MKL
-PARDISO (``pypardiso``), then CHOLMOD (``scikit-sparse``), then SciPy's
-SuperLU with a minimum-degree ordering on KᵀK... on Aᵀ+A, which is always
-there. A zero or negative pivot means the structure is a mechanism:
+cases as one block. For large systems the fastest installed library is used
+by default: MKL PARDISO (``pypardiso``), then CHOLMOD (``scikit-sparse``),
+then SciPy's SuperLU with a minimum-degree ordering on Aᵀ+A, which is always
+there. The matrix is scaled to a unit diagonal first. A zero or negative pivot means the structure is a mechanism:
 `SingularStiffness` is raised and the caller finds the mechanism modes.
 """
 from __future__ import annotations
@@ -45,10 +45,14 @@ def available_solvers() -> list[str]:
     return out
 
 
-def choose_solver(requested: str = "auto") -> str:
+SMALL = 20000  # below this many unknowns SuperLU is as fast as any and its pivots are plain to check
+
+
+def choose_solver(requested: str = "auto", n: int | None = None) -> str:
+    """The solver to use: the fastest installed one, SuperLU for small systems under 'auto'."""
     avail = available_solvers()
     if requested == "auto":
-        return avail[0]
+        return "superlu" if n is not None and n < SMALL else avail[0]
     if requested not in avail:
         raise ValueError(f"solver {requested!r} is not installed here; available: {', '.join(avail)}")
     return requested
@@ -65,7 +69,7 @@ def factorize(K: sp.csr_array, requested: str = "auto") -> Factor:
     # symmetric Jacobi scaling: unit diagonal, so pivots compare with 1 whatever the units
     scale = 1.0 / np.sqrt(diag)
     S = sp.diags_array(scale)
-    inner = _factor_scaled(sp.csr_array(S @ K @ S), choose_solver(requested))
+    inner = _factor_scaled(sp.csr_array(S @ K @ S), choose_solver(requested, n))
 
     def solve(B):
         B = np.asarray(B, dtype=float)
@@ -133,15 +137,20 @@ def _cholmod(K, diag) -> Factor:  # pragma: no cover - optional library
 
 def _pardiso(K, diag) -> Factor:  # pragma: no cover - optional library
     import pypardiso
+    from pypardiso.pardiso_wrapper import PyPardisoError
 
-    solver = pypardiso.PyPardisoSolver(mtype=2)
-    A = sp.triu(sp.csr_matrix(K), format="csr")
+    solver = pypardiso.PyPardisoSolver(mtype=2)  # real symmetric positive definite
+    A = sp.csr_matrix(sp.triu(K, format="csr"))
     A.sort_indices()
-    solver.factorize(A)
-    if solver.iparm[22] > 0 or solver.iparm[29] > 0 if hasattr(solver, "iparm") else False:
-        raise SingularStiffness("PARDISO found non-positive pivots")
+    try:
+        solver.factorize(A)
+    except PyPardisoError as exc:
+        raise SingularStiffness(str(exc)) from None
+    if solver.get_iparm(14) > 0:  # perturbed pivots
+        raise SingularStiffness("PARDISO perturbed pivots")
 
     def solve(B):
-        return solver.solve(A, np.ascontiguousarray(np.asarray(B, dtype=float)))
+        B = np.asarray(B, dtype=float)
+        return solver.solve(A, B if B.ndim == 1 else np.asfortranarray(B))
 
     return Factor("pardiso", solve)
