@@ -1,0 +1,1072 @@
+"""Read an IFC file into an analytical `Frame`: the entry point `read_ifc`.
+
+Two routes:
+
+1. The file holds one or more ``IfcStructuralAnalysisModel``: the one asked
+   for (by Name or GlobalId, default the first) is read as it stands
+   (``route='structural'``, this module).
+2. Otherwise the frame is derived from the physical beams, columns and
+   members (``route='physical'``, `analysis.ifc.derive`).
+
+Route 1 rules (IFC4 / IFC4X3 text of the IfcStructuralAnalysisDomain, and
+IFC2X3 where it differs)
+--------------------------------------------------------------------------
+Geometry
+    Node = ``IfcStructuralPointConnection``; its ``IfcVertexPoint`` is given
+    in the connection's ``ObjectPlacement`` (else the model's
+    ``SharedPlacement``), and is taken to world coordinates through the
+    placement chain. Member = ``IfcStructuralCurveMember`` whose reference
+    ``IfcEdge`` runs from end i (``EdgeStart``) to end j (``EdgeEnd``); each
+    end is matched to the point connection of one of the member's
+    ``IfcRelConnectsStructuralMember`` (the same vertex entity, else the
+    connection at that point, else — for ``IfcRelConnectsWithEccentricity``
+    — the nearest connection). Where the member end and the node differ,
+    the difference is a rigid offset (eccentric connection), reported.
+    Local z follows ``Axis`` (given in the member's placement axes), roll 0.
+    IFC2X3 has no ``Axis``: the frame's default orientation is used, turned
+    by ``IfcRelAssociatesProfileProperties.ProfileOrientation`` when given.
+Supports
+    ``IfcStructuralPointConnection.AppliedCondition`` (an
+    ``IfcBoundaryNodeCondition``): IFC4+ ``TRUE`` fixed, ``FALSE`` or unset
+    free, a stiffness value an elastic spring (``IfcLinearStiffnessMeasure`` /
+    ``IfcRotationalStiffnessMeasure``, converted to SI). IFC2X3 numbers:
+    ``-1`` means rigid (the IFC2X3 convention, dropped in IFC4), ``0`` or
+    unset free, a positive value a spring. Conditions given in a
+    ``ConditionCoordinateSystem`` are turned to global axes when that system
+    is an axis permutation; an inclined support is an error.
+Member-end releases
+    ``IfcRelConnectsStructuralMember.AppliedCondition``: its values are in
+    the ``ConditionCoordinateSystem`` relative to the member's local axes,
+    or in the member's local axes when that is unset (IFC4 use definition
+    of IfcRelConnectsStructuralMember). So X, Y, Z translations and
+    rotations map to N, Vy, Vz, T, My, Mz. ``FALSE`` (IFC2X3: ``0``)
+    releases the end action; ``TRUE``, unset or ``-1`` (IFC2X3) keeps it
+    rigid. A finite spring (semi-rigid joint) is an error.
+Member types
+    PIN_JOINED_MEMBER, TENSION_MEMBER, COMPRESSION_MEMBER and CABLE become
+    axial-only bars; tension- or compression-only behaviour is reported as
+    not modelled by a linear analysis.
+Sections
+    From the member's material profile (`materials.element_profile`),
+    properties by `sections.section_properties`, overridden by
+    ``Pset_ProfileMechanical`` values where the file gives them. A
+    ``CardinalPoint`` other than 10 (centroid) puts the centroidal axis off
+    the reference line: both ends get the same rigid offset along local y, z
+    (``yp``/``xp`` of the profile: bottom = min yp, left = min xp).
+Loads
+    Load groups of the analysis model's ``LoadedBy`` (else every load
+    group): LOAD_CASE groups (and ``IfcStructuralLoadCase``) become load
+    cases, named by their Name, with ``SelfWeightCoefficients`` as the
+    self-weight (in the model's global axes). Actions of LOAD_GROUP groups
+    nested in a case belong to the case. LOAD_COMBINATION groups become
+    combinations:
+    * IFC4+: factor of each case = ``IfcRelAssignsToGroupByFactor.Factor``
+      (1 for a plain assignment) times the combination's ``Coefficient``;
+      a case's own ``Coefficient`` scales the case's actions (not its self
+      weight), as the IFC4 IfcStructuralLoadCase text says.
+    * IFC2X3 (no factor relation): factor of each case = the product of the
+      ``Coefficient`` of the groups from the combination down to the case
+      (LOAD_COMBINATION_GROUP and the case itself); the case's actions are
+      then not scaled by its own Coefficient (it is its factor in the
+      combination).
+    Point actions with ``IfcStructuralLoadSingleForce`` on a connection are
+    nodal loads, on a member point loads at the projection of their vertex;
+    ``IfcStructuralLoadSingleDisplacement`` on a connection gives settlements
+    (only of restrained components). Curve actions (IFC2X3
+    ``IfcStructuralLinearAction``) with ``IfcStructuralLoadLinearForce`` are
+    line loads: CONST uniform, LINEAR / POLYGONAL piecewise linear from the
+    ``IfcStructuralLoadConfiguration`` locations; SINUS and PARABOLA are
+    approximated by 16 linear pieces (reported). GLOBAL_COORDS are the
+    analysis model's axes; PROJECTED_LENGTH maps to projected line loads.
+Link to physical elements
+    ``IfcRelAssignsToProduct`` in either direction: ``IfcModel.physical``
+    maps member id -> GlobalId of the physical element.
+"""
+from __future__ import annotations
+
+import logging
+import math
+import os
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from ..errors import AnalysisError, Diagnostic, IfcInputError, entity_label
+from ..model import (
+    ACTION_NAMES,
+    DOF_NAMES,
+    Combination,
+    Frame,
+    FrameBuilder,
+    LineLoad,
+    LoadCase,
+    Material,
+    NodalLoad,
+    PointLoad,
+    Section,
+    Settlement,
+)
+
+__all__ = ["IfcModel", "ReaderDefaults", "read_ifc"]
+
+logger = logging.getLogger(__name__)
+
+_TRUSS_TYPES = {"PIN_JOINED_MEMBER", "TENSION_MEMBER", "COMPRESSION_MEMBER", "CABLE"}
+_ONE_WAY_TYPES = {"TENSION_MEMBER": "tension-only", "COMPRESSION_MEMBER": "compression-only", "CABLE": "tension-only (cable)"}
+_CURVE_SEGMENTS = 16  # linear pieces for SINUS / PARABOLA curve actions
+
+
+# --------------------------------------------------------------------------- public types
+@dataclass(frozen=True, slots=True)
+class ReaderDefaults:
+    """Values the user gives for what the file does not say (SI units).
+
+    Used only where the file lacks the value, and every use is reported per
+    element in the diagnostics. ``None`` means "no default": the missing
+    value is then an error naming the element.
+
+    Attributes
+    ----------
+    E, G : float or None
+        Young's and shear modulus, Pa.
+    poisson : float or None
+        Poisson's ratio (gives G = E / (2 (1 + nu)) when G is missing).
+    density : float or None
+        Mass density, kg/m3.
+    section : Section or None
+        Section for members without a profile (m2, m4).
+    """
+
+    E: float | None = None
+    G: float | None = None
+    poisson: float | None = None
+    density: float | None = None
+    section: Section | None = None
+
+
+@dataclass
+class IfcModel:
+    """What `read_ifc` returns: the frame plus everything said about how it was read."""
+
+    frame: Frame
+    diagnostics: list[Diagnostic]
+    route: str  # 'structural' | 'physical'
+    schema: str
+    analysis_models: list[tuple[str, str]]
+    path: str
+    units: Any  # analysis.units.UnitScales
+    notes: list[str] = field(default_factory=list)
+    physical: dict[str, str] = field(default_factory=dict)
+
+
+# --------------------------------------------------------------------------- entry point
+def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, support_level: float | None = None,
+             defaults: ReaderDefaults | Mapping[str, Any] | None = None, area_loads=None) -> IfcModel:
+    """Read an IFC2X3 / IFC4 / IFC4X3 file into an analytical frame (SI units).
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The IFC file.
+    model : str, optional
+        Name or GlobalId of the IfcStructuralAnalysisModel to read (default: the first).
+    merge_tolerance : float
+        Route 2 only: distance (m) within which element ends are one node.
+    support_level : float, optional
+        Route 2 only: elevation (m) of the supports (default: see derive).
+    defaults : ReaderDefaults or mapping, optional
+        Material and section values to use where the file has none.
+    area_loads : optional
+        Route 2 only: the user's area load table (see derive).
+
+    Returns
+    -------
+    IfcModel
+
+    Raises
+    ------
+    IfcInputError
+        The file is missing or not IFC, the requested model does not exist,
+        or an entity lacks what the analysis needs (the message names it).
+    """
+    path = os.fspath(path)
+    if isinstance(defaults, Mapping):
+        defaults = ReaderDefaults(**defaults)
+    ifc_file = _open(path)
+    from ..units import unit_scales
+
+    scales = unit_scales(ifc_file)
+    schema = ifc_file.schema
+    models = list(ifc_file.by_type("IfcStructuralAnalysisModel"))
+    listed = [(str(m.Name or ""), str(m.GlobalId)) for m in models]
+    notes: list[str] = []
+    if scales.derived:
+        notes.append("Unit types not declared in the file, derived from the base units: " + ", ".join(scales.derived) + ".")
+    if not models:
+        if model is not None:
+            raise IfcInputError(f"{path}: no IfcStructuralAnalysisModel in the file (asked for {model!r})")
+        try:
+            from .derive import derive_frame
+        except ImportError:
+            raise IfcInputError(f"{path}: no structural analysis model and physical derivation unavailable") from None
+        frame, diagnostics, derive_notes = derive_frame(
+            ifc_file, scales=scales, merge_tolerance=merge_tolerance, support_level=support_level,
+            defaults=defaults, area_loads=area_loads)
+        physical = {mid: src for mid, src in zip(frame.member_ids, frame.member_sources) if src}
+        return IfcModel(frame=frame, diagnostics=list(diagnostics), route="physical", schema=schema,
+                        analysis_models=[], path=path, units=scales, notes=notes + list(derive_notes), physical=physical)
+
+    chosen = _choose_model(models, model, path)
+    if len(models) > 1:
+        notes.append(f"The file holds {len(models)} structural analysis models ("
+                     + ", ".join(f"'{n}' {g}" for n, g in listed) + f"); read {entity_label(chosen)} ({chosen.GlobalId}).")
+    else:
+        notes.append(f"Read the structural analysis model {entity_label(chosen)} ({chosen.GlobalId}).")
+    reader = _StructuralReader(ifc_file, chosen, scales, defaults)
+    frame = reader.read()
+    return IfcModel(frame=frame, diagnostics=reader.diagnostics, route="structural", schema=schema,
+                    analysis_models=listed, path=path, units=scales, notes=notes + reader.notes,
+                    physical=reader.physical)
+
+
+def _open(path: str):
+    if not os.path.exists(path):
+        raise IfcInputError(f"{path}: file does not exist")
+    if os.path.isdir(path):
+        raise IfcInputError(f"{path}: is a folder, not an IFC file")
+    import ifcopenshell
+
+    try:
+        with open(path, "rb") as fh:
+            head = fh.read(4096)
+    except OSError as exc:
+        raise IfcInputError(f"{path}: cannot be read ({exc.strerror or exc})") from None
+    text = head.lstrip(b"\xef\xbb\xbf").lstrip()
+    is_step = text.startswith(b"ISO-10303-21")
+    is_zip = head.startswith(b"PK")
+    is_xml = text.startswith(b"<") and b"ifc" in head.lower()
+    if not (is_step or is_zip or is_xml):
+        raise IfcInputError(f"{path}: not an IFC file (no ISO-10303-21 header)")
+    try:
+        ifc_file = ifcopenshell.open(path)
+    except Exception as exc:  # ifcopenshell raises several types for unreadable files
+        raise IfcInputError(f"{path}: not a readable IFC file ({exc})") from None
+    if ifc_file.schema not in ("IFC2X3", "IFC4", "IFC4X3", "IFC4X3_ADD2", "IFC4X1", "IFC4X2") and not ifc_file.schema.startswith("IFC4"):
+        raise IfcInputError(f"{path}: schema {ifc_file.schema} is not supported (IFC2X3, IFC4 or IFC4X3)")
+    return ifc_file
+
+
+def _choose_model(models, wanted: str | None, path: str):
+    if wanted is None:
+        return models[0]
+    for m in models:
+        if m.GlobalId == wanted or (m.Name or "") == wanted:
+            return m
+    names = ", ".join(f"'{m.Name}' ({m.GlobalId})" for m in models)
+    raise IfcInputError(f"{path}: no structural analysis model named {wanted!r}; the file holds {names}")
+
+
+# --------------------------------------------------------------------------- helpers
+def _unwrap(value: Any) -> Any:
+    return getattr(value, "wrappedValue", value)
+
+
+def _as_list(value) -> list:
+    if value is None:
+        return []
+    if isinstance(value, (list, tuple)):
+        return list(value)
+    return [value]
+
+
+def _placement_matrix(placement) -> np.ndarray:
+    """4x4 world matrix (file length units) of an IfcObjectPlacement, identity for None."""
+    if placement is None:
+        return np.eye(4)
+    import ifcopenshell.util.placement as ifc_placement
+
+    return np.asarray(ifc_placement.get_local_placement(placement), dtype=float)
+
+
+def _axis2placement_matrix(axis_placement) -> np.ndarray:
+    if axis_placement is None:
+        return np.eye(4)
+    import ifcopenshell.util.placement as ifc_placement
+
+    return np.asarray(ifc_placement.get_axis2placement(axis_placement), dtype=float)
+
+
+def _permutation(R: np.ndarray) -> np.ndarray | None:
+    """For a rotation that only permutes/flips axes: index of the global axis of each local axis."""
+    A = np.abs(R)
+    if not np.allclose(A, np.round(A), atol=1e-9):
+        return None
+    idx = np.argmax(A, axis=0)
+    if sorted(idx.tolist()) != [0, 1, 2]:
+        return None
+    return idx
+
+
+def _direction(d) -> np.ndarray:
+    r = [float(v) for v in d.DirectionRatios]
+    return np.array((r + [0.0, 0.0, 0.0])[:3])
+
+
+def _default_ref(ex: np.ndarray) -> np.ndarray:
+    """The frame's default reference vector (see analysis.model.member_axes)."""
+    return np.array([-1.0, 0.0, 0.0]) if abs(ex[2]) > 1.0 - 1e-9 else np.array([0.0, 0.0, 1.0])
+
+
+def _local_axes(ex: np.ndarray, ref: np.ndarray | None, roll: float = 0.0) -> np.ndarray:
+    """Rows x, y, z of member axes (same rule as analysis.model.member_axes)."""
+    r = _default_ref(ex) if ref is None else ref
+    ez = r - np.dot(r, ex) * ex
+    n = np.linalg.norm(ez)
+    if n < 1e-9:
+        return None  # caller reports
+    ez = ez / n
+    ey = np.cross(ez, ex)
+    if roll:
+        c, s = math.cos(roll), math.sin(roll)
+        ey, ez = c * ey + s * ez, -s * ey + c * ez
+    return np.stack([ex, ey, ez])
+
+
+def _unique_ids(entities) -> dict[int, str]:
+    """Entity id -> Name where present and unique among ``entities``, else GlobalId."""
+    counts: dict[str, int] = {}
+    for e in entities:
+        if e.Name:
+            counts[e.Name] = counts.get(e.Name, 0) + 1
+    ids = {}
+    for e in entities:
+        ids[e.id()] = e.Name if e.Name and counts[e.Name] == 1 else str(e.GlobalId)
+    return ids
+
+
+# --------------------------------------------------------------------------- route 1
+class _StructuralReader:
+    """Route 1: one IfcStructuralAnalysisModel -> Frame. Steps in `read`."""
+
+    def __init__(self, ifc_file, model, scales, defaults: ReaderDefaults | None):
+        self.f = ifc_file
+        self.model = model
+        self.s = scales
+        self.defaults = defaults
+        self.is2x3 = ifc_file.schema == "IFC2X3"
+        self.diagnostics: list[Diagnostic] = []
+        self.notes: list[str] = []
+        self.physical: dict[str, str] = {}
+        shared = getattr(model, "SharedPlacement", None)
+        self.shared = _placement_matrix(shared) if shared is not None else None
+        self._placements: dict[int, np.ndarray] = {}
+
+    # -- small utilities
+    def warn(self, entity, message: str, level: str = "warning") -> None:
+        eid = entity.id() if entity is not None else None
+        text = f"{entity_label(entity)}: {message}" if entity is not None else message
+        self.diagnostics.append(Diagnostic(level, eid, text))
+
+    def fail(self, entity, message: str) -> IfcInputError:
+        return IfcInputError(f"{entity_label(entity)}: {message}", entity.id())
+
+    def placement_of(self, item) -> np.ndarray:
+        """World matrix of an item's frame: its ObjectPlacement, else the model's SharedPlacement."""
+        pl = getattr(item, "ObjectPlacement", None)
+        if pl is None:
+            return self.shared if self.shared is not None else np.eye(4)
+        key = pl.id()
+        if key not in self._placements:
+            self._placements[key] = _placement_matrix(pl)
+        return self._placements[key]
+
+    @property
+    def global_rotation(self) -> np.ndarray:
+        """Rotation of the model's 'global' axes (SharedPlacement) in world axes."""
+        return self.shared[:3, :3] if self.shared is not None else np.eye(3)
+
+    def world_point(self, item, coords) -> np.ndarray:
+        M = self.placement_of(item)
+        c = [float(v) for v in coords] + [0.0, 0.0, 0.0]
+        local = np.array(c[:3] + [1.0])
+        return (M @ local)[:3] * self.s.length
+
+    # -- main
+    def read(self) -> Frame:
+        members, connections = self._items()
+        if not members:
+            raise self.fail(self.model, "the structural analysis model has no IfcStructuralCurveMember")
+        self.member_ids = _unique_ids(members)
+        self.node_ids = {}
+        ends = {m.id(): self._member_ends(m) for m in members}
+        used = {}
+        for m in members:
+            for rel, conn in ends[m.id()]["conns"]:
+                used[conn.id()] = conn
+        for c in connections:
+            if c.id() not in used:
+                self.warn(c, "point connection not connected to any curve member of the model: ignored", "info")
+        conn_list = [c for c in connections if c.id() in used] + [c for cid, c in used.items() if cid not in {x.id() for x in connections}]
+        self.node_ids = _unique_ids(conn_list)
+        self.node_xyz = {c.id(): self._connection_point(c) for c in conn_list}
+
+        b = FrameBuilder(name=str(self.model.Name or self.model.GlobalId))
+        self.builder = b
+        for c in conn_list:
+            b.add_node(self.node_ids[c.id()], self.node_xyz[c.id()], source=str(c.GlobalId), label=entity_label(c))
+            self._support(c)
+        self.cases = self._load_structure()
+        need_density = any(any(v != 0 for v in case["self_weight"]) for case in self.cases.values())
+        self.member_info: dict[int, dict] = {}
+        material_cache: dict = {}
+        for m in members:
+            self._member(m, ends[m.id()], need_density, material_cache)
+        self._loads()
+        try:
+            return b.build()
+        except AnalysisError as exc:
+            raise IfcInputError(f"{entity_label(self.model)}: {exc}", getattr(exc, "entity_id", None) or self.model.id()) from None
+
+    # -- items of the model
+    def _items(self):
+        members, connections = [], []
+        seen = set()
+        for rel in _as_list(getattr(self.model, "IsGroupedBy", None)):
+            for obj in rel.RelatedObjects or ():
+                if obj.id() in seen:
+                    continue
+                seen.add(obj.id())
+                if obj.is_a("IfcStructuralCurveMember"):
+                    if obj.is_a("IfcStructuralCurveMemberVarying"):
+                        self.warn(obj, "varying curve member read with the section at its start")
+                    members.append(obj)
+                elif obj.is_a("IfcStructuralPointConnection"):
+                    connections.append(obj)
+                elif obj.is_a("IfcStructuralItem"):
+                    self.warn(obj, f"{obj.is_a()} is not supported by a frame analysis: ignored")
+        return members, connections
+
+    def _connection_point(self, conn) -> np.ndarray:
+        vertex = self._vertex_of(conn)
+        if vertex is None:
+            raise self.fail(conn, "no vertex point (topology representation 'Reference' with an IfcVertexPoint)")
+        return self.world_point(conn, vertex.VertexGeometry.Coordinates)
+
+    def _vertex_of(self, item):
+        rep = getattr(item, "Representation", None)
+        if rep is None:
+            return None
+        for r in rep.Representations or ():
+            for it in r.Items or ():
+                if it.is_a("IfcVertexPoint") and it.VertexGeometry is not None:
+                    return it
+        return None
+
+    def _edge_of(self, member):
+        rep = getattr(member, "Representation", None)
+        for r in (rep.Representations or ()) if rep is not None else ():
+            for it in r.Items or ():
+                if it.is_a("IfcOrientedEdge"):
+                    base = it.EdgeElement
+                    start, end = (base.EdgeStart, base.EdgeEnd) if it.Orientation else (base.EdgeEnd, base.EdgeStart)
+                    return base, start, end
+                if it.is_a("IfcEdge"):
+                    return it, it.EdgeStart, it.EdgeEnd
+        return None
+
+    def _member_ends(self, member) -> dict:
+        """End points (world, m) and the connection and relation at each end."""
+        found = self._edge_of(member)
+        if found is None:
+            raise self.fail(member, "no edge topology (topology representation with an IfcEdge): the member has no axis")
+        edge, v_start, v_end = found
+        if v_start is None or v_end is None or not v_start.is_a("IfcVertexPoint") or not v_end.is_a("IfcVertexPoint"):
+            raise self.fail(member, "edge without start and end vertex points")
+        if edge.is_a("IfcEdgeCurve") and edge.EdgeGeometry is not None:
+            geom = edge.EdgeGeometry
+            straight = geom.is_a("IfcLine") or (geom.is_a("IfcPolyline") and len(geom.Points) == 2)
+            if not straight:
+                self.warn(member, f"edge geometry {geom.is_a()} is read as the straight chord between its end points")
+        p = [self.world_point(member, v.VertexGeometry.Coordinates) for v in (v_start, v_end)]
+        rels = [r for r in (getattr(member, "ConnectedBy", None) or ()) if r.is_a("IfcRelConnectsStructuralMember")]
+        point_rels = [r for r in rels if r.RelatedStructuralConnection is not None and r.RelatedStructuralConnection.is_a("IfcStructuralPointConnection")]
+        chosen: list = [None, None]
+        for k, v in enumerate((v_start, v_end)):
+            # 1. the same vertex entity; 2. the eccentricity's vertex on the member; 3. the point within tolerance
+            for r in point_rels:
+                cv = self._vertex_of(r.RelatedStructuralConnection)
+                if cv is not None and cv.id() == v.id():
+                    chosen[k] = r
+                    break
+            if chosen[k] is None:
+                for r in point_rels:
+                    if r.is_a("IfcRelConnectsWithEccentricity") and r.ConnectionConstraint is not None:
+                        on_member = getattr(r.ConnectionConstraint, "PointOnRelatingElement", None)
+                        if on_member is not None and on_member.id() in (v.id(), getattr(v, "VertexGeometry", v).id()):
+                            chosen[k] = r
+                            break
+        L_tol = 1e-6 * max(1.0, float(np.linalg.norm(p[1] - p[0])))
+        for k in (0, 1):
+            if chosen[k] is None:
+                best, best_d = None, math.inf
+                for r in point_rels:
+                    if r in chosen:
+                        continue
+                    d = float(np.linalg.norm(self._connection_point(r.RelatedStructuralConnection) - p[k]))
+                    if d < best_d:
+                        best, best_d = r, d
+                if best is not None and (best_d <= L_tol or best.is_a("IfcRelConnectsWithEccentricity")):
+                    chosen[k] = best
+        for k, which in ((0, "start (end i)"), (1, "end (end j)")):
+            if chosen[k] is None:
+                raise self.fail(member, f"no IfcStructuralPointConnection at the {which} of its edge (IfcRelConnectsStructuralMember missing)")
+        if chosen[0].RelatedStructuralConnection.id() == chosen[1].RelatedStructuralConnection.id():
+            raise self.fail(member, "both ends connect to the same point connection")
+        extra = [r for r in point_rels if r not in chosen]
+        if extra:
+            names = ", ".join(entity_label(r.RelatedStructuralConnection) for r in extra)
+            raise self.fail(member, f"connected to point connections between its ends ({names}): split the member at them")
+        if np.linalg.norm(p[1] - p[0]) <= 1e-9 * max(1.0, float(np.abs(p[0]).max())):
+            raise self.fail(member, "zero length (edge start and end at the same point)")
+        return {"points": p, "rels": chosen, "conns": [(r, r.RelatedStructuralConnection) for r in chosen]}
+
+    # -- supports
+    def _condition_flags(self, cond, owner, what: str):
+        """(fixed[6], springs_si[6]) of an IfcBoundaryNodeCondition, in its own axes."""
+        fixed = [False] * 6
+        springs = [0.0] * 6
+        if cond is None:
+            return fixed, springs, [None] * 6
+        if not cond.is_a("IfcBoundaryNodeCondition"):
+            self.warn(owner, f"{what} {cond.is_a()} is not a node condition: ignored")
+            return fixed, springs, [None] * 6
+        names_4 = ("TranslationalStiffnessX", "TranslationalStiffnessY", "TranslationalStiffnessZ",
+                   "RotationalStiffnessX", "RotationalStiffnessY", "RotationalStiffnessZ")
+        names_2x3 = ("LinearStiffnessX", "LinearStiffnessY", "LinearStiffnessZ",
+                     "RotationalStiffnessX", "RotationalStiffnessY", "RotationalStiffnessZ")
+        raw_values = []
+        for k in range(6):
+            name = names_2x3[k] if self.is2x3 else names_4[k]
+            raw = getattr(cond, name, None)
+            raw_values.append(raw)
+            if raw is None:
+                continue
+            value = _unwrap(raw)
+            if isinstance(value, bool) or (hasattr(raw, "is_a") and raw.is_a("IfcBoolean")):
+                fixed[k] = bool(value)
+                continue
+            try:
+                number = float(value)
+            except (TypeError, ValueError):
+                self.warn(owner, f"{what} {name} = {value!r} is not understood: taken as free")
+                continue
+            if number == -1.0:
+                if not self.is2x3:
+                    self.warn(owner, f"{what} {name} = -1 is the IFC2X3 code for a rigid component (IFC4 uses TRUE): taken as fixed")
+                fixed[k] = True
+            elif number == 0.0:
+                pass
+            elif number < 0 or not math.isfinite(number):
+                raise self.fail(owner, f"{what} {name} = {number!r}: negative or infinite stiffness is not supported")
+            else:
+                scale = self.s.linear_stiffness if k < 3 else self.s.rotational_stiffness
+                springs[k] = number * scale
+        return fixed, springs, raw_values
+
+    def _support(self, conn) -> None:
+        cond = getattr(conn, "AppliedCondition", None)
+        if cond is None:
+            return
+        fixed, springs, _ = self._condition_flags(cond, conn, "support condition")
+        if not any(fixed) and not any(springs):
+            return
+        R = self.placement_of(conn)[:3, :3]
+        ccs = getattr(conn, "ConditionCoordinateSystem", None)
+        if ccs is not None:
+            R = R @ _axis2placement_matrix(ccs)[:3, :3]
+        perm = _permutation(R)
+        if perm is None:
+            raise self.fail(conn, "support condition in an inclined ConditionCoordinateSystem: inclined supports are not supported yet")
+        node = self.node_ids[conn.id()]
+        comps = []
+        for k in range(3):
+            g = int(perm[k])
+            for base in (0, 3):
+                if fixed[base + k]:
+                    comps.append(DOF_NAMES[base + g])
+                if springs[base + k]:
+                    self.builder.spring(node, DOF_NAMES[base + g], springs[base + k])
+        if comps:
+            self.builder.support(node, comps)
+        if not np.allclose(R, np.eye(3), atol=1e-12) and (comps or any(springs)):
+            self.warn(conn, "support condition turned from its own axes to the global axes", "info")
+
+    # -- members
+    def _member(self, member, ends: dict, need_density: bool, material_cache: dict) -> None:
+        from ..units import section_to_si
+        from .materials import element_material, element_profile, profile_mechanical_values
+        from .sections import PSET_FIELD_UNITS, section_from_pset, section_properties
+
+        mid = self.member_ids[member.id()]
+        label = entity_label(member)
+        predefined = str(getattr(member, "PredefinedType", None) or "NOTDEFINED")
+        truss = predefined in _TRUSS_TYPES
+        if predefined in _ONE_WAY_TYPES:
+            self.warn(member, f"{predefined}: {_ONE_WAY_TYPES[predefined]} behaviour is not modelled by a linear analysis; the member is an axial bar carrying both tension and compression")
+        material, diags = element_material(self.f, member, self.s, self.defaults, need_density=need_density,
+                                           need_shear=not truss, cache=material_cache)
+        self.diagnostics.extend(diags)
+
+        # axes
+        p_i, p_j = ends["points"]
+        ex = (p_j - p_i) / np.linalg.norm(p_j - p_i)
+        ref = None
+        roll = 0.0
+        axis = getattr(member, "Axis", None)
+        if axis is not None:
+            ref = self.placement_of(member)[:3, :3] @ _direction(axis)
+            if np.linalg.norm(np.cross(ref, ex)) < 1e-9 * max(np.linalg.norm(ref), 1e-300):
+                raise self.fail(member, "Axis is parallel to the member's reference edge")
+        profile, cardinal, usage = element_profile(self.f, member)
+        if axis is None and usage is not None and usage.is_a("IfcRelAssociatesProfileProperties"):
+            angle = _unwrap(getattr(usage, "ProfileOrientation", None))
+            if angle:
+                roll = float(angle) * self.s.angle
+                self.warn(member, f"no Axis (IFC2X3): default orientation turned by ProfileOrientation {roll:.6g} rad", "info")
+        axes = _local_axes(ex, ref, roll)
+
+        # section
+        offset = np.zeros(3)
+        if profile is None:
+            if self.defaults is None or self.defaults.section is None:
+                raise self.fail(member, "no profile (IfcMaterialProfileSetUsage or profile properties) and no default section given")
+            section = self.defaults.section
+            self.warn(member, f"no profile in the file: default section '{section.name}' used")
+        else:
+            try:
+                props = section_properties(profile, angle_scale=self.s.angle)
+            except IfcInputError as exc:
+                raise IfcInputError(f"{label}: {exc}", member.id()) from None
+            pset = section_from_pset(profile_mechanical_values(self.f, profile, usage))
+            if pset:
+                self.warn(member, "Pset_ProfileMechanical values used for " + ", ".join(sorted(pset)), "info")
+            props_si = section_to_si(props, self.s.length)
+            import dataclasses as _dc
+
+            if pset:
+                props_si = _dc.replace(props_si, **{k: v * getattr(self.s, PSET_FIELD_UNITS[k]) for k, v in pset.items()})
+            if abs(props_si.Iyz) > 1e-6 * math.sqrt(max(props_si.Iy * props_si.Iz, 0.0)) and not truss:
+                self.warn(member, f"profile {entity_label(profile)} is not symmetric (Iyz = {props_si.Iyz:.4g} m4): bending is analysed about the profile axes, the product of inertia is neglected")
+            name = props_si.name or str(getattr(profile, "ProfileName", None) or f"#{profile.id()}")
+            section = Section(name, A=props_si.A, Iy=props_si.Iy, Iz=props_si.Iz, J=props_si.J,
+                              Avy=props_si.Avy, Avz=props_si.Avz)
+            offset = self._cardinal_offset(member, profile, cardinal, props_si, axes)
+
+        # releases
+        releases = [[], []]
+        for k, rel in enumerate(ends["rels"]):
+            cond = getattr(rel, "AppliedCondition", None)
+            if cond is None:
+                continue
+            fixed, springs, raw = self._condition_flags(cond, rel, "end condition")
+            released_local = [raw[c] is not None and not fixed[c] and springs[c] == 0.0 for c in range(6)]
+            if any(springs):
+                raise self.fail(rel, "semi-rigid member end (finite stiffness in AppliedCondition) is not supported")
+            ccs = getattr(rel, "ConditionCoordinateSystem", None)
+            perm = np.arange(3)
+            if ccs is not None:
+                perm = _permutation(_axis2placement_matrix(ccs)[:3, :3])
+                if perm is None:
+                    raise self.fail(rel, "end condition in an inclined ConditionCoordinateSystem is not supported")
+            for c in range(3):
+                for base in (0, 3):
+                    if released_local[base + c]:
+                        releases[k].append(ACTION_NAMES[base + int(perm[c])])
+            if truss and releases[k]:
+                releases[k] = []  # an axial bar has no end moments or shears to release
+
+        # ends, offsets
+        conn_i, conn_j = (c for _, c in ends["conns"])
+        node_i, node_j = self.node_xyz[conn_i.id()], self.node_xyz[conn_j.id()]
+        off_i = p_i - node_i + offset
+        off_j = p_j - node_j + offset
+        tol = 1e-9 * max(1.0, float(np.linalg.norm(p_j - p_i)))
+        for k, (off, rel) in enumerate(((p_i - node_i, ends["rels"][0]), (p_j - node_j, ends["rels"][1]))):
+            if np.linalg.norm(off) > tol:
+                kind = "eccentric connection" if rel.is_a("IfcRelConnectsWithEccentricity") else "member end away from its connection"
+                self.warn(member, f"{kind} at end {'ij'[k]}: rigid offset {tuple(round(float(v), 9) for v in off)} m")
+        off_i[np.abs(off_i) < tol] = 0.0
+        off_j[np.abs(off_j) < tol] = 0.0
+        if np.linalg.norm((node_j + off_j) - (node_i + off_i)) <= tol:
+            raise self.fail(member, "zero length")
+
+        self.builder.add_member(
+            mid, self.node_ids[conn_i.id()], self.node_ids[conn_j.id()], section, material,
+            ref=tuple(ref) if ref is not None else None, roll=roll, truss=truss,
+            release_i=releases[0], release_j=releases[1], offset_i=tuple(off_i), offset_j=tuple(off_j),
+            source=str(member.GlobalId), label=label)
+        length = float(np.linalg.norm((node_j + off_j) - (node_i + off_i)))
+        self.member_info[member.id()] = {"id": mid, "start": node_i + off_i, "axes": axes, "length": length}
+        phys = self._physical(member)
+        if phys is not None:
+            self.physical[mid] = str(phys.GlobalId)
+
+    def _cardinal_offset(self, member, profile, cardinal, props_si, axes) -> np.ndarray:
+        """Global offset of the centroidal axis from the reference line for an eccentric insertion."""
+        if cardinal is None or cardinal == 10:
+            return np.zeros(3)
+        if axes is None:
+            return np.zeros(3)
+        c = np.array([props_si.cy, props_si.cz])
+        if cardinal in (15, 16, 17, 18, 19):
+            self.warn(member, f"CardinalPoint {cardinal} refers to the shear centre: the centroid is used in its place")
+        lo, hi = self._profile_box(profile)
+        mid = 0.5 * (lo + hi)
+        table = {
+            1: (lo[0], lo[1]), 2: (mid[0], lo[1]), 3: (hi[0], lo[1]),
+            4: (lo[0], mid[1]), 5: (mid[0], mid[1]), 6: (hi[0], mid[1]),
+            7: (lo[0], hi[1]), 8: (mid[0], hi[1]), 9: (hi[0], hi[1]),
+            11: (c[0], lo[1]), 12: (lo[0], c[1]), 13: (hi[0], c[1]), 14: (c[0], hi[1]),
+            15: (c[0], c[1]), 16: (c[0], lo[1]), 17: (lo[0], c[1]), 18: (hi[0], c[1]), 19: (c[0], hi[1]),
+        }
+        if cardinal not in table:
+            raise self.fail(member, f"CardinalPoint {cardinal} is not one of 1..19")
+        point = np.array(table[cardinal])
+        d = c - point  # centroid relative to the reference line, in (y, z) = (xp, yp)
+        if np.linalg.norm(d) <= 1e-12:
+            return np.zeros(3)
+        offset = d[0] * axes[1] + d[1] * axes[2]
+        self.warn(member, f"eccentric insertion (CardinalPoint {cardinal}): centroidal axis offset by y = {d[0]:.6g} m, z = {d[1]:.6g} m from the reference line (rigid offsets at both ends)")
+        return offset
+
+    def _profile_box(self, profile):
+        """Bounding box (m) of the profile in its underlying x, y axes, from ifcopenshell's triangulation."""
+        import ifcopenshell.geom
+
+        try:
+            shape = ifcopenshell.geom.create_shape(ifcopenshell.geom.settings(), profile)
+            v = np.asarray(shape.verts, dtype=float).reshape(-1, 3)[:, :2]
+        except Exception as exc:  # geometry kernel cannot build it
+            raise IfcInputError(f"{entity_label(profile)}: cannot build its outline for the cardinal point ({exc})", profile.id()) from None
+        return v.min(axis=0), v.max(axis=0)
+
+    def _physical(self, member):
+        for rel in getattr(member, "HasAssignments", None) or ():
+            if rel.is_a("IfcRelAssignsToProduct"):
+                prod = rel.RelatingProduct
+                if prod is not None and prod.is_a("IfcElement"):
+                    return prod
+        for rel in getattr(member, "ReferencedBy", None) or ():
+            if rel.is_a("IfcRelAssignsToProduct"):
+                for obj in rel.RelatedObjects or ():
+                    if obj.is_a("IfcElement"):
+                        return obj
+        return None
+
+    # -- load groups
+    def _groups(self) -> list:
+        groups = _as_list(getattr(self.model, "LoadedBy", None))
+        if groups:
+            return groups
+        everything = list(self.f.by_type("IfcStructuralLoadGroup"))
+        mine = []
+        for g in everything:
+            used_in = _as_list(getattr(g, "LoadGroupFor", None))
+            if not used_in or any(m.id() == self.model.id() for m in used_in):
+                mine.append(g)
+        if mine:
+            self.notes.append("The analysis model lists no load groups (LoadedBy): every load group of the file not tied to another model is read.")
+        return mine
+
+    @staticmethod
+    def _kind(group) -> str:
+        if group.is_a("IfcStructuralLoadCase"):
+            return "LOAD_CASE"
+        return str(getattr(group, "PredefinedType", None) or "NOTDEFINED")
+
+    def _contents(self, group):
+        """(related object, factor of its assignment) pairs of a group."""
+        out = []
+        for rel in _as_list(getattr(group, "IsGroupedBy", None)):
+            factor = float(rel.Factor) if rel.is_a("IfcRelAssignsToGroupByFactor") and rel.Factor is not None else 1.0
+            for obj in rel.RelatedObjects or ():
+                out.append((obj, factor))
+        return out
+
+    def _coefficient(self, group) -> float:
+        c = getattr(group, "Coefficient", None)
+        return 1.0 if c is None else float(c)
+
+    def _case_actions(self, group, factor: float, depth: int = 0) -> list:
+        out = []
+        for obj, f in self._contents(group):
+            if obj.is_a("IfcStructuralAction"):
+                out.append((obj, factor * f))
+            elif obj.is_a("IfcStructuralLoadGroup") and depth < 10:
+                kind = self._kind(obj)
+                if kind in ("LOAD_CASE", "LOAD_COMBINATION"):
+                    self.warn(group, f"contains {entity_label(obj)} of type {kind}: ignored inside a load case")
+                    continue
+                out.extend(self._case_actions(obj, factor * f * self._coefficient(obj), depth + 1))
+        return out
+
+    def _load_structure(self) -> dict:
+        groups = self._groups()
+        cases: dict[int, dict] = {}
+        combos = []
+        names: dict[str, int] = {}
+        nested_groups = set()
+        for g in groups:
+            for obj, _ in self._contents(g):
+                if obj.is_a("IfcStructuralLoadGroup"):
+                    nested_groups.add(obj.id())
+        for g in groups:
+            kind = self._kind(g)
+            if kind == "LOAD_CASE":
+                cases[g.id()] = {"group": g}
+            elif kind == "LOAD_COMBINATION":
+                combos.append(g)
+            elif kind in ("LOAD_GROUP", "NOTDEFINED", "USERDEFINED") and g.id() not in nested_groups:
+                if any(o.is_a("IfcStructuralAction") for o, _ in self._contents(g)):
+                    self.warn(g, f"load group of type {kind} outside any load case: read as a load case", "info")
+                    cases[g.id()] = {"group": g}
+        for cid, case in cases.items():
+            g = case["group"]
+            name = str(g.Name or g.GlobalId)
+            if name in names:
+                name = f"{name} (#{g.id()})"
+            names[name] = cid
+            case["name"] = name
+            coef = self._coefficient(g)
+            scale = 1.0 if self.is2x3 else coef
+            if not self.is2x3 and coef != 1.0:
+                self.warn(g, f"Coefficient {coef:g}: the actions of the load case are multiplied by it (not its self weight)", "info")
+            case["actions"] = self._case_actions(g, scale)
+            sw = getattr(g, "SelfWeightCoefficients", None) if g.is_a("IfcStructuralLoadCase") else None
+            if sw:
+                v = self.global_rotation @ np.array([float(x) for x in sw], dtype=float)
+                case["self_weight"] = tuple(float(x) for x in v)
+            else:
+                case["self_weight"] = (0.0, 0.0, 0.0)
+        if self.is2x3 and cases:
+            self.notes.append("IFC2X3: no IfcStructuralLoadCase, so no self-weight coefficients; combination factors are the Coefficient of the load case (and of any LOAD_COMBINATION_GROUP) in the combination.")
+        self.combinations = []
+        for g in combos:
+            factors: dict[str, float] = {}
+            self._combination_terms(g, self._coefficient(g), cases, factors, 0)
+            name = str(g.Name or g.GlobalId)
+            if name in names:
+                name = f"{name} (#{g.id()})"
+            names[name] = g.id()
+            if not factors:
+                self.warn(g, "load combination without load cases: ignored")
+                continue
+            self.combinations.append(Combination(name, tuple(factors.items()), source=str(g.GlobalId)))
+        return cases
+
+    def _combination_terms(self, group, factor: float, cases: dict, out: dict, depth: int) -> None:
+        for obj, f in self._contents(group):
+            if not obj.is_a("IfcStructuralLoadGroup"):
+                continue
+            if obj.id() in cases:
+                term = factor * f * (self._coefficient(obj) if self.is2x3 else 1.0)
+                name = cases[obj.id()]["name"]
+                out[name] = out.get(name, 0.0) + term
+            elif self._kind(obj) == "LOAD_COMBINATION_GROUP" and depth < 10:
+                self._combination_terms(obj, factor * f * self._coefficient(obj), cases, out, depth + 1)
+            elif obj.is_a("IfcStructuralLoadGroup") and self._kind(obj) == "LOAD_CASE":
+                self.warn(group, f"load case {entity_label(obj)} is not a load case of the analysis model: left out of the combination")
+            else:
+                self.warn(group, f"{entity_label(obj)} ({self._kind(obj)}) in a combination: ignored")
+
+    # -- actions
+    def _loads(self) -> None:
+        member_by_entity = self.member_info
+        node_ids = self.node_ids
+        in_case = set()
+        for case in self.cases.values():
+            nodal, member_loads, settlements = [], [], []
+            for action, factor in case["actions"]:
+                in_case.add(action.id())
+                rels = _as_list(getattr(action, "AssignedToStructuralItem", None))
+                item = rels[0].RelatingElement if rels else None
+                if item is None:
+                    self.warn(action, "action not connected to a structural item: ignored")
+                    continue
+                if item.id() in member_by_entity:
+                    member_loads.extend(self._member_action(action, item, factor))
+                elif item.id() in node_ids:
+                    n, s = self._node_action(action, item, factor)
+                    nodal.extend(n)
+                    settlements.extend(s)
+                else:
+                    self.warn(action, f"acts on {entity_label(item)}, which is not a member or node of the frame: ignored")
+            self.builder.add_case(LoadCase(case["name"], nodal=tuple(nodal), member=tuple(member_loads),
+                                           settlements=tuple(settlements), self_weight=case["self_weight"],
+                                           source=str(case["group"].GlobalId)))
+        for combo in self.combinations:
+            self.builder.add_combination(combo)
+        for action in self.f.by_type("IfcStructuralAction"):
+            if action.id() in in_case:
+                continue
+            rels = _as_list(getattr(action, "AssignedToStructuralItem", None))
+            item = rels[0].RelatingElement if rels else None
+            if item is not None and (item.id() in member_by_entity or item.id() in node_ids):
+                self.warn(action, "action in no load case of the model: ignored")
+
+    def _node_action(self, action, conn, factor: float):
+        load = action.AppliedLoad
+        node = self.node_ids[conn.id()]
+        gl = str(getattr(action, "GlobalOrLocal", None) or "GLOBAL_COORDS")
+        if gl == "LOCAL_COORDS":
+            R = self.placement_of(conn)[:3, :3]
+            ccs = getattr(conn, "ConditionCoordinateSystem", None)
+            if ccs is not None:
+                R = R @ _axis2placement_matrix(ccs)[:3, :3]
+        else:
+            R = self.global_rotation
+        if not action.is_a("IfcStructuralPointAction"):
+            self.warn(action, f"{action.is_a()} on a point connection is not supported: ignored")
+            return [], []
+        if load is None:
+            return [], []
+        if load.is_a("IfcStructuralLoadSingleForce"):
+            F = np.array([float(getattr(load, f"Force{a}", None) or 0.0) for a in "XYZ"]) * self.s.force
+            M = np.array([float(getattr(load, f"Moment{a}", None) or 0.0) for a in "XYZ"]) * self.s.moment
+            if load.is_a("IfcStructuralLoadSingleForceWarping") and getattr(load, "WarpingMoment", None):
+                self.warn(action, "warping moment ignored (no warping degree of freedom)")
+            values = np.concatenate([R @ F, R @ M]) * factor
+            return [NodalLoad(node, tuple(float(v) for v in values), source=str(action.GlobalId))], []
+        if load.is_a("IfcStructuralLoadSingleDisplacement"):
+            u = np.array([float(getattr(load, f"Displacement{a}", None) or 0.0) for a in "XYZ"]) * self.s.length
+            r = np.array([float(getattr(load, f"RotationalDisplacementR{a}", None) or 0.0) for a in "XYZ"]) * self.s.angle
+            values = np.concatenate([R @ u, R @ r]) * factor
+            out = []
+            k_node = list(self.builder._nodes[node]["restraint"])
+            for k, v in enumerate(values):
+                if abs(v) <= 0.0:
+                    continue
+                if not k_node[k]:
+                    raise self.fail(action, f"prescribed displacement {DOF_NAMES[k]} of {entity_label(conn)}, whose support does not restrain {DOF_NAMES[k]}")
+                out.append(Settlement(node, DOF_NAMES[k], float(v), source=str(action.GlobalId)))
+            return [], out
+        self.warn(action, f"load {load.is_a()} on a point connection is not supported: ignored")
+        return [], []
+
+    def _member_action(self, action, member, factor: float) -> list:
+        info = self.member_info[member.id()]
+        mid, L, axes = info["id"], info["length"], info["axes"]
+        load = action.AppliedLoad
+        gl = str(getattr(action, "GlobalOrLocal", None) or "GLOBAL_COORDS")
+        local = gl == "LOCAL_COORDS"
+        R = np.eye(3) if local else self.global_rotation
+        src = str(action.GlobalId)
+        if load is None:
+            return []
+        if action.is_a("IfcStructuralPointAction"):
+            if not load.is_a("IfcStructuralLoadSingleForce"):
+                self.warn(action, f"load {load.is_a()} on a curve member is not supported: ignored")
+                return []
+            vertex = self._vertex_of(action)
+            if vertex is None:
+                raise self.fail(action, f"point action on {entity_label(member)} without a vertex giving its position")
+            pt = self.world_point(action, vertex.VertexGeometry.Coordinates)
+            pos = float(np.dot(pt - info["start"], axes[0]))
+            dist = np.linalg.norm(pt - (info["start"] + pos * axes[0]))
+            if pos < -1e-6 * L or pos > L * (1 + 1e-6) or dist > 1e-3 * L + 1e-6:
+                raise self.fail(action, f"point action lies off {entity_label(member)} (at {pos:.6g} m along it, {dist:.3g} m away)")
+            pos = min(max(pos, 0.0), L)
+            F = R @ np.array([float(getattr(load, f"Force{a}", None) or 0.0) for a in "XYZ"]) * self.s.force * factor
+            M = R @ np.array([float(getattr(load, f"Moment{a}", None) or 0.0) for a in "XYZ"]) * self.s.moment * factor
+            out = []
+            axes_name = "local" if local else "global"
+            for k, a in enumerate("xyz"):
+                if F[k]:
+                    out.append(PointLoad(mid, a, float(F[k]), pos, axes=axes_name, source=src))
+                if M[k]:
+                    out.append(PointLoad(mid, a, float(M[k]), pos, axes=axes_name, moment=True, source=src))
+            return out
+        if not action.is_a("IfcStructuralCurveAction") and not action.is_a("IfcStructuralLinearAction"):
+            self.warn(action, f"{action.is_a()} on a curve member is not supported: ignored")
+            return []
+        if action.is_a("IfcStructuralLinearActionVarying"):
+            raise self.fail(action, "IFC2X3 varying linear actions are not supported")
+        projected = str(getattr(action, "ProjectedOrTrue", None) or "TRUE_LENGTH") == "PROJECTED_LENGTH"
+        if projected and local:
+            raise self.fail(action, "PROJECTED_LENGTH with LOCAL_COORDS is not valid (IFC rule ProjectedIsGlobal)")
+        kind = str(getattr(action, "PredefinedType", None) or "CONST")
+        extent = self._action_extent(action, member, info)
+        samples = self._curve_samples(action, load, kind, extent)
+        out = []
+        axes_name = "local" if local else "global"
+        for (s0, v0), (s1, v1) in zip(samples[:-1], samples[1:]):
+            if s1 - s0 <= 1e-12 * max(L, 1.0):
+                continue
+            w0 = R @ v0 * factor
+            w1 = R @ v1 * factor
+            for k, a in enumerate("xyz"):
+                if w0[k] or w1[k]:
+                    out.append(LineLoad(mid, a, float(w0[k]), float(w1[k]), start=float(max(s0, 0.0)), end=float(min(s1, L)),
+                                        axes=axes_name, projected=projected, source=src))
+        return out
+
+    def _linear_force(self, action, value) -> np.ndarray:
+        if not value.is_a("IfcStructuralLoadLinearForce"):
+            raise self.fail(action, f"curve action with {value.is_a()} is not supported (linear forces only)")
+        moments = [float(getattr(value, f"LinearMoment{a}", None) or 0.0) for a in "XYZ"]
+        if any(moments):
+            raise self.fail(action, "distributed moments (LinearMomentX/Y/Z) are not supported")
+        return np.array([float(getattr(value, f"LinearForce{a}", None) or 0.0) for a in "XYZ"]) * self.s.linear_force
+
+    def _action_extent(self, action, member, info) -> tuple[float, float]:
+        """Start and end (m from end i) of a curve action: the whole member, or its own edge."""
+        L = info["length"]
+        found = self._edge_of(action)
+        if found is None:
+            return 0.0, L
+        _, v0, v1 = found
+        pts = [self.world_point(action, v.VertexGeometry.Coordinates) for v in (v0, v1)]
+        s = [float(np.dot(p - info["start"], info["axes"][0])) for p in pts]
+        if min(s) < -1e-6 * L or max(s) > L * (1 + 1e-6):
+            raise self.fail(action, f"curve action extends beyond {entity_label(member)}")
+        return min(max(s[0], 0.0), L), min(max(s[1], 0.0), L)
+
+    def _curve_samples(self, action, load, kind: str, extent) -> list:
+        """(position m from end i, SI linear-force vector in the load's axes) samples, ascending."""
+        a, b = extent
+        reverse = b < a
+        if load.is_a("IfcStructuralLoadConfiguration"):
+            values = list(load.Values or ())
+            locations = list(load.Locations or ())
+            if kind in ("SINUS", "PARABOLA", "CONST"):
+                raise self.fail(action, f"{kind} curve action with an IfcStructuralLoadConfiguration (not valid IFC)")
+            if kind == "DISCRETE":
+                raise self.fail(action, "DISCRETE curve actions are not supported")
+            if len(values) < 2:
+                raise self.fail(action, "load configuration with fewer than two values")
+            if locations and len(locations) != len(values):
+                raise self.fail(action, "load configuration with as many locations as values required (ValidListSize)")
+            if not locations:
+                locs = np.linspace(0.0, abs(b - a), len(values))
+            else:
+                locs = np.array([float(_as_list(loc)[0]) for loc in locations]) * self.s.length
+            if np.any(np.diff(locs) < 0):
+                raise self.fail(action, "load configuration locations are not in ascending order")
+            vecs = [self._linear_force(action, v) for v in values]
+            pos = (a - locs) if reverse else (a + locs)
+            pairs = list(zip(pos.tolist(), vecs))
+            return sorted(pairs, key=lambda t: t[0])
+        v = self._linear_force(action, load)
+        lo, hi = min(a, b), max(a, b)
+        if kind in ("SINUS", "PARABOLA"):
+            self.warn(action, f"{kind} distribution approximated by {_CURVE_SEGMENTS} linear pieces")
+            t = np.linspace(0.0, 1.0, _CURVE_SEGMENTS + 1)
+            shape = np.sin(np.pi * t) if kind == "SINUS" else 4.0 * t * (1.0 - t)
+            return [(lo + ti * (hi - lo), v * si) for ti, si in zip(t, shape)]
+        if kind not in ("CONST", "NOTDEFINED", "USERDEFINED"):
+            raise self.fail(action, f"{kind} curve action needs an IfcStructuralLoadConfiguration")
+        if kind != "CONST" and not self.is2x3:
+            self.warn(action, f"PredefinedType {kind} with a single load value: read as constant", "info")
+        return [(lo, v), (hi, v)]
