@@ -1,0 +1,233 @@
+"""World transforms of IFC object placements, fast enough for large building models.
+
+``ifcopenshell.util.placement.get_local_placement`` walks the whole chain of
+``IfcLocalPlacement`` for every element. Building models share a handful of
+parent placements (site, building, storeys) among thousands of elements, so
+here the parents are computed once and cached by entity id, and the elements'
+own placements are read from their raw attributes and turned into matrices
+in one batch with numpy.
+
+All matrices are ``(4, 4)`` homogeneous transforms in the file's length
+unit, mapping local coordinates to world coordinates: ``X_world = M @ [x, 1]``.
+Their rotation columns are the local x, y and z axes in world components.
+
+Notes
+-----
+The axis construction follows IFC's ``IfcBuildAxes``/``IfcFirstProjAxis``
+rule for ``IfcAxis2Placement3D``: z is ``Axis`` (default global Z); x is
+``RefDirection`` (default global X) made normal to z; y = z x x.
+``IfcGridPlacement``, ``IfcLinearPlacement`` and anything else falls back to
+``ifcopenshell.util.placement.get_local_placement`` (slow but general).
+"""
+from __future__ import annotations
+
+from collections.abc import Sequence
+
+import numpy as np
+import numpy.typing as npt
+
+__all__ = [
+    "PlacementCache",
+    "axis_placement_matrix",
+    "axis_placement_matrices",
+    "transformation_operator_matrix",
+    "world_matrices",
+]
+
+FloatArray = npt.NDArray[np.float64]
+
+_Z = (0.0, 0.0, 1.0)
+_X = (1.0, 0.0, 0.0)
+
+
+def _ratios(direction, size: int = 3) -> tuple[float, ...] | None:
+    """Direction ratios of an IfcDirection padded to ``size`` (or None)."""
+    if direction is None:
+        return None
+    r = direction.get_argument(0)
+    if len(r) < size:
+        r = tuple(r) + (0.0,) * (size - len(r))
+    return tuple(r)
+
+
+def _point(point, size: int = 3) -> tuple[float, ...]:
+    """Coordinates of an IfcCartesianPoint padded to ``size``."""
+    if point is None:
+        return (0.0,) * size
+    if not point.is_a("IfcCartesianPoint"):
+        raise ValueError(f"#{point.id()} {point.is_a()}: only IfcCartesianPoint locations are supported")
+    c = point.get_argument(0)
+    if len(c) < size:
+        c = tuple(c) + (0.0,) * (size - len(c))
+    return tuple(c)
+
+
+def _frames_from_axes(loc: FloatArray, z: FloatArray, x: FloatArray) -> FloatArray:
+    """Batched homogeneous matrices ``(k,4,4)`` from origins, z and x-hint vectors ``(k,3)``."""
+    k = loc.shape[0]
+    z = z / np.linalg.norm(z, axis=1)[:, None]
+    x = x - np.sum(x * z, axis=1)[:, None] * z
+    n = np.linalg.norm(x, axis=1)
+    bad = n < 1e-12
+    if bad.any():  # RefDirection parallel to Axis: take the first global axis not parallel to z
+        alt = np.where(np.abs(z[bad, 0:1]) < 0.9, [[1.0, 0.0, 0.0]], [[0.0, 1.0, 0.0]])
+        alt = alt - np.sum(alt * z[bad], axis=1)[:, None] * z[bad]
+        x[bad] = alt
+        n[bad] = np.linalg.norm(alt, axis=1)
+    x = x / n[:, None]
+    y = np.cross(z, x)
+    M = np.zeros((k, 4, 4))
+    M[:, :3, 0] = x
+    M[:, :3, 1] = y
+    M[:, :3, 2] = z
+    M[:, :3, 3] = loc
+    M[:, 3, 3] = 1.0
+    return M
+
+
+def _axis_placement_raw(placement) -> tuple[tuple, tuple, tuple]:
+    """(location, z, x-hint) of an IfcAxis2Placement3D/2D or IfcAxis1Placement as 3-tuples."""
+    if placement is None:
+        return (0.0, 0.0, 0.0), _Z, _X
+    kind = placement.is_a()
+    if kind == "IfcAxis2Placement3D":
+        loc = _point(placement.get_argument(0))
+        z = _ratios(placement.get_argument(1)) or _Z
+        x = _ratios(placement.get_argument(2)) or _X
+        return loc, z, x
+    if kind == "IfcAxis2Placement2D":
+        loc = _point(placement.get_argument(0))
+        x = _ratios(placement.get_argument(1)) or _X
+        return loc, _Z, x
+    if kind == "IfcAxis1Placement":
+        loc = _point(placement.get_argument(0))
+        z = _ratios(placement.get_argument(1)) or _Z
+        return loc, z, _X
+    raise ValueError(f"#{placement.id()} {kind}: not an axis placement")
+
+
+def axis_placement_matrix(placement) -> FloatArray:
+    """``(4,4)`` matrix of one IfcAxis2Placement3D/2D (None: identity)."""
+    return axis_placement_matrices([placement])[0]
+
+
+def axis_placement_matrices(placements: Sequence) -> FloatArray:
+    """``(k,4,4)`` matrices of IfcAxis2Placement3D/2D entities (None rows: identity)."""
+    k = len(placements)
+    if k == 0:
+        return np.zeros((0, 4, 4))
+    raw = [_axis_placement_raw(p) for p in placements]
+    loc = np.array([r[0] for r in raw], dtype=float)
+    z = np.array([r[1] for r in raw], dtype=float)
+    x = np.array([r[2] for r in raw], dtype=float)
+    return _frames_from_axes(loc, z, x)
+
+
+def transformation_operator_matrix(op) -> FloatArray:
+    """``(4,4)`` matrix of an IfcCartesianTransformationOperator2D/3D (uniform or non-uniform).
+
+    IFC's ``IfcBaseAxis`` rule: z = Axis3 (default Z), x = Axis1 made normal
+    to z, y = z x x; the columns are then scaled by Scale (Scale2, Scale3).
+    """
+    if op is None:
+        return np.eye(4)
+    axis1 = _ratios(op.Axis1) or _X
+    axis3 = _ratios(getattr(op, "Axis3", None)) if hasattr(op, "Axis3") else None
+    M = _frames_from_axes(np.array([_point(op.LocalOrigin)], dtype=float), np.array([axis3 or _Z], dtype=float),
+                          np.array([axis1], dtype=float))[0]
+    s1 = float(op.Scale) if op.Scale is not None else 1.0
+    s2 = float(getattr(op, "Scale2", None) or s1) if hasattr(op, "Scale2") else s1
+    s3 = float(getattr(op, "Scale3", None) or s1) if hasattr(op, "Scale3") else s1
+    M[:3, 0] *= s1
+    M[:3, 1] *= s2
+    M[:3, 2] *= s3
+    return M
+
+
+class PlacementCache:
+    """World matrices of object placements with cached parents.
+
+    ``matrix(p)`` gives one world matrix (cached by id); ``batch(ps)`` gives
+    ``(k,4,4)`` for many leaf placements, reading each leaf's raw attributes
+    once and composing with the cached parents in one numpy product.
+    """
+
+    def __init__(self) -> None:
+        self._world: dict[int, FloatArray] = {}
+
+    def matrix(self, placement) -> FloatArray:
+        """World matrix ``(4,4)`` of an IfcObjectPlacement (None: identity)."""
+        if placement is None:
+            return np.eye(4)
+        pid = placement.id()
+        M = self._world.get(pid)
+        if M is not None:
+            return M
+        if placement.is_a("IfcLocalPlacement"):
+            parent = placement.get_argument(0)
+            local = axis_placement_matrix(placement.get_argument(1))
+            M = self.matrix(parent) @ local if parent is not None else local
+        else:  # grid, linear placement ...: the general (slow) path
+            import ifcopenshell.util.placement as ifc_placement
+
+            M = np.asarray(ifc_placement.get_local_placement(placement), dtype=float)
+        self._world[pid] = M
+        return M
+
+    def batch(self, placements: Sequence) -> FloatArray:
+        """World matrices ``(k,4,4)`` of many placements (typically one per element)."""
+        k = len(placements)
+        out = np.empty((k, 4, 4))
+        out[:] = np.eye(4)
+        rows: list[int] = []
+        parents: list[FloatArray] = []
+        raws: list[tuple] = []
+        for i, p in enumerate(placements):
+            if p is None:
+                continue
+            cached = self._world.get(p.id())
+            if cached is not None:
+                out[i] = cached
+                continue
+            if p.is_a() != "IfcLocalPlacement":
+                out[i] = self.matrix(p)
+                continue
+            parent = p.get_argument(0)
+            rel = p.get_argument(1)
+            if rel is None or rel.is_a() != "IfcAxis2Placement3D":
+                out[i] = self.matrix(p)
+                continue
+            loc = rel.get_argument(0)
+            if loc is None or loc.is_a() != "IfcCartesianPoint":
+                out[i] = self.matrix(p)
+                continue
+            rows.append(i)
+            parents.append(self.matrix(parent) if parent is not None else _EYE)
+            c = loc.get_argument(0)
+            a = rel.get_argument(1)
+            r = rel.get_argument(2)
+            raws.append((c if len(c) == 3 else tuple(c) + (0.0,) * (3 - len(c)),
+                         a.get_argument(0) if a is not None else _Z,
+                         r.get_argument(0) if r is not None else _X))
+        if rows:
+            loc = np.array([q[0] for q in raws], dtype=float)
+            z = np.array([q[1] for q in raws], dtype=float)
+            x = np.array([q[2] for q in raws], dtype=float)
+            local = _frames_from_axes(loc, z, x)
+            out[rows] = np.matmul(np.stack(parents), local)
+        return out
+
+
+_EYE = np.eye(4)
+_EYE.flags.writeable = False
+
+
+def world_matrices(placements: Sequence) -> FloatArray:
+    """World matrices ``(k,4,4)`` of object placements, parents cached (file length units).
+
+    Examples
+    --------
+    >>> world_matrices([None]).shape
+    (1, 4, 4)
+    """
+    return PlacementCache().batch(placements)
