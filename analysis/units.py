@@ -1,0 +1,355 @@
+"""Unit scales between an IFC file and the SI engine: the only place that converts units.
+
+Every factor obeys ``value_ifc * scale == value_si``. The engine works in
+metre, newton, kilogram, second, pascal and radian throughout; the reader
+converts IFC values with :func:`to_si` and the writer converts back with
+:func:`from_si`.
+
+Two traps of ``ifcopenshell.util.unit.calculate_unit_scale`` (0.9.0) are
+handled here:
+
+* it returns ``1`` for a unit type the file does not declare (pressure,
+  modulus, moment of inertia, linear force ... are often missing), so such
+  types are derived from the base units (length, force, mass, plane angle,
+  time, temperature) and a warning names the type;
+* it scales GRAM-based units to *grams* (a ``KILO`` ``GRAM`` unit gives
+  1000, a derived kg/m³ unit gives 1000 as well), so such factors are
+  divided by ``1000 ** (power of GRAM in the unit)`` to reach kilograms
+  (NEWTON, PASCAL ... are not affected).
+"""
+from __future__ import annotations
+
+import logging
+import math
+from dataclasses import dataclass, fields
+from typing import TYPE_CHECKING, Any
+
+import numpy as np
+import numpy.typing as npt
+
+if TYPE_CHECKING:  # pragma: no cover
+    import ifcopenshell
+
+__all__ = [
+    "UnitScales",
+    "SI_SCALES",
+    "UNIT_TYPES",
+    "unit_scales",
+    "angle_scale",
+    "to_si",
+    "from_si",
+    "section_to_si",
+]
+
+logger = logging.getLogger(__name__)
+
+FloatArray = npt.NDArray[np.float64]
+
+#: UnitScales field -> IFC unit type (IfcUnitEnum or IfcDerivedUnitEnum item).
+UNIT_TYPES: dict[str, str] = {
+    "length": "LENGTHUNIT",
+    "area": "AREAUNIT",
+    "volume": "VOLUMEUNIT",
+    "mass": "MASSUNIT",
+    "time": "TIMEUNIT",
+    "angle": "PLANEANGLEUNIT",
+    "temperature_difference": "THERMODYNAMICTEMPERATUREUNIT",
+    "force": "FORCEUNIT",
+    "pressure": "PRESSUREUNIT",
+    "modulus_of_elasticity": "MODULUSOFELASTICITYUNIT",
+    "shear_modulus": "SHEARMODULUSUNIT",
+    "moment": "TORQUEUNIT",
+    "linear_force": "LINEARFORCEUNIT",
+    "linear_moment": "LINEARMOMENTUNIT",
+    "planar_force": "PLANARFORCEUNIT",
+    "moment_of_inertia": "MOMENTOFINERTIAUNIT",
+    "section_modulus": "SECTIONMODULUSUNIT",
+    "warping_constant": "WARPINGCONSTANTUNIT",
+    "mass_density": "MASSDENSITYUNIT",
+    "mass_per_length": "MASSPERLENGTHUNIT",
+    "linear_stiffness": "LINEARSTIFFNESSUNIT",
+    "rotational_stiffness": "ROTATIONALSTIFFNESSUNIT",
+    "linear_subgrade_reaction": "MODULUSOFLINEARSUBGRADEREACTIONUNIT",
+    "rotational_subgrade_reaction": "MODULUSOFROTATIONALSUBGRADEREACTIONUNIT",
+    "subgrade_reaction": "MODULUSOFSUBGRADEREACTIONUNIT",
+    "thermal_expansion": "THERMALEXPANSIONCOEFFICIENTUNIT",
+}
+
+
+@dataclass(frozen=True, slots=True)
+class UnitScales:
+    """SI scale factors of one IFC file: ``value_ifc * scale == value_si``.
+
+    Attributes (SI target in brackets)
+    ----------------------------------
+    length [m], area [m²], volume [m³], mass [kg], time [s], angle [rad],
+    temperature_difference [K], force [N], pressure [Pa],
+    modulus_of_elasticity [Pa], shear_modulus [Pa], moment [N·m] (IFC torque),
+    linear_force [N/m], linear_moment [N·m/m], planar_force [N/m²],
+    moment_of_inertia [m⁴], section_modulus [m³], warping_constant [m⁶],
+    mass_density [kg/m³], mass_per_length [kg/m], linear_stiffness [N/m]
+    (IfcBoundaryNodeCondition translational springs), rotational_stiffness
+    [N·m/rad] (rotational springs), linear_subgrade_reaction [N/m²] (edge
+    translational springs), rotational_subgrade_reaction [N·m/(m·rad)] (edge
+    rotational springs), subgrade_reaction [N/m³] (face springs),
+    thermal_expansion [1/K].
+
+    ``derived`` names the unit types that the file does not declare and that
+    were derived from base units.
+    """
+
+    length: float = 1.0
+    area: float = 1.0
+    volume: float = 1.0
+    mass: float = 1.0
+    time: float = 1.0
+    angle: float = 1.0
+    temperature_difference: float = 1.0
+    force: float = 1.0
+    pressure: float = 1.0
+    modulus_of_elasticity: float = 1.0
+    shear_modulus: float = 1.0
+    moment: float = 1.0
+    linear_force: float = 1.0
+    linear_moment: float = 1.0
+    planar_force: float = 1.0
+    moment_of_inertia: float = 1.0
+    section_modulus: float = 1.0
+    warping_constant: float = 1.0
+    mass_density: float = 1.0
+    mass_per_length: float = 1.0
+    linear_stiffness: float = 1.0
+    rotational_stiffness: float = 1.0
+    linear_subgrade_reaction: float = 1.0
+    rotational_subgrade_reaction: float = 1.0
+    subgrade_reaction: float = 1.0
+    thermal_expansion: float = 1.0
+    derived: tuple[str, ...] = ()
+
+
+#: Scales of a file that is SI throughout.
+SI_SCALES = UnitScales()
+
+
+def _derived_from_base(b: dict[str, float]) -> dict[str, float]:
+    """Scale of each derived field from the base scales in ``b``.
+
+    Dimensional analysis, common practice, no source: e.g. MOMENTOFINERTIAUNIT
+    = L⁴, MODULUSOFELASTICITYUNIT = F/L², ROTATIONALSTIFFNESSUNIT = F·L/angle.
+    """
+    L, F, M, ang, T = b["length"], b["force"], b["mass"], b["angle"], b["temperature_difference"]
+    return {
+        "area": L**2,
+        "volume": L**3,
+        "pressure": F / L**2,
+        "modulus_of_elasticity": F / L**2,
+        "shear_modulus": F / L**2,
+        "moment": F * L,
+        "linear_force": F / L,
+        "linear_moment": F * L / L,
+        "planar_force": F / L**2,
+        "moment_of_inertia": L**4,
+        "section_modulus": L**3,
+        "warping_constant": L**6,
+        "mass_density": M / L**3,
+        "mass_per_length": M / L,
+        "linear_stiffness": F / L,
+        "rotational_stiffness": F * L / ang,
+        "linear_subgrade_reaction": F / L**2,
+        "rotational_subgrade_reaction": F * L / (L * ang),
+        "subgrade_reaction": F / L**3,
+        "thermal_expansion": 1.0 / T,
+    }
+
+
+_BASE_DEFAULTS = {
+    # field: (SI default, what the default is called in the warning)
+    "length": (1.0, "metre"),
+    "mass": (1.0, "kilogram"),
+    "time": (1.0, "second"),
+    "angle": (1.0, "radian"),
+    "temperature_difference": (1.0, "kelvin"),
+    "force": (1.0, "newton"),
+}
+
+
+def _unit_assignment(ifc_file: "ifcopenshell.file"):
+    """The IfcUnitAssignment in force: the project's UnitsInContext, else a lone assignment."""
+    projects = ifc_file.by_type("IfcProject")
+    if projects and projects[0].UnitsInContext is not None:
+        return projects[0].UnitsInContext, True
+    assignments = ifc_file.by_type("IfcUnitAssignment")
+    if len(assignments) == 1:
+        logger.warning(
+            "the IfcUnitAssignment #%d is not the UnitsInContext of an IfcProject; using it anyway",
+            assignments[0].id(),
+        )
+        return assignments[0], False
+    return None, False
+
+
+def _gram_exponent(unit, depth: int = 0) -> int:
+    """Power of the SI unit GRAM inside ``unit`` (kg = KILO GRAM counts 1, NEWTON counts 0).
+
+    ifcopenshell scales GRAM-based units to grams, so the SI factor must be
+    divided by 1000 to this power.
+    """
+    if unit is None or depth > 16:
+        return 0
+    if unit.is_a("IfcSIUnit"):
+        return 1 if str(unit.Name).upper() == "GRAM" else 0
+    if unit.is_a("IfcConversionBasedUnit"):
+        factor = unit.ConversionFactor
+        return _gram_exponent(getattr(factor, "UnitComponent", None), depth + 1)
+    if unit.is_a("IfcDerivedUnit"):
+        return sum(int(e.Exponent) * _gram_exponent(e.Unit, depth + 1) for e in unit.Elements)
+    return 0
+
+
+def _declared_scale(ifc_file, assignment, via_project: bool, unit_type: str) -> float | None:
+    """SI scale of ``unit_type`` if the assignment declares it, else None (mass in kg)."""
+    import ifcopenshell.util.unit as ifc_unit
+
+    units = [u for u in (assignment.Units or []) if getattr(u, "UnitType", None) == unit_type]
+    if not units:
+        return None
+    if len(units) > 1:
+        logger.warning("%d units of type %s are assigned; the first one is used", len(units), unit_type)
+    unit = units[0]
+    if via_project and len(units) == 1:
+        scale = float(ifc_unit.calculate_unit_scale(ifc_file, unit_type))
+    else:
+        scale = float(ifc_unit.get_unit_scale(unit))
+    # ifcopenshell measures GRAM-based units in grams: bring them to kg.
+    scale *= 1e-3 ** _gram_exponent(unit)
+    if unit_type == "THERMODYNAMICTEMPERATUREUNIT":
+        # a temperature *difference* ignores the offset of degree Celsius/Fahrenheit
+        name = str(getattr(unit, "Name", "") or "").upper()
+        if "FAHRENHEIT" in name:
+            scale = 5.0 / 9.0
+    if not math.isfinite(scale) or scale <= 0.0:
+        from .errors import UnitError
+
+        raise UnitError(f"#{unit.id()} {unit.is_a()}: unit of type {unit_type} has scale {scale!r}", unit.id())
+    return scale
+
+
+def unit_scales(ifc_file: "ifcopenshell.file") -> UnitScales:
+    """SI scale factors of every unit type the engine reads or writes.
+
+    Parameters
+    ----------
+    ifc_file : ifcopenshell.file
+        Any IFC2X3, IFC4 or IFC4X3 file.
+
+    Returns
+    -------
+    UnitScales
+        ``value_ifc * scale == value_si`` for each field.
+
+    Raises
+    ------
+    UnitError
+        A declared unit has a non-positive or non-finite scale.
+
+    Notes
+    -----
+    Declared types come from ``ifcopenshell.util.unit.calculate_unit_scale``
+    (prefixes included: milli plus AREAUNIT gives 1e-6). A type the file does
+    not declare is derived from the base units and logged as a warning
+    naming the type; undeclared base units default to SI (an undeclared
+    FORCEUNIT means newton). A file without any unit assignment is taken as
+    metres and newtons, with a warning.
+
+    Examples
+    --------
+    >>> import ifcopenshell
+    >>> unit_scales(ifcopenshell.file(schema="IFC4")).length  # doctest: +SKIP
+    1.0
+    """
+    assignment, via_project = _unit_assignment(ifc_file)
+    if assignment is None:
+        logger.warning("the file has no IfcUnitAssignment: assuming metres, newtons, kilograms and radians")
+        return UnitScales(derived=tuple(UNIT_TYPES.values()))
+
+    values: dict[str, float] = {}
+    derived: list[str] = []
+    for name, (default, label) in _BASE_DEFAULTS.items():
+        unit_type = UNIT_TYPES[name]
+        scale = _declared_scale(ifc_file, assignment, via_project, unit_type)
+        if scale is None:
+            if name in ("length", "force", "angle"):
+                logger.warning("%s is not declared in the file: %s is assumed", unit_type, label)
+            else:
+                logger.info("%s is not declared in the file: %s is assumed", unit_type, label)
+            scale = default
+            derived.append(unit_type)
+        values[name] = scale
+
+    from_base = _derived_from_base(values)
+    for name, scale_from_base in from_base.items():
+        unit_type = UNIT_TYPES[name]
+        scale = _declared_scale(ifc_file, assignment, via_project, unit_type)
+        if scale is None:
+            logger.warning(
+                "%s is not declared in the file: derived from the base units as %.6g",
+                unit_type,
+                scale_from_base,
+            )
+            scale = scale_from_base
+            derived.append(unit_type)
+        values[name] = scale
+    return UnitScales(**values, derived=tuple(derived))
+
+
+def angle_scale(ifc_file: "ifcopenshell.file") -> float:
+    """SI scale of the file's PLANEANGLEUNIT alone (radian if undeclared), without
+    the warnings of :func:`unit_scales`; for readers of angle parameters."""
+    assignment, via_project = _unit_assignment(ifc_file)
+    if assignment is None:
+        return 1.0
+    scale = _declared_scale(ifc_file, assignment, via_project, "PLANEANGLEUNIT")
+    return 1.0 if scale is None else scale
+
+
+def to_si(value_ifc: Any, scale: float) -> Any:
+    """File units to SI: ``value_ifc * scale``; scalars stay floats, sequences become arrays.
+
+    >>> to_si(2.5, 1e-3)
+    0.0025
+    """
+    if isinstance(value_ifc, (int, float, np.floating, np.integer)):
+        return float(value_ifc) * scale
+    return np.asarray(value_ifc, dtype=np.float64) * scale
+
+
+def from_si(value_si: Any, scale: float) -> Any:
+    """SI to file units: ``value_si / scale``, the inverse of :func:`to_si`.
+
+    >>> from_si(0.0025, 1e-3)
+    2.5
+    """
+    if isinstance(value_si, (int, float, np.floating, np.integer)):
+        return float(value_si) / scale
+    return np.asarray(value_si, dtype=np.float64) / scale
+
+
+#: SectionProperties field -> how many powers of length it carries.
+_SECTION_LENGTH_POWERS = {"A": 2, "Iy": 4, "Iz": 4, "J": 4, "Avy": 2, "Avz": 2, "Iyz": 4, "cy": 1, "cz": 1}
+
+
+def section_to_si(section, length_scale: float):
+    """A copy of a ``SectionProperties`` (profile units) in metres.
+
+    Profile dimensions are IfcLengthMeasure / IfcPositiveLengthMeasure, so
+    every section value scales with a power of the file's length unit:
+    ``A * L²``, ``I * L⁴``, ``c * L``.
+    """
+    import dataclasses
+
+    changes = {
+        f.name: getattr(section, f.name) * length_scale ** _SECTION_LENGTH_POWERS[f.name]
+        for f in fields(section)
+        if f.name in _SECTION_LENGTH_POWERS
+    }
+    return dataclasses.replace(section, **changes)
