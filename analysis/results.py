@@ -175,11 +175,17 @@ class Results:
             F += nodal[:, :3].sum(axis=0)
             M += nodal[:, 3:].sum(axis=0) + np.cross(frame.nodes, nodal[:, :3]).sum(axis=0)
             scale += np.abs(nodal[:, :3]).sum() + np.abs(nodal[:, 3:]).sum() / size
-            for k in range(frame.n_members):
-                loading = cr.loads.loading(k, float(self.L[k]))
-                if loading.empty:
+            # uniform full-length loads, all members at once: total q L at mid-length
+            q = cr.loads.uniform
+            if q.size and np.any(q):
+                Fg = np.einsum("mji,mj->mi", self.R, q) * self.L[:, None]
+                F += Fg.sum(axis=0)
+                M += np.cross((xi + xj) / 2, Fg).sum(axis=0)
+                scale += np.abs(Fg).sum()
+            for k, extra in cr.loads.generic.items():
+                if extra.empty:
                     continue
-                tot = loading.total(float(self.L[k]))  # about end j, member axes
+                tot = extra.total(float(self.L[k]))  # about end j, member axes
                 Fg = self.R[k].T @ tot[:3]
                 Mg = self.R[k].T @ tot[3:] + np.cross(xj[k], Fg)
                 F += Fg

@@ -37,13 +37,15 @@ class Assembly:
         self.L = member_lengths(frame) if m else np.zeros(0)
         self.Te = end_transformation(self.R, frame.offsets)
         shear = options.shear
-        self.k = local_stiffness(self.L, frame.E, frame.G, frame.A, frame.Iy, frame.Iz, frame.J,
+        # truss bars: bending and torsion are released (condensed) below, so any positive
+        # stand-in for I and J gives the same axial-only matrix; A² keeps the units
+        stand_in = np.where(frame.truss, frame.A**2, 0.0)
+        Iy = np.where(frame.truss, stand_in, frame.Iy)
+        Iz = np.where(frame.truss, stand_in, frame.Iz)
+        J = np.where(frame.truss, stand_in, frame.J)
+        G = np.where(frame.truss & ~(frame.G > 0), frame.E, frame.G)
+        self.k = local_stiffness(self.L, frame.E, G, frame.A, Iy, Iz, J,
                                  frame.Avy if shear else None, frame.Avz if shear else None)
-        trusses = frame.truss
-        if trusses.any():  # axial bars: only the axial terms
-            keep = np.zeros(12, bool)
-            keep[[0, 6]] = True
-            self.k[trusses] *= (keep[:, None] & keep[None, :])
         self.compliance = self._compliances(shear)
         self.released = dofs.condensed.reshape(m, 12)
         self.kc, _, self._recover = condense(self.k, np.zeros((m, 12, 0)), self.released)

@@ -206,6 +206,8 @@ def _end_rotation_rows(R: np.ndarray, rel: np.ndarray, member: int, end: int) ->
 def _unattached_rotations(frame, R, rel, restrained, act_mask) -> list[tuple[int, int]]:
     """Joint rotation components with no member end, spring or support attached."""
     n = frame.n_nodes
+    rel = rel.copy()
+    rel[frame.truss, :, 3] = True  # a truss bar carries no torsion: it holds no joint rotation
     full = ~rel[:, :, 3:6].any(axis=2)  # (m,2) ends attached in all three rotations
     attached = np.zeros(n, bool)
     np.logical_or.at(attached, frame.members[:, 0], full[:, 0])
@@ -440,6 +442,12 @@ def _eliminate(C: sp.csr_array, scale: np.ndarray, n_x: int):
         if ridx.size == 0:
             continue
         cidx = cols_sorted[cbounds[comp]:cbounds[comp + 1]]
+        if cidx.size == 0:
+            # rows on restrained components only (e.g. an axially rigid member between two
+            # supports): nothing left to constrain; they must hold for prescribed values
+            redundant += [int(k) for k in ridx]
+            consistency.append((ridx, np.eye(ridx.size)))
+            continue
         M = Cs[ridx][:, cidx].toarray()
         groups.append((ridx, cidx))
         # independent rows in their given order: QR with pivoting on Mᵀ would reorder, so
@@ -461,15 +469,15 @@ def _eliminate(C: sp.csr_array, scale: np.ndarray, n_x: int):
         sl = cidx[slaves_local]
         ms = cidx[masters_local]
         is_slave[sl] = True
-        # unscale: x_s = D_s⁻¹ S D_m x_m
-        Su = S * (scale[ms][None, :] / scale[sl][:, None])
+        # unscale (x = D y): x_s = D_s S D_m⁻¹ x_m
+        Su = S * (scale[sl][:, None] / scale[ms][None, :])
         ii, jj = np.nonzero(np.abs(Su) > 1e-14)
         t_rows += list(sl[ii])
         t_cols += list(ms[jj])
         t_vals += list(Su[ii, jj])
         # particular solution: C_s x_s (unscaled) = -C_r u_r - ...  =>  x_s = W rhs with rhs = C_r u_r
         Winv = scipy.linalg.solve_triangular(R11, Q.T)  # (rk, rk): R11⁻¹ Qᵀ over independent rows
-        W = -(Winv / scale[sl][:, None])
+        W = -(Winv * scale[sl][:, None])
         slave_rhs.append((sl, W, ridx[indep]))
         if len(indep) < len(ridx):
             # combinations of the group's rows that vanish on x must vanish on the right side too

@@ -45,7 +45,7 @@ def available_solvers() -> list[str]:
     return out
 
 
-SMALL = 20000  # below this many unknowns SuperLU is as fast as any and its pivots are plain to check
+SMALL = 5000  # below this many unknowns SuperLU is as fast as any and its pivots are plain to check
 
 
 def choose_solver(requested: str = "auto", n: int | None = None) -> str:
