@@ -53,6 +53,16 @@ _MATERIAL_PROPS = {
     "MassDensity": "mass_density",
 }
 _MATERIAL_PSETS = ("Pset_MaterialMechanical", "Pset_MaterialCommon")
+# Measure type -> UnitScales field (None: dimensionless).
+_MEASURE_UNITS = {
+    "IfcModulusOfElasticityMeasure": "modulus_of_elasticity",
+    "IfcShearModulusMeasure": "shear_modulus",
+    "IfcPressureMeasure": "pressure",
+    "IfcMassDensityMeasure": "mass_density",
+    "IfcPositiveRatioMeasure": None,
+    "IfcRatioMeasure": None,
+    "IfcNormalisedRatioMeasure": None,
+}
 
 # IFC2X3 IfcStructuralProfileProperties / IfcGeneralProfileProperties attribute -> Pset_ProfileMechanical name.
 _PROFILE_2X3_ATTRS = {
@@ -175,7 +185,9 @@ def _properties_of(ifc_file, definition, scales) -> dict[str, float]:
     """SI values of the mechanical properties attached directly to one material definition."""
     values: dict[str, float] = {}
 
-    def put(name: str, raw: Any, unit=None) -> None:
+    def put(name: str, raw: Any, unit=None, measure: str | None = None) -> None:
+        if measure is None and hasattr(raw, "is_a"):
+            measure = raw.is_a()
         raw = _unwrap(raw)
         if raw is None or name not in _MATERIAL_PROPS or name in values:
             return
@@ -183,7 +195,8 @@ def _properties_of(ifc_file, definition, scales) -> dict[str, float]:
             number = float(raw)
         except (TypeError, ValueError):
             return
-        field_name = _MATERIAL_PROPS[name]
+        # the value's measure type decides its unit (a ShearModulus is often an IfcModulusOfElasticityMeasure)
+        field_name = _MEASURE_UNITS.get(measure or "", _MATERIAL_PROPS[name])
         if unit is not None:
             scale = _unit_scale_of(unit)
         elif field_name is None:
@@ -199,10 +212,12 @@ def _properties_of(ifc_file, definition, scales) -> dict[str, float]:
             if props.Material != definition:
                 continue
             if props.is_a("IfcMechanicalMaterialProperties"):
-                for name in ("YoungModulus", "ShearModulus", "PoissonRatio"):
-                    put(name, getattr(props, name, None))
+                # IFC2X3 types YoungModulus and ShearModulus as IfcModulusOfElasticityMeasure
+                put("YoungModulus", props.YoungModulus, measure="IfcModulusOfElasticityMeasure")
+                put("ShearModulus", props.ShearModulus, measure="IfcModulusOfElasticityMeasure")
+                put("PoissonRatio", props.PoissonRatio, measure="IfcPositiveRatioMeasure")
             elif props.is_a("IfcGeneralMaterialProperties"):
-                put("MassDensity", props.MassDensity)
+                put("MassDensity", props.MassDensity, measure="IfcMassDensityMeasure")
             elif props.is_a("IfcExtendedMaterialProperties") and props.Name in _MATERIAL_PSETS:
                 for prop in props.ExtendedProperties or ():
                     if prop.is_a("IfcPropertySingleValue"):
