@@ -574,3 +574,59 @@ def test_workshop_portal_hand_values_and_statics():
     assert res.case("G dead").reactions[:, 2].sum() == pytest.approx(15000.0 * 8 + 10000.0 * 8 + weight, rel=1e-9)
     # wind: horizontal reactions balance 8 kN + 5 kN
     assert res.case("W wind").reactions[:, 0].sum() == pytest.approx(-13000.0, rel=1e-9)
+
+
+@pytest.mark.parametrize("schema", ["IFC2X3", "IFC4", "IFC4X3_ADD2"])
+def test_eccentric_connection_gives_rigid_offset(schema, tmp_path):
+    m = Model(schema)
+    m.node("N1", (0.0, 0.0, 0.0), support=[True] * 6)
+    m.node("N2", (4.0, 0.0, 0.0))
+    f = m.f
+    # the member's reference edge runs 0.3 m above the nodes; IfcRelConnectsWithEccentricity at both ends
+    ends = [f.create_entity("IfcVertexPoint", VertexGeometry=f.create_entity("IfcCartesianPoint", Coordinates=(x, 0.0, 0.3)))
+            for x in (0.0, 4.0)]
+    kwargs = dict(GlobalId=m.gid(), Name="B1", ObjectPlacement=m.placement, PredefinedType="RIGID_JOINED_MEMBER",
+                  Representation=m.topo([f.create_entity("IfcEdge", EdgeStart=ends[0], EdgeEnd=ends[1])], "Edge"))
+    if not m.is2x3:
+        kwargs["Axis"] = f.create_entity("IfcDirection", DirectionRatios=(0.0, 0.0, 1.0))
+    b1 = f.create_entity("IfcStructuralCurveMember", **kwargs)
+    m.items.append(b1)
+    for node, v in zip(("N1", "N2"), ends):
+        geom = f.create_entity("IfcConnectionPointGeometry", PointOnRelatingElement=v, PointOnRelatedElement=m.vertices[node])
+        f.create_entity("IfcRelConnectsWithEccentricity", GlobalId=m.gid(), RelatingStructuralMember=b1,
+                        RelatedStructuralConnection=m.nodes[node], ConnectionConstraint=geom)
+    m.associate([b1], m.steel(), m.rectangle())
+    result = read_ifc(m.write(tmp_path / "ecc.ifc"))
+    np.testing.assert_allclose(result.frame.offsets[0], [[0, 0, 0.3], [0, 0, 0.3]], atol=1e-12)
+    assert any("eccentric connection" in d.message for d in result.diagnostics)
+
+
+@pytest.mark.parametrize("schema", ["IFC4", "IFC4X3_ADD2"])
+def test_shared_placement_moves_nodes(schema, tmp_path):
+    m, _ = cantilever(schema, tmp_path)
+    # the model's global system sits at (10, 5, 2) in world, turned 90 degrees about Z
+    moved = m.f.create_entity("IfcLocalPlacement", RelativePlacement=m.axis2((10.0, 5.0, 2.0), (0.0, 0.0, 1.0), (0.0, 1.0, 0.0)))
+    m.model.SharedPlacement = moved
+    for item in m.items:
+        item.ObjectPlacement = moved
+    fr = read_ifc(m.write(tmp_path / "sp.ifc")).frame
+    # local (4, 0, 0) -> world (10, 5 + 4, 2) (rotation of axes, common practice, no source)
+    np.testing.assert_allclose(fr.nodes, [[10.0, 5.0, 2.0], [10.0, 9.0, 2.0]], atol=1e-12)
+
+
+def test_ifc2x3_combination_group_coefficients(tmp_path):
+    m = Model("IFC2X3")
+    m.node("N1", (0.0, 0.0, 0.0), support=[True] * 6)
+    m.node("N2", (4.0, 0.0, 0.0))
+    b1 = m.member("B1", "N1", "N2")
+    m.associate([b1], m.steel(), m.rectangle())
+    g = m.case("G")
+    m.nodal_force(g, "N2", force_n=(0.0, 0.0, -1000.0))
+    f = m.f
+    combo_group = f.create_entity("IfcStructuralLoadGroup", GlobalId=m.gid(), Name="1.35 G", PredefinedType="LOAD_COMBINATION_GROUP",
+                                  ActionType="NOTDEFINED", ActionSource="NOTDEFINED", Coefficient=1.35)
+    f.create_entity("IfcRelAssignsToGroup", GlobalId=m.gid(), RelatedObjects=[g], RelatingGroup=combo_group)
+    combo = m.combination("ULS", [(None, [combo_group])])
+    fr = read_ifc(m.write(tmp_path / "cg.ifc")).frame
+    assert combo.Name == "ULS"
+    assert dict(fr.combinations[0].factors) == pytest.approx({"G": 1.35})
