@@ -760,14 +760,22 @@ class _Deriver:
         new_points: list[np.ndarray] = []
         eccentric = []
         if len(free):
+            # braces first, then beams, then columns: a column end is the last to move
+            first_end = np.full(node_count, -1, dtype=np.int64)
+            first_end[end_node[::-1]] = np.arange(2 * m)[::-1]
+            free = free[np.argsort(-kinds[end_elem[first_end[free]]], kind="stable")]
             rmax = float(half.max()) + tol
             near = ntree.query_ball_point(P[free], r=rmax)
+            moved_away: set[int] = set()
+            received: set[int] = set()
             for node, cands in zip(free, near):
-                e = int(np.flatnonzero(end_node == node)[0])
+                if node in received:
+                    continue
+                e = int(first_end[node])
                 k, end = int(end_elem[e]), int(e >= m)
                 best = None
                 for c in cands:
-                    if c == node or c in elem_nodes[k] or degree[c] == 0 and not on_span[c]:
+                    if c == node or c in elem_nodes[k] or c in moved_away or degree[c] == 0 and not on_span[c]:
                         continue
                     d = float(np.linalg.norm(P[c] - P[node]))
                     if d <= node_half[c] + tol and (best is None or d < best[0]):
@@ -787,6 +795,8 @@ class _Deriver:
                         where = f"centre line of {elements[s].label}"
                 if target is None:
                     continue
+                moved_away.add(int(node))
+                received.add(int(target))
                 pos = P[node]
                 eccentric.append((k, end, target, pos))
         if new_points:
