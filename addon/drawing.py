@@ -124,7 +124,8 @@ def _material() -> bpy.types.Material:
     mat = bpy.data.materials.get(MATERIAL_NAME)
     if mat is None:
         mat = bpy.data.materials.new(MATERIAL_NAME)
-        mat.use_nodes = True
+        if mat.node_tree is None:  # Blender < 5.0 creates materials without nodes
+            mat.use_nodes = True
         nodes, links = mat.node_tree.nodes, mat.node_tree.links
         bsdf = next((n for n in nodes if n.type == "BSDF_PRINCIPLED"), None) or nodes.new("ShaderNodeBsdfPrincipled")
         attr = nodes.new("ShaderNodeAttribute")
