@@ -1,0 +1,925 @@
+"""Kinematic and static indeterminacy, redundant constraints and mechanisms of a frame.
+
+The counts are exact linear algebra on the same numbering of unknowns the
+stiffness solver uses (`analysis.stiffness.dofs.build_dofs`), so the kinematic
+count is, by construction, the size of the system the solver solves.
+
+Kinematic indeterminacy (independent joint displacements)
+---------------------------------------------------------
+::
+
+    kinematic = joints * dof_per_joint + releases - restraints - constraints - reductions
+
+joints
+    every node of the frame.
+dof_per_joint
+    3 in a plane analysis (two translations in the plane and the rotation
+    about its normal), 6 in space.
+releases
+    own end rotations of rotational end releases (My, Mz) of frame members
+    (truss members excluded): a hinged member end turns on its own, so each
+    released bending rotation adds one unknown. In a plane analysis only the
+    release of the in-plane bending moment counts.
+restraints
+    support components held rigidly (in the analysed components). Elastic
+    supports (springs) restrain nothing for this count.
+constraints
+    the rank of the exact constraint rows (axially rigid members, rigid bodies,
+    floor diaphragms) after the supports are applied: the number of
+    *independent* constraints. A row that repeats what supports or earlier
+    rows already fix is a redundant constraint: it is listed
+    (``redundant_constraints`` = rows - rank) and explained, never counted.
+reductions
+    components that are not unknowns: joint rotations nothing attaches to
+    (the rotations of pin-jointed truss joints, of joints where every member
+    is hinged), own end rotations condensed out, and rotations at pinned ends
+    condensed with ``AnalysisOptions.condense_pinned``.
+
+The JSON ``terms`` block holds exactly these keys (plus
+``redundant_constraints``); ``releases`` is an addition to the first version
+of the contract.
+
+Static indeterminacy (number of redundants)
+-------------------------------------------
+From the ranks of the equilibrium matrix ``B`` (equations x force unknowns):
+states of self-stress ``s = unknowns - rank(B)`` and mechanisms
+``m = equations - rank(B)``, hence ::
+
+    static = s = m + member_forces + reactions + constraint_forces - equations
+
+member_forces
+    independent end forces of each member: 3 per plane-frame member, 6 per
+    space-frame member, less the end actions its releases set to zero (the
+    rank of the released rows of the member's end-force map, so a release
+    repeated at both ends is not counted twice); a truss member carries 1.
+reactions
+    restraints + springs: an elastic support carries a reaction, so for the
+    static count it is a redundant like a rigid support.
+constraint_forces
+    one force per rigid-body or diaphragm constraint row (the axial force of
+    an axially rigid member is already a member force), so the static count
+    does not depend on the inextensible idealisation.
+equations
+    joints * dof_per_joint - joint rotations nothing attaches to.
+
+The mechanisms ``m`` are the displacement modes with no constraint and no
+stiffness: the null space of the reduced stiffness. It is computed from the
+geometry alone (the zero-deformation conditions of every member, spring,
+support and constraint) after collapsing every cluster of rigidly connected
+members and rigid bodies to one rigid body, so a building of moment frames
+reduces to a few dozen unknowns; when that reduction stays large the
+reduced stiffness is factorised instead, and only a failed factorisation
+leads to an eigenvalue count. For a pin-jointed truss the result satisfies
+the extended Maxwell rule ``s - m = b + r - 2j`` (plane) or ``b + r - 3j``
+(space).
+
+References
+----------
+The counting rules and the equilibrium-matrix ranks: S. Pellegrino and
+C. R. Calladine, "Matrix analysis of statically and kinematically
+indeterminate frameworks", Int. J. Solids Structures 22 (1986) 409-428
+(from memory). The displacement-method count of joint displacements with
+axially rigid members: Kassimali, "Matrix Analysis of Structures", and
+Hibbeler, "Structural Analysis" (from memory).
+"""
+from __future__ import annotations
+
+import logging
+import time
+import types
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.linalg
+import scipy.sparse as sp
+from scipy.sparse.csgraph import connected_components
+
+from .model import DOF_NAMES, AnalysisOptions, Frame, member_axes, member_lengths
+
+__all__ = ["Indeterminacy", "indeterminacy", "TERM_KEYS"]
+
+log = logging.getLogger(__name__)
+
+#: keys of the ``terms`` block, in order
+TERM_KEYS = ("joints", "dof_per_joint", "releases", "restraints", "constraints", "redundant_constraints", "reductions")
+
+RANK_TOL = 1e-9  # relative singular-value tolerance of the geometric rank
+DENSE_LIMIT = 2500  # largest group of reduced unknowns ranked densely
+MAX_EXPLAINED = 200  # redundant constraints explained one by one
+MAX_MODES = 6  # mechanisms described one by one
+
+_AXIS = "XYZ"
+
+
+@dataclass(frozen=True)
+class Indeterminacy:
+    """The counts of one frame under one idealisation (see the module docstring).
+
+    Attributes
+    ----------
+    kinematic : independent joint displacements (== unknowns of the solver).
+    static : number of redundants (states of self-stress).
+    mechanisms : independent mechanisms (0 for a stable structure).
+    terms : the kinematic terms, keys `TERM_KEYS`.
+    static_terms : member_forces, reactions, springs, constraint_forces, equations, mechanisms.
+    notes : plain-language notes (formula with numbers, reductions, redundant
+        constraints, mechanisms, springs).
+    redundant : one explanation per redundant constraint.
+    mechanism_descriptions : one description per mechanism (at most a few).
+    timing : seconds per step.
+    """
+
+    kinematic: int
+    static: int
+    mechanisms: int
+    terms: dict
+    notes: tuple[str, ...] = ()
+    redundant: tuple[str, ...] = ()
+    mechanism_descriptions: tuple[str, ...] = ()
+    static_terms: dict = field(default_factory=dict)
+    timing: dict = field(default_factory=dict)
+
+    @property
+    def stable(self) -> bool:
+        return self.mechanisms == 0
+
+    def to_dict(self) -> dict:
+        """The ``indeterminacy`` block of the results JSON (ARCHITECTURE.md)."""
+        return {
+            "kinematic": int(self.kinematic),
+            "static": int(self.static),
+            "mechanisms": int(self.mechanisms),
+            "terms": {k: int(self.terms[k]) for k in TERM_KEYS},
+            "notes": list(self.notes),
+        }
+
+    def format_table(self, width: int = 78) -> str:
+        """A fixed-width table of the terms, followed by the notes."""
+        t, s = self.terms, self.static_terms
+        kind = "plane" if t["dof_per_joint"] == 3 else "space"
+        lines = [f"Indeterminacy ({kind} frame, {t['dof_per_joint']} DOF per joint)", ""]
+
+        def row(sign: str, text: str, value) -> None:
+            lines.append(f"  {sign:1} {text:<52}{value:>10}")
+
+        row("", f"joints x DOF per joint ({t['joints']} x {t['dof_per_joint']})", t["joints"] * t["dof_per_joint"])
+        row("+", "releases (own end rotations of hinged ends)", t["releases"])
+        row("-", "restraints (support components)", t["restraints"])
+        row("-", "constraints (independent)", t["constraints"])
+        row("-", "reductions (rotations that are not unknowns)", t["reductions"])
+        lines.append("  " + "-" * 62)
+        row("=", "kinematic indeterminacy", self.kinematic)
+        row("", "redundant constraints (not counted)", t["redundant_constraints"])
+        lines.append("")
+        if s:
+            row("", "member forces", s["member_forces"])
+            row("+", "reactions (restraints)", s["reactions"])
+            row("+", "spring reactions", s["springs"])
+            row("+", "constraint forces (rigid bodies, diaphragms)", s["constraint_forces"])
+            row("-", "equilibrium equations", s["equations"])
+            row("+", "mechanisms", self.mechanisms)
+            lines.append("  " + "-" * 62)
+        row("=", "static indeterminacy (redundants)", self.static)
+        row("", "mechanisms", self.mechanisms)
+        lines.append("")
+        lines.append("Stable." if self.stable else "UNSTABLE: the structure is a mechanism.")
+        if self.notes:
+            lines.append("")
+            lines.append("Notes:")
+            import textwrap
+
+            for note in self.notes:
+                lines += textwrap.wrap(note, width=width, initial_indent="  - ", subsequent_indent="    ")
+        return "\n".join(lines)
+
+
+# --------------------------------------------------------------------------- main
+def indeterminacy(frame: Frame, options: AnalysisOptions | None = None, *, mechanism_method: str = "auto") -> Indeterminacy:
+    """Count the kinematic and static indeterminacy and the mechanisms of ``frame``.
+
+    Parameters
+    ----------
+    frame : the analytical model.
+    options : the idealisation (``plane``, ``inextensible``, ``condense_pinned``);
+        the same options give the same unknowns as `analysis.analyze`.
+    mechanism_method : 'auto' (geometric rank after collapsing rigid clusters,
+        falling back to the stiffness), 'geometry' or 'stiffness'.
+
+    Returns
+    -------
+    Indeterminacy
+
+    Raises
+    ------
+    ModelError
+        The model is inconsistent (e.g. ``plane`` asked for a frame that is
+        not plane).
+
+    Notes
+    -----
+    Formulas in the module docstring. Cost: the constraint elimination of
+    `build_dofs` (per connected group of constraint rows) plus a rank on the
+    reduced geometric system, linear in the model size for frames whose
+    members are mostly moment-connected.
+
+    Examples
+    --------
+    >>> from analysis.model import FrameBuilder, Section, Material, AnalysisOptions
+    >>> b = FrameBuilder()
+    >>> s, m = Section("s", A=1e-2, Iy=1e-4, Iz=1e-4, J=1e-5), Material("m", E=2e11)
+    >>> for k, x in enumerate((0.0, 4.0, 8.0)):
+    ...     _ = b.add_node(f"N{k}", (x, 0, 0), support="pinned" if k == 0 else "uz")
+    >>> _ = b.add_member("B1", "N0", "N1", s, m); _ = b.add_member("B2", "N1", "N2", s, m)
+    >>> r = indeterminacy(b.build(), AnalysisOptions(plane=True))
+    >>> r.kinematic, r.static, r.mechanisms
+    (5, 1, 0)
+    """
+    from .stiffness.dofs import build_dofs
+
+    if mechanism_method not in ("auto", "geometry", "stiffness"):
+        raise ValueError(f"mechanism_method {mechanism_method!r} is not one of auto, geometry, stiffness")
+    options = options or AnalysisOptions()
+    timing: dict[str, float] = {}
+    t0 = time.perf_counter()
+    dofs = build_dofs(frame, options)
+    timing["dofs"] = time.perf_counter() - t0
+
+    R = member_axes(frame) if frame.n_members else np.zeros((0, 3, 3))
+    terms, reduction_parts = _kinematic_terms(frame, dofs, R)
+    kinematic = (terms["joints"] * terms["dof_per_joint"] + terms["releases"] - terms["restraints"]
+                 - terms["constraints"] - terms["reductions"])
+    if kinematic != dofs.n_q:  # pragma: no cover - would be a bookkeeping error
+        log.error("kinematic count %d differs from the solver's unknowns %d", kinematic, dofs.n_q)
+
+    t1 = time.perf_counter()
+    m, modes, method = _mechanisms(frame, dofs, R, mechanism_method)
+    timing["mechanisms"] = time.perf_counter() - t1
+
+    static_terms = _static_terms(frame, dofs, R, reduction_parts["unattached"])
+    static_terms["mechanisms"] = m
+    static = (m + static_terms["member_forces"] + static_terms["reactions"] + static_terms["springs"]
+              + static_terms["constraint_forces"] - static_terms["equations"])
+
+    t2 = time.perf_counter()
+    redundant = tuple(_explain_redundant(frame, dofs))
+    descriptions = tuple(_describe_modes(frame, dofs, modes))
+    timing["explanations"] = time.perf_counter() - t2
+    timing["total"] = time.perf_counter() - t0
+
+    notes = _notes(terms, reduction_parts, kinematic, static, m, static_terms, redundant, descriptions, dofs)
+    log.debug("indeterminacy: kinematic %d, static %d, mechanisms %d (%s) in %.3f s",
+              kinematic, static, m, method, timing["total"])
+    return Indeterminacy(kinematic=int(kinematic), static=int(static), mechanisms=int(m), terms=terms,
+                         notes=tuple(notes), redundant=redundant, mechanism_descriptions=descriptions,
+                         static_terms=static_terms, timing=timing)
+
+
+# --------------------------------------------------------------------------- kinematic terms
+def _kinematic_terms(frame: Frame, dofs, R: np.ndarray) -> tuple[dict, dict]:
+    from .stiffness.dofs import _in_plane_rotation_mask
+
+    user_rot = frame.releases[:, :, 4:6] & ~frame.truss[:, None, None]  # (m,2,2) My, Mz
+    if dofs.plane_axis is not None and frame.n_members:
+        user_rot = user_rot & _in_plane_rotation_mask(R, dofs.plane_axis)[:, None, 4:6]
+    releases = int(user_rot.sum())
+    unattached_all = len(dofs.unattached)
+    unattached_phys = len(_physical_unattached(frame, dofs, R))
+    condensed_own = releases - dofs.n_hinges
+    terms = {
+        "joints": frame.n_nodes,
+        "dof_per_joint": dofs.dof_per_joint,
+        "releases": releases,
+        "restraints": int(dofs.restrained.sum()),
+        "constraints": int(dofs.rank),
+        "redundant_constraints": int(len(dofs.rows) - dofs.rank),
+        "reductions": int(unattached_all + condensed_own),
+    }
+    parts = {"unattached": unattached_phys, "pinned_condensed": unattached_all - unattached_phys,
+             "own_condensed": condensed_own}
+    return terms, parts
+
+
+def _physical_unattached(frame: Frame, dofs, R: np.ndarray) -> list:
+    """Joint rotations nothing attaches to, without the ``condense_pinned`` device."""
+    if not dofs.auto_released.any():
+        return list(dofs.unattached)
+    from .stiffness.dofs import _unattached_rotations
+
+    rel = frame.releases.copy()
+    rel[frame.truss, :, 4:6] = True
+    rel[frame.truss, 1, 3] = True
+    act = np.zeros(6, bool)
+    act[list(dofs.active)] = True
+    return _unattached_rotations(frame, R, rel, dofs.restrained, act)
+
+
+# --------------------------------------------------------------------------- member end-force maps
+def _end_force_map(L: float = 1.0) -> np.ndarray:
+    """(12,6): end actions (nodes on member, member axes) from the end-i actions, by equilibrium.
+
+    F_j = -F_i, M_j = -M_i + L e_x x F_i.
+    """
+    A = np.zeros((12, 6))
+    A[:6, :6] = np.eye(6)
+    A[6:9, :3] = -np.eye(3)
+    A[9:12, 3:6] = -np.eye(3)
+    A[10, 2] = -L  # (e_x x F)_y = -F_z
+    A[11, 1] = L  # (e_x x F)_z = F_y
+    return A
+
+
+def _full_releases(frame: Frame) -> np.ndarray:
+    rel = frame.releases.copy()
+    rel[frame.truss, :, 4:6] = True
+    rel[frame.truss, 1, 3] = True
+    return rel
+
+
+def _member_force_counts(frame: Frame, R: np.ndarray, plane_axis: int | None) -> np.ndarray:
+    """(m,) independent end forces each member carries, after its releases."""
+    m = frame.n_members
+    if m == 0:
+        return np.zeros(0, int)
+    rel = _full_releases(frame).reshape(m, 12)
+    A = _end_force_map()
+    if plane_axis is None:
+        keys = rel
+        base = 6
+    else:
+        nloc = np.round(R[:, :, plane_axis], 9)
+        keys = np.concatenate([rel.astype(float), nloc], axis=1)
+        base = 3
+    uniq, inverse = np.unique(keys, axis=0, return_inverse=True)
+    inverse = np.asarray(inverse).reshape(-1)
+    counts = np.empty(len(uniq), int)
+    for u, key in enumerate(uniq):
+        released = key[:12].astype(bool)
+        if plane_axis is None:
+            Ak = A
+        else:
+            n_loc = key[12:15]
+            ex = np.array([1.0, 0.0, 0.0])
+            t = np.cross(n_loc, ex)
+            P = np.zeros((6, 3))
+            P[:3, 0], P[:3, 1], P[3:, 2] = ex, t, n_loc
+            Ak = A @ P
+        rows = Ak[released]
+        rk = np.linalg.matrix_rank(rows, tol=1e-9) if rows.size else 0
+        counts[u] = base - rk
+    out = counts[inverse]
+    out[frame.truss] = 1
+    return out
+
+
+# --------------------------------------------------------------------------- static terms
+def _static_terms(frame: Frame, dofs, R: np.ndarray, unattached_phys: int) -> dict:
+    act = np.zeros(6, bool)
+    act[list(dofs.active)] = True
+    springs = int(((frame.springs > 0) & act[None, :] & ~dofs.restrained).sum())
+    return {
+        "member_forces": int(_member_force_counts(frame, R, dofs.plane_axis).sum()),
+        "reactions": int(dofs.restrained.sum()),
+        "springs": springs,
+        "constraint_forces": int(sum(1 for row in dofs.rows if row.kind != "axial")),
+        "equations": int(frame.n_nodes * dofs.dof_per_joint - unattached_phys),
+    }
+
+
+# --------------------------------------------------------------------------- mechanisms
+def _mechanisms(frame: Frame, dofs, R: np.ndarray, method: str):
+    """(count, a few mode vectors over x, method used)."""
+    if method in ("auto", "geometry"):
+        res = _geometric_mechanisms(frame, dofs, R, force=(method == "geometry"))
+        if res is not None:
+            return res[0], res[1], "geometry"
+    count, modes = _stiffness_mechanisms(frame, dofs)
+    return count, modes, "stiffness"
+
+
+def _stiffness_mechanisms(frame: Frame, dofs):
+    """Nullity of the reduced stiffness: factorise first, count zero eigenvalues only on failure."""
+    from .stiffness.analyze import Assembly, reduced_stiffness
+    from .stiffness.solvers import SingularStiffness, factorize
+
+    asm = Assembly(frame, dofs, dofs.options)
+    # condensation leaves round-off (about 1e-16 of the member's stiffness) where released actions
+    # cancel exactly; on a component only such members touch it would hide a mechanism
+    kc = asm.kc
+    big = np.abs(kc).reshape(kc.shape[0], -1).max(axis=1) if kc.shape[0] else np.zeros(0)
+    kc[np.abs(kc) < 1e-10 * big[:, None, None]] = 0.0
+    asm.K_full = asm._assemble()
+    Kxx, Kq, _ = reduced_stiffness(asm)
+    # the same round-off appears where the constraint elimination (Tᵀ K T) cancels large terms
+    Kq = sp.csr_array(Kq, copy=True)
+    Kq.data[np.abs(Kq.data) < 1e-12 * (np.abs(Kxx.data).max() if Kxx.nnz else 0.0)] = 0.0
+    Kq.eliminate_zeros()
+    n = Kq.shape[0]
+    if n == 0:
+        return 0, []
+    try:
+        factorize(Kq, dofs.options.solver)
+        return 0, []
+    except SingularStiffness:
+        pass
+    V = _stiffness_null_space(Kq)
+    modes = [dofs.T @ V[:, k] for k in range(min(V.shape[1], MAX_MODES))]
+    return int(V.shape[1]), modes
+
+
+def _stiffness_null_space(Kq) -> np.ndarray:
+    """Orthonormal-ish basis (n, m) of the null space of the PSD matrix Kq (Jacobi scaled)."""
+    import scipy.sparse.linalg as spla
+
+    n = Kq.shape[0]
+    diag = Kq.diagonal()
+    zero = np.flatnonzero(diag <= 0)
+    live = np.flatnonzero(diag > 0)
+    s = 1.0 / np.sqrt(diag[live])
+    Ks = (sp.diags_array(s) @ Kq[live][:, live] @ sp.diags_array(s)).tocsc()
+    cols = []
+    for z in zero:
+        e = np.zeros(n)
+        e[z] = 1.0
+        cols.append(e)
+    nl = live.size
+    if nl:
+        if nl <= DENSE_LIMIT:
+            w, V = scipy.linalg.eigh(Ks.toarray())
+            small = np.flatnonzero(w < RANK_TOL * max(w.max(), 1.0))
+        else:
+            k = 8
+            while True:
+                k = min(k, nl - 2)
+                w, V = spla.eigsh(Ks, k=k, sigma=-1e-6, which="LM")
+                small = np.flatnonzero(w < RANK_TOL)
+                if small.size < k or k >= nl - 2:
+                    break
+                k *= 2
+        for j in small:
+            v = np.zeros(n)
+            v[live] = V[:, j] * s
+            cols.append(v)
+    return np.array(cols).T.reshape(n, -1)
+
+
+def _skew(d: np.ndarray) -> np.ndarray:
+    return np.array([[0, -d[2], d[1]], [d[2], 0, -d[0]], [-d[1], d[0], 0]])
+
+
+def _geometric_mechanisms(frame: Frame, dofs, R: np.ndarray, force: bool = False):
+    """Mechanisms from the zero-deformation conditions, rigid clusters collapsed.
+
+    Returns (count, modes over x) or None when the reduced problem stays
+    too large to rank densely (unless ``force``).
+    """
+    from .stiffness.elements import end_transformation
+
+    n, m = frame.n_nodes, frame.n_members
+    N6 = 6 * n
+    n_h = dofs.n_hinges
+    n_joint_x = dofs.n_x - n_h
+    n_ext = N6 + n_h
+    active = np.zeros(6, bool)
+    active[list(dofs.active)] = True
+    size = max(float(np.ptp(frame.nodes, axis=0).max()) if n else 1.0, 1e-3)
+
+    # -- rigid members: no released action that the analysis sees, no own rotation
+    cond = dofs.condensed.reshape(m, 12) if m else np.zeros((0, 12), bool)
+    hs = dofs.hinge_dof.reshape(m, 12) if m else np.zeros((0, 12), int)
+    seen = _seen_actions(R, dofs.plane_axis)  # (m,12) actions the analysis carries
+    rigid = ~frame.truss & ~(cond & seen).any(axis=1) & ~(hs >= 0).any(axis=1)
+
+    # -- clusters of nodes moving as one rigid body in a zero-energy motion
+    ei = list(frame.members[rigid, 0])
+    ej = list(frame.members[rigid, 1])
+    for body in frame.rigid_bodies:
+        idx = [frame.node_index(x) for x in dict.fromkeys(body.nodes)]
+        ei += [idx[0]] * (len(idx) - 1)
+        ej += idx[1:]
+    g = sp.coo_array((np.ones(len(ei)), (np.array(ei, int), np.array(ej, int))), shape=(n, n))
+    _, lab = connected_components(g, directed=False)
+    sizes = np.bincount(lab, minlength=lab.max() + 1 if n else 0)
+    in_cluster = sizes[lab] > 1
+
+    # -- reduced columns: per cluster the master's active components; singletons' free
+    #    components; own end rotations
+    col_rows, col_cols, col_vals = [], [], []
+    act_list = list(dofs.active)
+    nc = 0
+    col_is_rot: list[bool] = []
+    master = {}
+    for k in np.flatnonzero(in_cluster):
+        c = lab[k]
+        if c not in master:
+            master[c] = (k, nc)
+            nc += len(act_list)
+            col_is_rot += [a >= 3 for a in act_list]
+    if master:
+        ks = np.flatnonzero(in_cluster)
+        for k in ks:
+            mk, c0 = master[lab[k]]
+            d = frame.nodes[k] - frame.nodes[mk]
+            S = np.eye(6)
+            S[:3, 3:] = -_skew(d)
+            sub = S[np.ix_(act_list, act_list)]
+            r, q = np.nonzero(np.abs(sub) > 0)
+            col_rows += list(6 * k + np.array(act_list)[r])
+            col_cols += list(c0 + q)
+            col_vals += list(sub[r, q])
+    single = ~in_cluster
+    nd = dofs.node_dof.copy()
+    nd[~single] = -1
+    fr = np.argwhere(nd >= 0)
+    col_rows += list(6 * fr[:, 0] + fr[:, 1])
+    col_cols += list(nc + np.arange(len(fr)))
+    col_vals += [1.0] * len(fr)
+    col_is_rot += list(fr[:, 1] >= 3)
+    nc += len(fr)
+    h = dofs.hinge_dof.reshape(-1)
+    hk = h[h >= 0]
+    col_rows += list(N6 + (hk - n_joint_x))
+    col_cols += list(nc + np.arange(hk.size))
+    col_vals += [1.0] * hk.size
+    col_is_rot += [True] * hk.size
+    nc += hk.size
+    Tc = sp.coo_array((np.array(col_vals, float), (np.array(col_rows, int), np.array(col_cols, int))),
+                      shape=(n_ext, nc)).tocsr()
+    if nc == 0:
+        return 0, []
+
+    # -- rows over ext: members (non-rigid), springs, restraints of cluster nodes, constraints
+    blocks = []
+    nonrigid = np.flatnonzero(~rigid)
+    if nonrigid.size:
+        blocks.append(_member_rows(frame, dofs, R, nonrigid, N6, n_joint_x, n_ext))
+    spring = (frame.springs > 0) & active[None, :] & ~dofs.restrained
+    held = dofs.restrained & in_cluster[:, None]
+    for mask in (spring, held):
+        idx = np.flatnonzero(mask.reshape(-1))
+        if idx.size:
+            blocks.append(sp.coo_array((np.ones(idx.size), (np.arange(idx.size), idx)), shape=(idx.size, n_ext)).tocsr())
+    if dofs.C.shape[0]:
+        Cx = dofs.C.tocoo()
+        x_ext = _x_to_ext(dofs, N6, n_joint_x)
+        Cext = sp.coo_array((Cx.data, (Cx.row, x_ext[Cx.col])), shape=(dofs.C.shape[0], n_ext)).tocsr()
+        Cr = dofs.C_r.tocoo()
+        Cext = Cext + sp.coo_array((Cr.data, (Cr.row, Cr.col)), shape=(dofs.C.shape[0], n_ext)).tocsr()
+        blocks.append(Cext)
+    if not blocks:
+        M = sp.csr_array((0, nc))
+    else:
+        Mext = sp.vstack(blocks).tocsr()
+        rn = np.asarray(abs(Mext).max(axis=1).todense()).reshape(-1)
+        rn[rn == 0] = 1.0
+        Mext = sp.diags_array(1.0 / rn) @ Mext
+        cs = np.where(np.array(col_is_rot, bool), 1.0 / size, 1.0)
+        M = (Mext @ Tc @ sp.diags_array(cs)).tocsr()
+        M.data[np.abs(M.data) < 1e-11] = 0.0
+        M.eliminate_zeros()
+        keep = np.flatnonzero(np.diff(M.indptr) > 0)
+        M = M[keep]
+    return _nullity(M, Tc, dofs, N6, n_joint_x, size, col_is_rot, force)
+
+
+def _seen_actions(R: np.ndarray, plane_axis: int | None) -> np.ndarray:
+    """(m,12) True for the member end actions a plane (or space) analysis carries."""
+    m = R.shape[0]
+    if plane_axis is None:
+        return np.ones((m, 12), bool)
+    comp = np.abs(R[:, :, plane_axis])  # (m,3) local axis vs plane normal
+    force_in = comp < 1 - 1e-9
+    moment_in = comp > 1e-9
+    one = np.concatenate([force_in, moment_in], axis=1)
+    return np.concatenate([one, one], axis=1)
+
+
+def _x_to_ext(dofs, N6: int, n_joint_x: int) -> np.ndarray:
+    x_ext = np.empty(dofs.n_x, dtype=np.int64)
+    nd = dofs.node_dof.reshape(-1)
+    sel = nd >= 0
+    x_ext[nd[sel]] = np.flatnonzero(sel)
+    h = dofs.hinge_dof.reshape(-1)
+    hs = h[h >= 0]
+    x_ext[hs] = N6 + (hs - n_joint_x)
+    return x_ext
+
+
+def _member_rows(frame: Frame, dofs, R, members: np.ndarray, N6: int, n_joint_x: int, n_ext: int):
+    """Zero-deformation rows (over ext) of the given members, grouped by release pattern."""
+    from .stiffness.elements import end_transformation
+
+    L = member_lengths(frame)[members]
+    Te = end_transformation(R[members], frame.offsets[members])  # (g,12,12)
+    cond = dofs.condensed.reshape(-1, 12)[members]
+    if frame.truss[members].any():  # truss: only the axial force is carried
+        tr = frame.truss[members]
+        cond[tr] = True
+        cond[tr, 0] = cond[tr, 6] = False
+    hs = dofs.hinge_dof.reshape(-1, 12)[members]
+    i = frame.members[members, 0].astype(np.int64)
+    j = frame.members[members, 1].astype(np.int64)
+    comp = np.arange(6)
+    idx = np.concatenate([6 * i[:, None] + comp, 6 * j[:, None] + comp], axis=1)  # (g,12)
+    hidx = np.where(hs >= 0, N6 + (hs - n_joint_x), -1)
+    A1 = _end_force_map(1.0)
+    dscale = np.array([1, 1, 1, 0, 0, 0, 1, 1, 1, 0, 0, 0], float)
+    uniq, inverse = np.unique(cond, axis=0, return_inverse=True)
+    inverse = np.asarray(inverse).reshape(-1)
+    rr, cc, vv = [], [], []
+    r0 = 0
+    for u, pattern in enumerate(uniq):
+        sel = np.flatnonzero(inverse == u)
+        rows = A1[pattern]
+        N = scipy.linalg.null_space(rows) if rows.size else np.eye(6)
+        if N.shape[1] == 0:
+            continue
+        W1 = (A1 @ N).T  # (p,12) in member axes, for L = 1
+        p = W1.shape[0]
+        D = np.where(dscale[None, :] > 0, 1.0 / L[sel, None], 1.0)  # (g,12)
+        W = W1[None, :, :] * D[:, None, :]  # (g,p,12)
+        Wn = W @ Te[sel]  # (g,p,12) over node comps
+        g = sel.size
+        rows_idx = r0 + np.arange(g * p).reshape(g, p)
+        rr.append(np.repeat(rows_idx[:, :, None], 12, axis=2).ravel())
+        cc.append(np.broadcast_to(idx[sel][:, None, :], (g, p, 12)).ravel())
+        vv.append(Wn.ravel())
+        kept = hidx[sel] >= 0
+        if kept.any():  # own end rotations: the local rotation adds the hinge's own rotation
+            gk, slot = np.nonzero(kept)
+            for q in range(p):
+                rr.append(rows_idx[gk, q])
+                cc.append(hidx[sel][gk, slot])
+                vv.append(W[gk, q, slot])
+        r0 += g * p
+    if not rr:
+        return sp.csr_array((0, n_ext))
+    r = np.concatenate(rr)
+    c = np.concatenate(cc)
+    v = np.concatenate(vv)
+    keep = v != 0
+    return sp.coo_array((v[keep], (r[keep], c[keep])), shape=(r0, n_ext)).tocsr()
+
+
+def _nullity(M: sp.csr_array, Tc, dofs, N6, n_joint_x, size, col_is_rot, force):
+    """Null space dimension of M (rows x reduced columns) per connected block; a few modes."""
+    r, nc = M.shape
+    coo = M.tocoo()
+    g = sp.coo_array((np.ones(coo.nnz), (coo.row, r + coo.col)), shape=(r + nc, r + nc))
+    ncomp, lab = connected_components(g, directed=False)
+    row_lab, col_lab = lab[:r], lab[r:]
+    col_order = np.argsort(col_lab, kind="stable")
+    cb = np.searchsorted(col_lab[col_order], np.arange(ncomp + 1))
+    row_order = np.argsort(row_lab, kind="stable")
+    rb = np.searchsorted(row_lab[row_order], np.arange(ncomp + 1))
+    if not force:
+        biggest = int(np.diff(cb).max()) if ncomp else 0
+        if biggest > DENSE_LIMIT:
+            return None
+    count = 0
+    modes_red: list[np.ndarray] = []
+    for comp in range(ncomp):
+        cidx = col_order[cb[comp]:cb[comp + 1]]
+        if cidx.size == 0:
+            continue
+        ridx = row_order[rb[comp]:rb[comp + 1]]
+        if ridx.size == 0:
+            null = np.eye(cidx.size)
+        else:
+            B = M[ridx][:, cidx].toarray()
+            null = _dense_null(B)
+        if null.shape[1]:
+            count += null.shape[1]
+            if len(modes_red) < MAX_MODES:
+                null = _localise(null)
+                for q in range(min(null.shape[1], MAX_MODES - len(modes_red))):
+                    v = np.zeros(nc)
+                    v[cidx] = null[:, q]
+                    modes_red.append(v)
+    cs = np.where(np.array(col_is_rot, bool), 1.0 / size, 1.0)
+    x_ext = _x_to_ext(dofs, N6, n_joint_x)
+    modes = [(Tc @ (cs * v))[x_ext] for v in modes_red]
+    return count, modes
+
+
+def _dense_null(B: np.ndarray) -> np.ndarray:
+    """Null space basis (cols, k) of B, reducing tall blocks by QR first."""
+    rows, cols = B.shape
+    if rows > 2 * cols:
+        Rr = None
+        step = max(4 * cols, 256)
+        for s0 in range(0, rows, step):
+            chunk = B[s0:s0 + step] if Rr is None else np.vstack([Rr, B[s0:s0 + step]])
+            Rr = scipy.linalg.qr(chunk, mode="r")[0][: min(chunk.shape)]
+        B = Rr
+    _, sv, Vt = np.linalg.svd(B, full_matrices=True)
+    top = sv.max() if sv.size else 0.0
+    rank = int((sv > RANK_TOL * max(top, 1e-300)).sum()) if top > 0 else 0
+    return Vt[rank:].T
+
+
+def _localise(N: np.ndarray) -> np.ndarray:
+    """A basis of the same space where each mode has its own pivot component (readable modes)."""
+    if N.shape[1] <= 1:
+        return N
+    _, _, piv = scipy.linalg.qr(N.T, pivoting=True)
+    P = piv[: N.shape[1]]
+    try:
+        return N @ np.linalg.inv(N[P])
+    except np.linalg.LinAlgError:  # pragma: no cover
+        return N
+
+
+def _describe_modes(frame: Frame, dofs, modes: list[np.ndarray]) -> list[str]:
+    from .stiffness.analyze import describe_mechanism
+
+    if not modes:
+        return []
+    N6 = 6 * frame.n_nodes
+    n_joint_x = dofs.n_x - dofs.n_hinges
+    asm = types.SimpleNamespace(frame=frame, dofs=dofs, N6=N6, n_ext=N6 + dofs.n_hinges,
+                                x_ext=_x_to_ext(dofs, N6, n_joint_x))
+    out = []
+    for x in modes:
+        text = _rigid_motion_text(frame, dofs, asm, x)
+        out.append(text or describe_mechanism(asm, x))
+    return out
+
+
+def _rigid_motion_text(frame, dofs, asm, x) -> str | None:
+    """'the whole structure can move as a rigid body ...' when the mode is one."""
+    n = frame.n_nodes
+    u = np.zeros(asm.n_ext)
+    u[asm.x_ext] = x
+    nodal = u[: asm.N6].reshape(n, 6)
+    moving = np.abs(nodal).max(axis=1) > 1e-9 * max(np.abs(nodal).max(), 1e-300)
+    if not moving.all() or n < 2:
+        return None
+    # fit a rigid motion to the node translations and rotations
+    rows, rhs = [], []
+    for k in range(n):
+        S = np.zeros((6, 6))
+        S[:3, :3] = np.eye(3)
+        S[:3, 3:] = -_skew(frame.nodes[k])
+        S[3:, 3:] = np.eye(3)
+        for c in dofs.active:
+            if dofs.node_dof[k, c] >= 0:
+                rows.append(S[c])
+                rhs.append(nodal[k, c])
+    if not rows:
+        return None
+    A = np.array(rows)
+    b = np.array(rhs)
+    sol = np.linalg.lstsq(A, b, rcond=None)[0]
+    if np.linalg.norm(A @ sol - b) > 1e-6 * np.linalg.norm(b):
+        return None
+    t, w = sol[:3], sol[3:]
+    parts = []
+    if np.linalg.norm(t) > 1e-9 * np.linalg.norm(sol) and np.linalg.norm(w) < 1e-9 * max(np.linalg.norm(t), 1e-300):
+        direction = ", ".join(f"{_AXIS[a]}" for a in range(3) if abs(t[a]) > 0.2 * np.abs(t).max())
+        parts.append(f"slide in {direction}")
+    else:
+        axis = ", ".join(f"{_AXIS[a]}" for a in range(3) if abs(w[a]) > 0.2 * np.abs(w).max())
+        parts.append(f"turn about an axis along {axis}")
+    return (f"the whole structure can {parts[0]} as a rigid body: the supports do not hold it "
+            f"in that direction")
+
+
+# --------------------------------------------------------------------------- explanations
+_DIR_WORDS = {0: "in X", 1: "in Y", 2: "in Z", 3: "in rotation about X", 4: "in rotation about Y",
+              5: "in rotation about Z"}
+
+
+def _explain_redundant(frame: Frame, dofs) -> list[str]:
+    """One sentence per redundant constraint row, naming what it duplicates."""
+    red = list(dofs.redundant_rows)
+    if not red:
+        return []
+    red_set = set(red)
+    group_of: dict[int, int] = {}
+    for gi, (ridx, _) in enumerate(dofs.groups):
+        for r in ridx:
+            group_of[int(r)] = gi
+    from .stiffness.dofs import _column_scale
+
+    scale = _column_scale(frame, dofs.node_dof, dofs.hinge_dof, dofs.n_x)
+    C_r = dofs.C_r.tocsr()
+    out = []
+    dense_cache: dict[int, np.ndarray] = {}
+    for r in red[:MAX_EXPLAINED]:
+        row = dofs.rows[r]
+        coeffs: list[tuple[int, float]] = []
+        if r in group_of:
+            gi = group_of[r]
+            ridx, cidx = dofs.groups[gi]
+            if gi not in dense_cache:
+                dense_cache[gi] = dofs.C[ridx][:, cidx].toarray() * scale[cidx][None, :]
+            M = dense_cache[gi]
+            pos = int(np.flatnonzero(ridx == r)[0])
+            earlier = [k for k in range(pos) if int(ridx[k]) not in red_set]
+            if earlier:
+                a = np.linalg.lstsq(M[earlier].T, M[pos], rcond=None)[0]
+                norms = np.linalg.norm(M[earlier], axis=1) * np.abs(a)
+                ref = max(np.linalg.norm(M[pos]), 1e-300)
+                coeffs = [(int(ridx[earlier[k]]), float(a[k])) for k in range(len(earlier)) if norms[k] > 1e-8 * ref]
+        resid = C_r[[r]].toarray().reshape(-1)
+        for q, a in coeffs:
+            resid = resid - a * C_r[[q]].toarray().reshape(-1)
+        ref = max(np.abs(C_r[[r]].toarray()).max(), np.abs(resid).max(), 1e-300)
+        supports = np.flatnonzero(np.abs(resid) > 1e-8 * ref)
+        out.append(_sentence(frame, dofs, row, [dofs.rows[q] for q, _ in coeffs], supports))
+    if len(red) > MAX_EXPLAINED:
+        out.append(f"... and {len(red) - MAX_EXPLAINED} more redundant constraints")
+    return out
+
+
+def _sentence(frame: Frame, dofs, row, others, supports: np.ndarray) -> str:
+    parts = []
+    by_node: dict[int, list[int]] = {}
+    for s in supports:
+        by_node.setdefault(int(s) // 6, []).append(int(s) % 6)
+    for node, comps in by_node.items():
+        kind = _support_kind(dofs, node)
+        parts.append(f"the {kind}support of node {frame.node_labels[node]} (holding it {_held_words(dofs, comps)})")
+    for o in others:
+        if o.kind == "axial":
+            k = frame.member_index(o.owner)
+            parts.append(f"member {frame.member_labels[k]} (axially rigid)")
+        else:
+            parts.append(f"the {o.label}")
+    if not parts:
+        return f"the {row.label} adds nothing: it constrains nothing the analysis keeps as an unknown"
+    nodes = [frame.node_labels[k] for k in dict.fromkeys(row.nodes)]
+    what = "node " + nodes[0] if len(nodes) == 1 else "nodes " + " and ".join(nodes)
+    how = "the movement of " + what + " along it" if row.kind == "axial" else "the relative movement of " + what
+    return f"the {row.label} adds nothing: {how} is already fixed by {_join(parts)}"
+
+
+def _support_kind(dofs, node: int) -> str:
+    held = dofs.restrained[node]
+    act = list(dofs.active)
+    trans = [c for c in act if c < 3]
+    rot = [c for c in act if c >= 3]
+    nt = int(held[trans].sum())
+    nr = int(held[rot].sum())
+    if nt == len(trans) and nr == len(rot):
+        return "fixed "
+    if nt == len(trans) and nr == 0:
+        return "pin "
+    if nr == 0 and 0 < nt < len(trans):
+        return "roller "
+    return ""
+
+
+def _held_words(dofs, comps: list[int]) -> str:
+    words = []
+    for c in comps:
+        if dofs.plane_axis is not None and c < 3:
+            vertical = c == 2 or (dofs.plane_axis == 2 and c == 1)
+            words.append("vertically" if vertical else "horizontally")
+        else:
+            words.append(_DIR_WORDS[c])
+    return " and ".join(words)
+
+
+def _join(parts: list[str]) -> str:
+    if len(parts) == 1:
+        return parts[0]
+    return ", ".join(parts[:-1]) + " and " + parts[-1]
+
+
+# --------------------------------------------------------------------------- notes
+def _notes(terms, parts, kinematic, static, m, st, redundant, descriptions, dofs) -> list[str]:
+    t = terms
+    notes = [
+        (f"kinematic = joints x DOF per joint + releases - restraints - constraints - reductions = "
+         f"{t['joints']} x {t['dof_per_joint']} + {t['releases']} - {t['restraints']} - {t['constraints']} - "
+         f"{t['reductions']} = {kinematic}"),
+    ]
+    red = []
+    if parts["unattached"]:
+        red.append(f"{parts['unattached']} joint rotations nothing attaches to (pin-jointed truss joints, "
+                   f"joints where every member is hinged)")
+    if parts["own_condensed"]:
+        red.append(f"{parts['own_condensed']} own end rotations of hinged member ends condensed out")
+    if parts["pinned_condensed"]:
+        red.append(f"{parts['pinned_condensed']} rotations at pinned ends condensed out")
+    if red:
+        notes.append("reductions: " + "; ".join(red))
+    if t["releases"]:
+        notes.append(f"releases: {t['releases']} hinged member ends turn on their own (one unknown each)")
+    if t["redundant_constraints"]:
+        notes.append(f"{t['redundant_constraints']} constraints are redundant and not counted:")
+        notes += redundant
+    notes.append(
+        f"static = mechanisms + member forces + reactions + spring reactions + constraint forces - equations = "
+        f"{m} + {st['member_forces']} + {st['reactions']} + {st['springs']} + {st['constraint_forces']} - "
+        f"{st['equations']} = {static}")
+    if st["springs"]:
+        notes.append(f"{st['springs']} spring supports carry a reaction, so they count as redundants in the "
+                     f"static count; they restrain nothing in the kinematic count")
+    if m:
+        notes.append(f"the structure is unstable: {m} independent mechanism{'s' if m != 1 else ''}")
+        notes += descriptions
+        if m > len(descriptions):
+            notes.append(f"... and {m - len(descriptions)} more mechanisms")
+    return notes
