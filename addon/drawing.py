@@ -591,14 +591,16 @@ def draw_diagram(scene, results, case: str, quantity: str, scale: float = 0.0, m
         for a in range(n - 1):
             if s[a + 1] - s[a] <= 0 and v[a + 1] == v[a]:
                 continue
-            loops += [first + a, first + a + 1, first + n + a + 1, first + n + a]
-            sizes.append(4)
             mean = 0.5 * (v[a] + v[a + 1])
+            quad = [first + a, first + a + 1, first + n + a + 1, first + n + a]
+            loops += quad if mean >= 0 else quad[::-1]  # one winding: every face's normal on the same side
+            sizes.append(4)
             colours.append(_SIGN_COLOURS[0 if mean >= 0 else 1])
             values.append(mean)
         at = int(np.argmax(np.abs(v)))
         if abs(v[at]) > 0.02 * peak:
-            away = _diagram_direction(quantity, R[k]) * np.sign(v[at]) * 0.02 * ext
+            # a little beyond the tip, and a little towards -Y so that a front view shows it before the fill
+            away = _diagram_direction(quantity, R[k]) * np.sign(v[at]) * 0.02 * ext + np.array([0.0, -0.01 * ext, 0.0])
             extremes.append((abs(v[at]), float(v[at]), tip[at] + away, frame.member_ids[k]))
     allv = np.concatenate(verts) if verts else np.zeros((0, 3))
     me = _mesh(f"PF diagram {quantity} {case}", allv, np.array(loops, np.int32), np.array(sizes, np.int32),
@@ -611,7 +613,11 @@ def draw_diagram(scene, results, case: str, quantity: str, scale: float = 0.0, m
     obj["pf_scale"] = scale
     obj["pf_peak"] = peak
     size = 0.022 * ext
-    for _, value, where, mid in sorted(extremes, key=lambda e: -e[0])[:max_labels]:
+    placed: list[np.ndarray] = []
+    for _, value, where, mid in sorted(extremes, key=lambda e: -e[0]):
+        if len(placed) >= max_labels or any(np.linalg.norm(where - p) < 6 * size for p in placed):
+            continue  # keep labels apart: the larger value wins
+        placed.append(where)
         label = _text(f"PF value {quantity} {mid}", readout.format_value(quantity, value), size, tuple(where), coll)
         label["pf_kind"] = "diagram value"
         label["pf_id"] = mid

@@ -10,6 +10,7 @@ carrying the same message.
 from __future__ import annotations
 
 import os
+import types
 
 import bpy
 from bpy.props import BoolProperty, StringProperty
@@ -140,7 +141,7 @@ class PLUMBFRAME_OT_check(bpy.types.Operator):
             if line.strip():
                 self.report({"INFO"}, line)
         if ind.mechanisms:
-            shapes = _mechanism_shapes(ind)
+            shapes = _mechanism_shapes(ind, s.frame, _options(_settings(context)))
             for k, (motion, text) in enumerate(shapes):
                 drawing.draw_mechanism(scene, s.frame, motion, index=k, text=text)
             self.report({"WARNING"}, f"unstable: {ind.mechanisms} independent mechanism(s)"
@@ -151,10 +152,24 @@ class PLUMBFRAME_OT_check(bpy.types.Operator):
         return {"FINISHED"}
 
 
-def _mechanism_shapes(ind) -> list[tuple[object, str]]:
-    """(nodal motion (n,6), description) of each mechanism the count found."""
-    modes = getattr(ind, "mechanism_modes", None) or ()
-    texts = list(getattr(ind, "mechanism_descriptions", None) or ())
+def _mechanism_shapes(ind, frame, options) -> list[tuple[object, str]]:
+    """(nodal motion (n,6), description) of each mechanism the count found.
+
+    Uses the modes the count carries (``mechanism_modes``) when it has them,
+    else asks the stiffness module's public `find_mechanisms` for them.
+    """
+    import numpy as np
+
+    texts = list(getattr(ind, "mechanism_descriptions", ()) or ())
+    modes = list(getattr(ind, "mechanism_modes", ()) or ())
+    if not modes:
+        stiffness = engine("stiffness.analyze")
+        dofs, asm = stiffness.assemble(frame, options)
+        _, Kq, _ = stiffness.reduced_stiffness(asm)
+        for x in stiffness.find_mechanisms(asm, Kq, limit=max(1, min(int(ind.mechanisms), 6))):
+            u = np.zeros(asm.n_ext)
+            u[asm.x_ext] = x
+            modes.append(u[: asm.N6].reshape(frame.n_nodes, 6))
     return [(m, texts[k] if k < len(texts) else "") for k, m in enumerate(modes)]
 
 
@@ -183,6 +198,11 @@ class PLUMBFRAME_OT_analyze(bpy.types.Operator):
         try:
             results = engine().analyze(s.frame, options, progress=progress)
         except analysis_error() as exc:
+            if isinstance(exc, engine("errors").UnstableStructureError):
+                count = types.SimpleNamespace(mechanisms=max(1, len(exc.mechanisms)),
+                                              mechanism_descriptions=exc.mechanisms)
+                for k, (motion, text) in enumerate(_mechanism_shapes(count, s.frame, options)):
+                    drawing.draw_mechanism(context.scene, s.frame, motion, index=k, text=text)
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}
         finally:
@@ -341,7 +361,11 @@ class PLUMBFRAME_OT_write_ifc(bpy.types.Operator):
             return {"CANCELLED"}
         _settings(context).output_path = out
         context.scene["pf_written"] = out
-        self.report({"INFO"}, f"results written to {out}" + (f" ({summary})" if summary else ""))
+        for note in getattr(summary, "notes", ()) or ():
+            self.report({"INFO"}, str(note))
+        self.report({"INFO"}, f"results written to {out}: {getattr(summary, 'result_groups', 0)} result groups, "
+                              f"{getattr(summary, 'point_reactions', 0) + getattr(summary, 'curve_reactions', 0)} "
+                              f"reactions, {getattr(summary, 'property_sets', 0)} property sets")
         return {"FINISHED"}
 
 

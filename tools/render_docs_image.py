@@ -70,9 +70,10 @@ def _frame_camera(bpy, scene, objects, direction=(0.45, -1.0, 0.32)) -> None:
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--model", default="workshop_portal", help="sample model name (sample_models/<name>.ifc)")
-    parser.add_argument("--case", default="", help="load case or combination (default: the last combination)")
+    parser.add_argument("--case", default="", help="load case or combination (default: the first combination)")
     parser.add_argument("--out", type=pathlib.Path, default=ROOT / "docs" / "images" / "addon_render.png")
     parser.add_argument("--zip", type=pathlib.Path, help="use this extension zip instead of building one")
+    parser.add_argument("--plane", default="AUTO", choices=("AUTO", "PLANE", "SPACE"), help="frame type")
     parser.add_argument("--size", default="1400x900", help="resolution WxH")
     args = parser.parse_args(argv)
 
@@ -88,10 +89,12 @@ def main(argv=None) -> int:
         scene = bpy.context.scene
         settings = scene.plumbframe
         settings.ifc_path = str(ROOT / "sample_models" / f"{args.model}.ifc")
+        settings.plane = args.plane
         bpy.ops.plumbframe.load_ifc()
         bpy.ops.plumbframe.analyze()
-        cases = list(scene["pf_cases"])
-        settings.case = args.case or cases[-1]
+        results = sys.modules["bl_ext.user_default.plumbframe"].engine.session(scene).results
+        combos = [name for name, cr in results.cases.items() if cr.kind == "combination"]
+        settings.case = args.case or (combos or list(results.cases))[0]
         settings.colour_quantity = "My"
         settings.diagram_quantity = "My"
         bpy.ops.plumbframe.colour_members()
