@@ -192,6 +192,13 @@ def _same_file(a: str, b: str) -> bool:
     return os.path.abspath(a) == os.path.abspath(b)
 
 
+def _public_mode(path: str) -> None:
+    """Give a temporary file the mode a normally created file would have (mkstemp makes it 0600)."""
+    mask = os.umask(0)
+    os.umask(mask)
+    os.chmod(path, 0o666 & ~mask)
+
+
 def _atomic_write(f, out_path: str) -> None:
     folder = os.path.dirname(os.path.abspath(out_path))
     suffix = os.path.splitext(out_path)[1] or ".ifc"
@@ -202,6 +209,7 @@ def _atomic_write(f, out_path: str) -> None:
     os.close(fd)
     try:
         f.write(tmp)
+        _public_mode(tmp)
         os.replace(tmp, out_path)
     except OSError as exc:
         raise AnalysisError(f"{out_path}: cannot be written ({exc.strerror or exc})") from None

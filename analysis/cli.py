@@ -1,0 +1,613 @@
+"""The ``plumbframe`` command: check, analyse and write results back into the IFC model.
+
+Exit codes: 0 success, 2 bad input (unreadable file, missing data, bad
+options, unwritable output), 3 unstable model (a mechanism), 1 an internal
+error (a bug: please report it with the ``--verbose`` traceback).
+
+This is the only module of the engine that talks to the user.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import logging
+import math
+import os
+import sys
+import tempfile
+import time
+import traceback
+from typing import Any, Sequence
+
+__all__ = ["main", "build_parser", "summary_table", "EXIT_OK", "EXIT_BAD_INPUT", "EXIT_UNSTABLE"]
+
+EXIT_OK = 0
+EXIT_INTERNAL = 1
+EXIT_BAD_INPUT = 2
+EXIT_UNSTABLE = 3
+
+CAUTION = ("Results are an aid to a qualified engineer: check them, design to the local code, "
+           "and have the design reviewed by a licensed engineer.")
+
+_CHECK_EPILOG = """\
+examples:
+  plumbframe check office.ifc
+  plumbframe check office.ifc --plane --json counts.json
+  plumbframe check office.ifc --model "Frame A" --condense-pinned
+
+exit codes: 0 stable, 2 bad input, 3 unstable (a mechanism)
+"""
+
+_ANALYZE_EPILOG = """\
+examples:
+  plumbframe analyze portal.ifc                      # writes portal.results.ifc beside the input
+  plumbframe analyze portal.ifc -o out.ifc --json results.json --report report.html
+  plumbframe analyze truss.ifc --plane --quiet
+  plumbframe analyze office.ifc --merge-tolerance 0.02 --inextensible
+
+exit codes: 0 done, 2 bad input, 3 unstable (nothing is written)
+"""
+
+_SAMPLE_EPILOG = """\
+examples:
+  plumbframe sample --list
+  plumbframe sample workshop_portal -o portal.ifc
+"""
+
+_MAIN_EPILOG = """\
+commands:
+  check     counts, stability and mechanisms of the analytical model
+  analyze   analyse every load case and combination; write results back into a copy of the IFC
+  sample    write one of the bundled sample models
+
+examples:
+  plumbframe sample workshop_portal -o portal.ifc
+  plumbframe check portal.ifc
+  plumbframe analyze portal.ifc --json results.json --report report.html
+
+""" + CAUTION
+
+
+# --------------------------------------------------------------------------- console
+class _Console:
+    """Messages to stdout, problems and progress to stderr; progress only on a terminal."""
+
+    def __init__(self, quiet: bool = False, verbose: bool = False, out=None, err=None):
+        self.quiet, self.verbose = quiet, verbose
+        self.out = out or sys.stdout
+        self.err = err or sys.stderr
+        self.tty = bool(getattr(self.err, "isatty", lambda: False)()) and not quiet
+        self._step_started: float | None = None
+        self._last = ""
+
+    def say(self, text: str = "") -> None:
+        if not self.quiet:
+            self._clear()
+            print(text, file=self.out)
+
+    def info(self, text: str) -> None:
+        if self.verbose:
+            self._clear()
+            print(text, file=self.err)
+
+    def warn(self, text: str) -> None:
+        self._clear()
+        print(f"warning: {text}", file=self.err)
+
+    def error(self, text: str) -> None:
+        self._clear()
+        print(f"plumbframe: error: {text}", file=self.err)
+
+    def progress(self, step: str) -> None:
+        """One step of a long job; shown as a single updating line on a terminal."""
+        if self.verbose:
+            print(f"... {step}", file=self.err)
+            return
+        if not self.tty:
+            return
+        line = f"\r  {step} ..."
+        pad = max(0, len(self._last) - len(line))
+        self.err.write(line + " " * pad)
+        self.err.flush()
+        self._last = line
+
+    def _clear(self) -> None:
+        if self._last and self.tty:
+            self.err.write("\r" + " " * len(self._last) + "\r")
+            self.err.flush()
+            self._last = ""
+
+
+# --------------------------------------------------------------------------- parser
+def _version() -> str:
+    from . import __version__
+
+    return __version__
+
+
+def _add_common(p: argparse.ArgumentParser) -> None:
+    g = p.add_argument_group("reading the model")
+    g.add_argument("--model", metavar="NAME", help="which IfcStructuralAnalysisModel to use (name or GlobalId) "
+                   "when the file holds several")
+    g.add_argument("--merge-tolerance", type=float, default=0.01, metavar="M",
+                   help="distance in metres within which physical member ends are joined (default 0.01)")
+    g = p.add_argument_group("idealisation (whole model; a per-member property can override)")
+    g.add_argument("--inextensible", action="store_true", help="members axially rigid")
+    g.add_argument("--condense-pinned", action="store_true", help="reduce rotations at pinned ends out of the unknowns")
+    g.add_argument("--plane", action="store_true", help="plane-frame analysis in the frame's own plane (3 unknowns per joint)")
+    g.add_argument("--shear", action="store_true", help="include shear deformation (default: Euler-Bernoulli members)")
+    g.add_argument("--solver", choices=("auto", "cholmod", "pardiso", "superlu"), default="auto",
+                   help="sparse solver (default auto: the fastest installed)")
+    g = p.add_argument_group("output")
+    v = g.add_mutually_exclusive_group()
+    v.add_argument("-q", "--quiet", action="store_true", help="print only errors")
+    v.add_argument("-v", "--verbose", action="store_true", help="log each step; show tracebacks")
+
+
+def build_parser() -> argparse.ArgumentParser:
+    fmt = argparse.RawDescriptionHelpFormatter
+    parser = argparse.ArgumentParser(
+        prog="plumbframe", formatter_class=fmt,
+        description="Structural analysis of frames inside the building's IFC model.",
+        epilog=_MAIN_EPILOG)
+    parser.add_argument("--version", action="version", version=f"plumbframe {_version()}")
+    sub = parser.add_subparsers(dest="command", metavar="COMMAND")
+
+    p = sub.add_parser("check", formatter_class=fmt, epilog=_CHECK_EPILOG,
+                       help="counts, stability and mechanisms",
+                       description="Read the analytical model and report its kinematic and static indeterminacy, "
+                                   "which constraints count and which are redundant, and any mechanism.")
+    p.add_argument("input", metavar="MODEL.ifc")
+    p.add_argument("--json", metavar="FILE", help="also write the counts as plumbframe.results/1 JSON (no cases)")
+    _add_common(p)
+
+    p = sub.add_parser("analyze", aliases=["analyse"], formatter_class=fmt, epilog=_ANALYZE_EPILOG,
+                       help="analyse and write results back",
+                       description="Analyse every load case and combination and write the results into a copy of "
+                                   "the IFC file (result groups, reactions, internal forces, PF_ property sets).")
+    p.add_argument("input", metavar="MODEL.ifc")
+    p.add_argument("-o", "--output", metavar="OUT.ifc", help="where the IFC with results goes "
+                   "(default: MODEL.results.ifc beside the input)")
+    p.add_argument("--json", metavar="RESULTS.json", help="also write the results as plumbframe.results/1 JSON")
+    p.add_argument("--report", metavar="REPORT.html", help="also write a self-contained HTML report")
+    p.add_argument("--overwrite-input", action="store_true",
+                   help="allow -o to name the input file itself (it is never overwritten otherwise)")
+    _add_common(p)
+
+    p = sub.add_parser("sample", formatter_class=fmt, epilog=_SAMPLE_EPILOG, help="write a bundled sample model",
+                       description="Write one of the bundled sample IFC models.")
+    p.add_argument("name", nargs="?", metavar="NAME")
+    p.add_argument("-o", "--output", metavar="FILE.ifc")
+    p.add_argument("--list", action="store_true", help="list the sample names and exit")
+    v = p.add_mutually_exclusive_group()
+    v.add_argument("-q", "--quiet", action="store_true", help="print only errors")
+    v.add_argument("-v", "--verbose", action="store_true", help="show tracebacks")
+    return parser
+
+
+# --------------------------------------------------------------------------- entry point
+def main(argv: Sequence[str] | None = None) -> int:
+    """Run the command line; returns the exit code (the console script exits with it)."""
+    parser = build_parser()
+    try:
+        args = parser.parse_args(argv)
+    except SystemExit as exc:  # --help, --version, usage errors (argparse uses 2)
+        return int(exc.code or 0)
+    if not args.command:
+        parser.print_help()
+        return EXIT_BAD_INPUT
+    con = _Console(quiet=args.quiet, verbose=args.verbose)
+    _setup_logging(args.verbose, args.quiet)
+    from .errors import AnalysisError, UnstableStructureError
+
+    try:
+        if args.command == "check":
+            return _check(args, con)
+        if args.command in ("analyze", "analyse"):
+            return _analyze(args, con)
+        return _sample(args, con)
+    except UnstableStructureError as exc:
+        _print_unstable(con, exc)
+        return EXIT_UNSTABLE
+    except AnalysisError as exc:
+        if args.verbose:
+            traceback.print_exc(file=con.err)
+        con.error(str(exc))
+        return EXIT_BAD_INPUT
+    except KeyboardInterrupt:
+        con.error("interrupted; nothing was written")
+        return 130
+    except Exception as exc:  # a bug: say so plainly
+        if args.verbose:
+            traceback.print_exc(file=con.err)
+        con.error(f"internal error ({type(exc).__name__}: {exc}); run again with --verbose for the details")
+        return EXIT_INTERNAL
+
+
+def _setup_logging(verbose: bool, quiet: bool) -> None:
+    logger = logging.getLogger("analysis")
+    for h in list(logger.handlers):
+        if getattr(h, "_plumbframe", False):
+            logger.removeHandler(h)
+    handler = logging.StreamHandler(sys.stderr)
+    handler._plumbframe = True  # type: ignore[attr-defined]
+    handler.setFormatter(logging.Formatter("%(levelname)s: %(message)s"))
+    logger.addHandler(handler)
+    logger.propagate = False
+    # engine warnings are gathered as diagnostics and summarised; log lines only with --verbose
+    logger.setLevel(logging.INFO if verbose else logging.ERROR if quiet else logging.ERROR)
+
+
+# --------------------------------------------------------------------------- shared steps
+def _options(args):
+    from .model import AnalysisOptions
+
+    return AnalysisOptions(plane=True if args.plane else None, inextensible=args.inextensible,
+                           condense_pinned=args.condense_pinned, shear=args.shear, solver=args.solver)
+
+
+def _check_input(path: str) -> None:
+    from .errors import AnalysisError
+
+    if not os.path.exists(path):
+        raise AnalysisError(f"{path}: no such file")
+    if os.path.isdir(path):
+        raise AnalysisError(f"{path}: is a folder, not an IFC file")
+    if not os.access(path, os.R_OK):
+        raise AnalysisError(f"{path}: cannot be read (permission denied)")
+
+
+def _check_output(path: str, input_path: str, what: str, allow_input: bool = False) -> None:
+    from .errors import AnalysisError
+
+    folder = os.path.dirname(os.path.abspath(path))
+    if os.path.isdir(path):
+        raise AnalysisError(f"{path}: the {what} path is a folder")
+    if not os.path.isdir(folder):
+        raise AnalysisError(f"{path}: the folder {folder} for the {what} does not exist")
+    if not os.access(folder, os.W_OK):
+        raise AnalysisError(f"{path}: the folder {folder} for the {what} is not writable")
+    if os.path.exists(path) and not os.access(path, os.W_OK):
+        raise AnalysisError(f"{path}: the {what} exists and is not writable")
+    same = bool(input_path) and (os.path.abspath(path) == os.path.abspath(input_path) or (
+        os.path.exists(path) and os.path.exists(input_path) and os.path.samefile(path, input_path)))
+    if same and not allow_input:
+        raise AnalysisError(f"{path}: the {what} would overwrite the input file; choose another name "
+                            "(or pass --overwrite-input for the IFC output)")
+
+
+def _read(args, con):
+    from .ifc.reader import read_ifc
+
+    _check_input(args.input)
+    con.progress("reading")
+    t0 = time.perf_counter()
+    model = read_ifc(args.input, model=args.model, merge_tolerance=args.merge_tolerance)
+    con.info(f"read {args.input} in {time.perf_counter() - t0:.2f} s "
+             f"(route {getattr(model, 'route', '?')}, schema {getattr(model, 'schema', '?')})")
+    return model
+
+
+def _indeterminacy(frame, options, con):
+    try:
+        from .indeterminacy import indeterminacy
+    except ImportError:  # pragma: no cover - the module is part of the package
+        con.warn("the indeterminacy module is not available; counts are skipped")
+        return None
+    con.progress("counting")
+    return indeterminacy(frame, options)
+
+
+def _ind_dict(ind) -> dict | None:
+    if ind is None:
+        return None
+    return ind.to_dict() if hasattr(ind, "to_dict") else dict(ind)
+
+
+def _mechanism_texts(frame, options) -> tuple[str, ...]:
+    """Plain-language mechanisms from the solver (it describes the zero-stiffness modes)."""
+    from .errors import UnstableStructureError
+    from .stiffness.analyze import analyze
+
+    try:
+        analyze(frame.replace(load_cases=(), combinations=()), options)
+    except UnstableStructureError as exc:
+        return exc.mechanisms or (str(exc),)
+    return ()
+
+
+def _print_unstable(con, exc, ind=None) -> None:
+    con.error("the structure is unstable under this idealisation: nothing was written")
+    texts = getattr(exc, "mechanisms", ()) or (str(exc),)
+    for k, text in enumerate(texts, 1):
+        print(f"  mechanism {k}: {text}", file=con.err)
+    d = _ind_dict(ind)
+    if d and not con.quiet:
+        print(f"  counts: kinematic {d['kinematic']}, static {d['static']}, mechanisms {d['mechanisms']} "
+              "(plumbframe check shows the full table)", file=con.err)
+    print("  Add supports or restraints, remove end releases, or brace the frame, then check again.", file=con.err)
+
+
+def _public_mode(path: str) -> None:
+    """Give a temporary file the mode a normally created file would have (mkstemp makes it 0600)."""
+    mask = os.umask(0)
+    os.umask(mask)
+    os.chmod(path, 0o666 & ~mask)
+
+
+def _atomic_text(path: str, text: str) -> None:
+    from .errors import AnalysisError
+
+    folder = os.path.dirname(os.path.abspath(path))
+    try:
+        fd, tmp = tempfile.mkstemp(dir=folder, prefix=".plumbframe-", suffix=".tmp")
+    except OSError as exc:
+        raise AnalysisError(f"{path}: cannot write in {folder} ({exc.strerror or exc})") from None
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8") as fh:
+            fh.write(text)
+        _public_mode(tmp)
+        os.replace(tmp, path)
+    except OSError as exc:
+        raise AnalysisError(f"{path}: cannot be written ({exc.strerror or exc})") from None
+    finally:
+        if os.path.exists(tmp):
+            os.remove(tmp)
+
+
+def _finite(obj: Any) -> Any:
+    """JSON has no NaN or infinity: such numbers become null."""
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, dict):
+        return {k: _finite(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_finite(v) for v in obj]
+    return obj
+
+
+def _write_json(path: str, doc: dict) -> None:
+    _atomic_text(path, json.dumps(_finite(doc), indent=1, allow_nan=False) + "\n")
+
+
+def check_document(frame, ind: dict | None, options=None) -> dict:
+    """The ``plumbframe.results/1`` document without cases (for ``check --json``)."""
+    from .model import member_lengths
+    from .results import SCHEMA
+
+    lengths = member_lengths(frame) if frame.n_members else []
+    dof = (ind or {}).get("terms", {}).get("dof_per_joint")
+    dimension = 2 if dof == 3 else 3
+    doc = {
+        "schema": SCHEMA,
+        "units": {"length": "m", "force": "N", "moment": "N*m", "angle": "rad"},
+        "dimension": dimension,
+        "nodes": {nid: {"xyz": [float(v) for v in frame.nodes[i]], "source": frame.node_sources[i]}
+                  for i, nid in enumerate(frame.node_ids)},
+        "members": {mid: {"nodes": [frame.node_ids[frame.members[k, 0]], frame.node_ids[frame.members[k, 1]]],
+                          "length": float(lengths[k]), "source": frame.member_sources[k]}
+                    for k, mid in enumerate(frame.member_ids)},
+    }
+    if ind is not None:
+        doc["indeterminacy"] = ind
+    return doc
+
+
+def _diagnostic_lines(model, results=None, limit: int = 6) -> list[str]:
+    diags = list(getattr(model, "diagnostics", None) or ())
+    if results is not None:
+        diags += list(results.diagnostics)
+    warnings = [d for d in diags if getattr(d, "level", "warning") in ("warning", "error")]
+    lines = [f"  {d.level}: {d.message}" for d in warnings[:limit]]
+    if len(warnings) > limit:
+        lines.append(f"  ... and {len(warnings) - limit} more (all of them in the report)")
+    return lines
+
+
+# --------------------------------------------------------------------------- summary table
+def _fmt(v: float, unit: str) -> str:
+    if unit == "kN":
+        return f"{v / 1e3:10.2f} kN  "
+    if unit == "kN*m":
+        return f"{v / 1e3:10.2f} kN*m"
+    if unit == "mm":
+        return f"{v * 1e3:10.2f} mm"
+    if unit == "mrad":
+        return f"{v * 1e3:10.3f} mrad"
+    return f"{v:10.3g} {unit}"
+
+
+def governing(results) -> dict[str, tuple[float, str, str]]:
+    """Per action N, Vy, Vz, T, My, Mz: (signed value of largest magnitude, member id, case name)."""
+    from .model import ACTION_NAMES
+
+    best: dict[str, tuple[float, str, str]] = {}
+    frame = results.frame
+    for name in results.cases:
+        for k, mid in enumerate(frame.member_ids):
+            F = results.diagram(name, k).forces
+            for a, action in enumerate(ACTION_NAMES):
+                col = F[:, a]
+                j = int(abs(col).argmax()) if col.size else 0
+                v = float(col[j]) if col.size else 0.0
+                if action not in best or abs(v) > abs(best[action][0]):
+                    best[action] = (v, mid, name)
+    return best
+
+
+def largest_displacement(results) -> tuple[float, str, str, float, str, str]:
+    """(translation m, node, case, rotation rad, node, case): largest magnitudes over all cases."""
+    import numpy as np
+
+    t = (0.0, "", "")
+    r = (0.0, "", "")
+    ids = results.frame.node_ids
+    for name, cr in results.cases.items():
+        d = cr.displacements
+        if not len(d):
+            continue
+        tn = np.linalg.norm(d[:, :3], axis=1)
+        rn = np.linalg.norm(d[:, 3:], axis=1)
+        i, j = int(tn.argmax()), int(rn.argmax())
+        if tn[i] > t[0]:
+            t = (float(tn[i]), ids[i], name)
+        if rn[j] > r[0]:
+            r = (float(rn[j]), ids[j], name)
+    return (*t, *r)
+
+
+def summary_table(model, results=None, ind=None, outputs: Sequence[tuple[str, str]] = ()) -> str:
+    """The one-screen summary printed after each run."""
+    frame = model.frame
+    ind = _ind_dict(ind)
+    lines = []
+    title = f"plumbframe {_version()} - {os.path.basename(getattr(model, 'path', '') or '') or frame.name or 'model'}"
+    lines += [title, "=" * len(title)]
+    supports = int((frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1)).sum())
+    route = getattr(model, "route", None)
+    lines.append(f"  model      {frame.n_nodes} nodes, {frame.n_members} members, {supports} supports"
+                 + (f"  ({'structural analysis model' if route == 'structural' else 'derived from physical elements'})"
+                    if route else ""))
+    lines.append(f"  loading    {len(frame.load_cases)} load cases, {len(frame.combinations)} combinations")
+    if ind is not None:
+        terms = ind.get("terms", {})
+        lines.append(f"  counts     kinematic {ind['kinematic']}, static {ind['static']}, mechanisms {ind['mechanisms']}"
+                     f"  ({terms.get('dof_per_joint', '?')} unknowns per joint, "
+                     f"{terms.get('redundant_constraints', 0)} redundant constraints)")
+    if results is not None:
+        from .ifc.writer import idealisation_text
+
+        lines.append(f"  analysis   {results.n_unknowns} unknowns; {idealisation_text(results)}")
+        if results.cases:
+            gov = governing(results)
+            lines.append("  governing internal forces (largest magnitude, member, case)")
+            for action, (v, mid, case) in gov.items():
+                unit = "kN" if action in ("N", "Vy", "Vz") else "kN*m"
+                if action in ("Vy", "T", "Mz") and abs(v) == 0.0:
+                    continue
+                lines.append(f"    {action:<3} {_fmt(v, unit)}   {mid:<16} {case}")
+            t, tn, tc, r, rn, rc = largest_displacement(results)
+            lines.append(f"  largest displacement {_fmt(t, 'mm').strip()} at node {tn} ({tc}); "
+                         f"rotation {_fmt(r, 'mrad').strip()} at node {rn} ({rc})")
+            worst = max((cr.equilibrium_residual for cr in results.cases.values()
+                         if math.isfinite(cr.equilibrium_residual)), default=0.0)
+            ok = "ok" if worst < 1e-6 else "CHECK"
+            lines.append(f"  equilibrium  largest residual {worst:.1e} (relative)  {ok}")
+    diag = _diagnostic_lines(model, results)
+    lines.append(f"  warnings   {len(diag) if diag else 'none'}")
+    lines += diag
+    notes = list(getattr(model, "notes", None) or ())
+    if notes:
+        lines.append(f"  reader notes: {len(notes)} (defaults and derivations; listed in the report)")
+    for what, path in outputs:
+        lines.append(f"  wrote      {what}: {path}")
+    lines.append("")
+    lines.append(CAUTION)
+    return "\n".join(lines)
+
+
+# --------------------------------------------------------------------------- commands
+def _check(args, con) -> int:
+    options = _options(args)
+    if args.json:
+        _check_output(args.json, args.input, "JSON file")
+    model = _read(args, con)
+    ind = _indeterminacy(model.frame, options, con)
+    d = _ind_dict(ind)
+    unstable = bool(d and d.get("mechanisms", 0) > 0)
+    texts: tuple[str, ...] = ()
+    if unstable:
+        con.progress("describing mechanisms")
+        texts = _mechanism_texts(model.frame, options)
+    outputs = []
+    if args.json:
+        _write_json(args.json, check_document(model.frame, d, options))
+        outputs.append(("JSON", args.json))
+    if ind is not None and hasattr(ind, "format_table"):
+        con.say(ind.format_table())
+        con.say("")
+    if d:
+        for note in d.get("notes", []):
+            con.say(f"  note: {note}")
+    con.say(summary_table(model, None, ind, outputs))
+    if unstable:
+        con.error("the structure is unstable under this idealisation")
+        for k, text in enumerate(texts or ("see the counts above",), 1):
+            print(f"  mechanism {k}: {text}", file=con.err)
+        return EXIT_UNSTABLE
+    return EXIT_OK
+
+
+def default_output(input_path: str) -> str:
+    """``MODEL.results.ifc`` beside ``MODEL.ifc``."""
+    root, ext = os.path.splitext(input_path)
+    return f"{root}.results{ext or '.ifc'}"
+
+
+def _analyze(args, con) -> int:
+    from .errors import UnstableStructureError
+    from .stiffness.analyze import analyze
+
+    options = _options(args)
+    out = args.output or default_output(args.input)
+    _check_input(args.input)
+    _check_output(out, args.input, "IFC output", allow_input=args.overwrite_input)
+    for path, what in ((args.json, "JSON file"), (args.report, "report")):
+        if path:
+            _check_output(path, args.input, what)
+    model = _read(args, con)
+    ind = _indeterminacy(model.frame, options, con)
+    try:
+        t0 = time.perf_counter()
+        results = analyze(model.frame, options, progress=con.progress)
+        con.info(f"analysed in {time.perf_counter() - t0:.2f} s with {results.solver}")
+    except UnstableStructureError as exc:
+        _print_unstable(con, exc, ind)
+        return EXIT_UNSTABLE
+    d = _ind_dict(ind)
+    if d and d.get("mechanisms", 0) > 0:  # the counts see a mechanism the solver did not trip over
+        _print_unstable(con, UnstableStructureError("; ".join(d.get("notes", [])) or "mechanism found by the counts"),
+                        ind)
+        return EXIT_UNSTABLE
+    outputs = []
+    from .ifc.writer import write_results
+
+    con.progress("writing the IFC")
+    write_results(args.input, out, model, results, ind, overwrite=args.overwrite_input, progress=con.progress)
+    outputs.append(("IFC", out))
+    if args.json:
+        con.progress("writing JSON")
+        _write_json(args.json, results.to_dict(indeterminacy=d))
+        outputs.append(("JSON", args.json))
+    if args.report:
+        from .report import write_report
+
+        con.progress("writing the report")
+        write_report(args.report, model, results, ind)
+        outputs.append(("report", args.report))
+    con.say(summary_table(model, results, ind, outputs))
+    return EXIT_OK
+
+
+def _sample(args, con) -> int:
+    from .errors import AnalysisError
+    from .samples import available_samples, write_sample
+
+    if args.list or not args.name:
+        names = available_samples()
+        if not args.list:
+            con.error("name a sample (one of: " + ", ".join(names) + ")")
+            return EXIT_BAD_INPUT
+        for n in names:
+            print(n, file=con.out)
+        return EXIT_OK
+    if not args.output:
+        raise AnalysisError("sample: -o FILE.ifc is required")
+    _check_output(args.output, "", "sample")
+    path = write_sample(args.name, args.output)
+    con.say(f"wrote sample {args.name!r} to {path}")
+    return EXIT_OK
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())

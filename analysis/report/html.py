@@ -1,0 +1,286 @@
+"""Assemble the HTML report (one self-contained file; see the package docstring)."""
+from __future__ import annotations
+
+import datetime as _dt
+import html
+import math
+import os
+import tempfile
+
+import numpy as np
+
+from ..errors import AnalysisError
+from ..model import ACTION_NAMES, DOF_NAMES, REACTION_NAMES
+
+__all__ = ["CAUTION", "build_report", "write_report"]
+
+CAUTION = ("Results are an aid to a qualified engineer. They do not replace engineering judgement: check the "
+           "model, the loads and the results; design to the local code; a licensed engineer's review remains "
+           "required.")
+
+_CSS = """
+body{font-family:system-ui,-apple-system,'Segoe UI',Roboto,Helvetica,Arial,sans-serif;margin:0;color:#1d2733;
+background:#f6f7f9;line-height:1.45}
+main{max-width:1180px;margin:0 auto;padding:18px 28px 60px;background:#fff}
+h1{font-size:1.6em;margin:0.4em 0 0.1em}h2{border-bottom:2px solid #1f4e9c;padding-bottom:3px;margin-top:1.8em}
+h3{margin-top:1.4em;color:#1f4e9c}
+.caution{border-left:6px solid #c0392b;background:#fdf0ee;padding:10px 14px;margin:14px 0;font-weight:600}
+table{border-collapse:collapse;margin:8px 0 14px;font-size:0.86em}
+th,td{border:1px solid #d5dae1;padding:3px 8px;text-align:right}
+th{background:#eef1f6;text-align:center}td.l,th.l{text-align:left}
+pre{background:#f3f5f8;padding:10px;overflow-x:auto;font-size:0.85em;border:1px solid #dde2e8}
+figure{margin:10px 0 18px}figure img{max-width:100%;border:1px solid #e1e5ea}
+figcaption{font-size:0.85em;color:#4a5563}
+.meta td{text-align:left}.ok{color:#1e8449;font-weight:600}.bad{color:#c0392b;font-weight:600}
+nav a{margin-right:12px}
+"""
+
+
+def _e(x) -> str:
+    return html.escape(str(x))
+
+
+def _num(v: float, scale: float = 1.0, digits: int = 2) -> str:
+    if v is None or not math.isfinite(v):
+        return "–"
+    return f"{v / scale:.{digits}f}"
+
+
+def _table(headers, rows, left_cols=1) -> str:
+    head = "".join(f"<th class='l'>{_e(h)}</th>" if i < left_cols else f"<th>{_e(h)}</th>"
+                   for i, h in enumerate(headers))
+    body = []
+    for row in rows:
+        body.append("<tr>" + "".join(f"<td class='l'>{_e(c)}</td>" if i < left_cols else f"<td>{_e(c)}</td>"
+                                     for i, c in enumerate(row)) + "</tr>")
+    return f"<table><thead><tr>{head}</tr></thead><tbody>{''.join(body)}</tbody></table>"
+
+
+def _img(b64: str, caption: str) -> str:
+    return (f"<figure><img alt='{_e(caption)}' src='data:image/png;base64,{b64}'>"
+            f"<figcaption>{_e(caption)}</figcaption></figure>")
+
+
+def _ind_dict(ind):
+    if ind is None:
+        return None
+    return ind.to_dict() if hasattr(ind, "to_dict") else dict(ind)
+
+
+def _actions_to_draw(results, case: str) -> tuple[str, ...]:
+    peaks = {a: 0.0 for a in ACTION_NAMES}
+    for k in range(results.frame.n_members):
+        F = results.diagram(case, k).forces
+        if F.size:
+            for i, a in enumerate(ACTION_NAMES):
+                peaks[a] = max(peaks[a], float(np.abs(F[:, i]).max()))
+    top_v = max(peaks["Vy"], peaks["Vz"])
+    top_m = max(peaks["My"], peaks["Mz"], peaks["T"])
+    out = ["N"]
+    for a in ("Vz", "Vy"):
+        if peaks[a] > 1e-3 * max(top_v, 1e-12) or (a == "Vz" and top_v == 0):
+            out.append(a)
+    for a in ("My", "Mz", "T"):
+        if peaks[a] > 1e-3 * max(top_m, 1e-12) or (a == "My" and top_m == 0):
+            out.append(a)
+    return tuple(out[:5])
+
+
+def _member_rows(results):
+    from ..ifc.writer import _relative_deflection
+
+    frame = results.frame
+    rows = []
+    for k, mid in enumerate(frame.member_ids):
+        best = {}
+        defl, dcase = 0.0, ""
+        for name in results.cases:
+            dg = results.diagram(name, k)
+            for i, a in enumerate(ACTION_NAMES):
+                col = dg.forces[:, i]
+                if not col.size:
+                    continue
+                lo, hi = float(col.min()), float(col.max())
+                b = best.setdefault(a, [math.inf, "", -math.inf, ""])
+                if lo < b[0]:
+                    b[0], b[1] = lo, name
+                if hi > b[2]:
+                    b[2], b[3] = hi, name
+            d, _ = _relative_deflection(dg.stations, dg.deflections, float(results.L[k]))
+            if d > defl:
+                defl, dcase = d, name
+        L = float(results.L[k])
+        ratio = f"L/{L / defl:.0f}" if defl > 0 else "–"
+        row = [mid, f"{L:.3f}"]
+        for a in ("N", "Vy", "Vz", "T", "My", "Mz"):
+            b = best.get(a)
+            if b is None:
+                row += ["–", "–"]
+                continue
+            row += [_num(b[0], 1e3), _num(b[2], 1e3)]
+        gov = max(("My", "Mz"), key=lambda a: max(abs(best.get(a, [0, "", 0, ""])[0]),
+                                                  abs(best.get(a, [0, "", 0, ""])[2])))
+        b = best.get(gov, [0, "", 0, ""])
+        gcase = b[1] if abs(b[0]) >= abs(b[2]) else b[3]
+        row += [f"{defl * 1e3:.2f}", ratio, f"{gov}: {gcase}"]
+        rows.append(row)
+    return rows
+
+
+def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | None = None) -> str:
+    """The report as one HTML string."""
+    from .. import __version__
+    from ..ifc.writer import idealisation_text
+    from .plots import case_figure, frame_views
+
+    frame = results.frame
+    ind = _ind_dict(indeterminacy)
+    date = date or _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0)
+    path = getattr(model, "path", "") or ""
+    title = f"plumbframe report — {os.path.basename(path) or frame.name or 'model'}"
+    active = sorted(results.active_components)
+    parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>{_e(title)}</title>"
+             f"<meta name='viewport' content='width=device-width, initial-scale=1'><style>{_CSS}</style></head>"
+             "<body><main>", f"<h1>{_e(title)}</h1>", f"<div class='caution'>{_e(CAUTION)}</div>"]
+    parts.append("<nav><a href='#overview'>Model</a><a href='#indeterminacy'>Indeterminacy</a>"
+                 "<a href='#cases'>Load cases and combinations</a><a href='#members'>Member forces</a>"
+                 "<a href='#equilibrium'>Equilibrium</a><a href='#notes'>Notes and defaults</a></nav>")
+    supports = int((frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1)).sum())
+    route = getattr(model, "route", "")
+    meta = [("Input file", path or "–"), ("Schema", getattr(model, "schema", "–")),
+            ("How the frame was obtained", {"structural": "the file's structural analysis model",
+                                            "physical": "derived from the physical beams, columns and members"}
+             .get(route, route or "–")),
+            ("Nodes / members / supports", f"{frame.n_nodes} / {frame.n_members} / {supports}"),
+            ("Load cases / combinations", f"{len(frame.load_cases)} / {len(frame.combinations)}"),
+            ("Idealisation", idealisation_text(results)), ("Unknowns solved", results.n_unknowns),
+            ("Units in this report", "m, mm for displacements, kN, kN·m, rad; global axes are the file's world axes"),
+            ("Program", f"plumbframe {__version__}"), ("Date", date.strftime("%Y-%m-%d %H:%M:%S UTC"))]
+    parts.append("<table class='meta'>" + "".join(f"<tr><th class='l'>{_e(k)}</th><td>{_e(v)}</td></tr>"
+                                                  for k, v in meta) + "</table>")
+
+    parts.append("<h2 id='overview'>Model overview</h2>")
+    for caption, b64 in frame_views(frame, results):
+        parts.append(_img(b64, caption))
+    parts.append("<h3>Nodes</h3>")
+    node_rows = []
+    for i, nid in enumerate(frame.node_ids):
+        r = frame.restraints[i]
+        sup = "fixed" if r.all() else (" ".join(DOF_NAMES[c] for c in range(6) if r[c]) or "")
+        if (frame.springs[i] > 0).any():
+            sup += " springs"
+        node_rows.append([nid, *(f"{v:.3f}" for v in frame.nodes[i]), sup or "–", frame.node_labels[i]])
+    parts.append(_table(["Node", "X [m]", "Y [m]", "Z [m]", "Support", "Source"], node_rows))
+    parts.append("<h3>Members</h3>")
+    mem_rows = []
+    for k, mid in enumerate(frame.member_ids):
+        rel = []
+        for end, tag in ((0, "i"), (1, "j")):
+            names = [ACTION_NAMES[c] for c in range(6) if frame.releases[k, end, c]]
+            if names:
+                rel.append(f"{tag}: {' '.join(names)}")
+        mem_rows.append([mid, frame.node_ids[frame.members[k, 0]], frame.node_ids[frame.members[k, 1]],
+                         f"{results.L[k]:.3f}", frame.section_names[k] or "–", frame.material_names[k] or "–",
+                         "axial only" if frame.truss[k] else "frame", "; ".join(rel) or "–", frame.member_labels[k]])
+    parts.append(_table(["Member", "i", "j", "L [m]", "Section", "Material", "Kind", "Releases", "Source"],
+                        mem_rows, left_cols=3))
+
+    parts.append("<h2 id='indeterminacy'>Indeterminacy</h2>")
+    if ind is not None:
+        table = indeterminacy.format_table() if hasattr(indeterminacy, "format_table") else None
+        if table:
+            parts.append(f"<pre>{_e(table)}</pre>")
+        else:
+            parts.append(_table(["Count", "Value"], [["kinematic", ind["kinematic"]], ["static", ind["static"]],
+                                                     ["mechanisms", ind["mechanisms"]]]))
+        notes = ind.get("notes") or []
+        if notes and not table:
+            parts.append("<ul>" + "".join(f"<li>{_e(n)}</li>" for n in notes) + "</ul>")
+    else:
+        parts.append("<p>The counts were not computed for this run.</p>")
+
+    parts.append("<h2 id='cases'>Load cases and combinations</h2>")
+    for name, cr in results.cases.items():
+        kind = "combination" if cr.kind == "combination" else "load case"
+        parts.append(f"<h3>{_e(name)} <small>({kind})</small></h3>")
+        if cr.kind == "combination" and cr.factors:
+            parts.append("<p>" + " + ".join(f"{f:g} × {_e(c)}" for c, f in cr.factors) + "</p>")
+        parts.append(_img(case_figure(results, name, _actions_to_draw(results, name)),
+                          f"{name}: deformed shape and internal-force diagrams drawn on the frame "
+                          "(N and V towards local +z or +y; moments on the stretched side)"))
+        sup = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
+        heads = ["Node"] + [f"{REACTION_NAMES[c]} [{'kN' if c < 3 else 'kN·m'}]" for c in active]
+        rows = [[frame.node_ids[i], *(_num(cr.reactions[i, c], 1e3) for c in active)] for i in sup]
+        total = [f"sum", *(_num(cr.reactions[sup, c].sum(), 1e3) if c < 3 else "" for c in active)]
+        parts.append("<p><b>Reactions</b> (forces the supports exert on the structure, global axes)</p>")
+        parts.append(_table(heads, rows + [total]))
+        d = cr.displacements
+        tn = np.linalg.norm(d[:, :3], axis=1)
+        order = np.argsort(-tn)[: min(12, frame.n_nodes)]
+        heads = ["Node"] + [f"{DOF_NAMES[c]} [{'mm' if c < 3 else 'mrad'}]" for c in active]
+        rows = [[frame.node_ids[i], *(_num(d[i, c], 1e-3, 3) for c in active)] for i in order]
+        parts.append(f"<p><b>Displacements</b> (global axes; the {len(order)} largest)</p>")
+        parts.append(_table(heads, rows))
+
+    parts.append("<h2 id='members'>Member forces: envelope over all cases and combinations</h2>")
+    parts.append("<p>Internal forces in member axes (x from end i to end j, z from the member's Axis, "
+                 "y = z × x); N &gt; 0 tension; values in kN and kN·m. The deflection is the largest distance of "
+                 "the deformed axis from the chord between its displaced ends.</p>")
+    heads = ["Member", "L [m]"]
+    for a in ACTION_NAMES:
+        heads += [f"{a} min", f"{a} max"]
+    heads += ["δ [mm]", "span/δ", "governing moment"]
+    parts.append(_table(heads, _member_rows(results)))
+
+    parts.append("<h2 id='equilibrium'>Equilibrium check</h2>")
+    parts.append("<p>Relative residual |Σ loads + Σ reactions| / Σ |forces| of the whole structure, "
+                 "forces and moments (moments divided by the frame size).</p>")
+    rows = []
+    for name, cr in results.cases.items():
+        r = cr.equilibrium_residual
+        ok = math.isfinite(r) and r < 1e-6
+        rows.append([name, f"{r:.2e}" if math.isfinite(r) else "–", "ok" if ok else "CHECK"])
+    parts.append(_table(["Case or combination", "Residual", "Verdict"], rows))
+
+    parts.append("<h2 id='notes'>Notes, defaults and derivations</h2>")
+    notes = list(getattr(model, "notes", None) or ())
+    diags = list(getattr(model, "diagnostics", None) or ()) + list(results.diagnostics)
+    if notes:
+        parts.append("<h3>How the model was read</h3><ul>" + "".join(f"<li>{_e(n)}</li>" for n in notes) + "</ul>")
+    if diags:
+        parts.append("<h3>Diagnostics</h3><ul>" + "".join(
+            f"<li><b>{_e(d.level)}</b>: {_e(d.message)}</li>" for d in diags) + "</ul>")
+    if not notes and not diags:
+        parts.append("<p>The reader reported no defaults or derivations.</p>")
+    parts.append(f"<div class='caution'>{_e(CAUTION)}</div>")
+    parts.append("</main></body></html>")
+    return "\n".join(parts)
+
+
+def _public_mode(path: str) -> None:
+    """Give a temporary file the mode a normally created file would have (mkstemp makes it 0600)."""
+    mask = os.umask(0)
+    os.umask(mask)
+    os.chmod(path, 0o666 & ~mask)
+
+
+def write_report(path, model, results, indeterminacy=None, *, date: _dt.datetime | None = None) -> str:
+    """Write the HTML report to ``path`` (atomically); returns the path."""
+    path = os.fspath(path)
+    text = build_report(model, results, indeterminacy, date=date)
+    folder = os.path.dirname(os.path.abspath(path))
+    try:
+        fd, tmp = tempfile.mkstemp(dir=folder, prefix=".plumbframe-", suffix=".html")
+    except OSError as exc:
+        raise AnalysisError(f"{path}: cannot write in {folder} ({exc.strerror or exc})") from None
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8") as fh:
+            fh.write(text)
+        _public_mode(tmp)
+        os.replace(tmp, path)
+    except OSError as exc:
+        raise AnalysisError(f"{path}: cannot be written ({exc.strerror or exc})") from None
+    finally:
+        if os.path.exists(tmp):
+            os.remove(tmp)
+    return path
