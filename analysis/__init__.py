@@ -6,6 +6,8 @@ The public API (everything here can be used without Blender):
 """
 from __future__ import annotations
 
+import logging as _logging
+
 from .errors import AnalysisError, Diagnostic, IfcInputError, ModelError, UnitError, UnstableStructureError
 from .model import (
     ACTION_NAMES,
@@ -29,6 +31,9 @@ from .results import Results
 from .stiffness.analyze import analyze
 
 __version__ = "0.1.0"
+
+# a library stays quiet unless the application configures logging (the CLI and the add-on do)
+_logging.getLogger(__name__).addHandler(_logging.NullHandler())
 
 __all__ = [
     "__version__",

@@ -105,10 +105,24 @@ class Results:
     def diagram(self, case: str, member: str | int, n_stations: int | None = None) -> MemberDiagram:
         """Internal forces and deflections along a member, exact at load points and extremes."""
         k = member if isinstance(member, (int, np.integer)) else self.frame.member_index(member)
-        key = (case, int(k), n_stations)
+        n_st = n_stations or self.options.stations
+        key = (case, n_st)
         if key not in self._diagram_cache:
-            self._diagram_cache[key] = self._diagram(self.case(case), int(k), n_stations or self.options.stations)
-        return self._diagram_cache[key]
+            self._diagram_cache[key] = self._case_diagrams(self.case(case), n_st)
+        return self._diagram_cache[key][int(k)]
+
+    def _case_diagrams(self, cr: CaseResult, n_st: int) -> list[MemberDiagram]:
+        """All members of one case: batched closed forms where loads are uniform, quadrature elsewhere."""
+        m = self.frame.n_members
+        out: list[MemberDiagram | None] = [None] * m
+        generic = [k for k, ld in cr.loads.generic.items() if not ld.empty]
+        uniform = np.setdiff1d(np.arange(m), np.array(generic, dtype=int))
+        if uniform.size:
+            for k, dg in zip(uniform, _uniform_diagrams(self, cr, uniform, n_st)):
+                out[k] = dg
+        for k in generic:
+            out[k] = self._diagram(cr, k, n_st)
+        return out  # type: ignore[return-value]
 
     def _diagram(self, cr: CaseResult, k: int, n_st: int) -> MemberDiagram:
         L = float(self.L[k])
@@ -120,6 +134,7 @@ class Results:
         base = np.unique(np.concatenate([np.linspace(0.0, L, n_st), breaks]))
         extra = _extreme_points(loading, f_i, d, C, breaks, L)
         stations = np.unique(np.concatenate([base, extra]))
+        stations = stations[np.concatenate([[True], np.diff(stations) > 1e-7 * max(L, 1.0)])]
         # a concentrated load: both sides of the jump; station values just after the load
         forces = internal_forces(loading, f_i, stations)
         point_pos = loading.point_positions()
@@ -245,6 +260,103 @@ class Results:
             "members": members,
             "equilibrium_residual": float(cr.equilibrium_residual),
         }
+
+
+def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int) -> list[MemberDiagram]:
+    """Diagrams of members loaded by uniform full-length loads only, batched over members.
+
+    With end forces f (nodes on member, member axes) and a uniform load q the
+    internal forces are polynomials in s (positive-face rule):
+    N = -f_x - q_x s, Vy = -f_y - q_y s, Vz = -f_z - q_z s, T = -m_x,
+    My = -m_y - f_z s - q_z s²/2, Mz = -m_z + f_y s + q_y s²/2,
+    and the deflections integrate them twice (see `_deflections`). Stations
+    are an even grid plus the points where a shear force vanishes (moment
+    extremes, exact) and where a slope vanishes (deflection extremes, found
+    by bisection to machine precision).
+    """
+    L = res.L[ks]
+    f = cr.end_forces[ks, 0]  # (g,6)
+    q = cr.loads.uniform[ks]  # (g,3)
+    d = cr.end_displacements[ks]  # (g,12)
+    C = np.stack([res._compliance(int(k)) for k in ks]) if ks.size < 64 else _compliances(res, ks)
+    g = ks.size
+    # polynomial coefficients (constant, s, s²) of the six actions
+    P = np.zeros((g, 6, 3))
+    P[:, 0, 0], P[:, 0, 1] = -f[:, 0], -q[:, 0]
+    P[:, 1, 0], P[:, 1, 1] = -f[:, 1], -q[:, 1]
+    P[:, 2, 0], P[:, 2, 1] = -f[:, 2], -q[:, 2]
+    P[:, 3, 0] = -f[:, 3]
+    P[:, 4, 0], P[:, 4, 1], P[:, 4, 2] = -f[:, 4], -f[:, 2], -q[:, 2] / 2
+    P[:, 5, 0], P[:, 5, 1], P[:, 5, 2] = -f[:, 5], f[:, 1], q[:, 1] / 2
+
+    def slopes(s, rows=slice(None)):  # s (g,k) or (r,1) for ``rows`` -> dv/ds, dw/ds
+        Pr, dr, Cr = P[rows], d[rows], C[rows]
+        Vy = Pr[:, 1, 0, None] + Pr[:, 1, 1, None] * s
+        Vz = Pr[:, 2, 0, None] + Pr[:, 2, 1, None] * s
+        iz = Pr[:, 5, 0, None] * s + Pr[:, 5, 1, None] * s**2 / 2 + Pr[:, 5, 2, None] * s**3 / 3
+        iy = Pr[:, 4, 0, None] * s + Pr[:, 4, 1, None] * s**2 / 2 + Pr[:, 4, 2, None] * s**3 / 3
+        return (dr[:, 5, None] + Cr[:, 5, None] * iz + Cr[:, 1, None] * Vy,
+                -dr[:, 4, None] - Cr[:, 4, None] * iy + Cr[:, 2, None] * Vz)
+
+    grid = np.linspace(0.0, 1.0, n_st)[None, :] * L[:, None]
+    extra = []
+    for i in (1, 2):  # shear zero: linear
+        with np.errstate(divide="ignore", invalid="ignore"):
+            s0 = -P[:, i, 0] / P[:, i, 1]
+        ok = np.isfinite(s0) & (s0 > 1e-9 * L) & (s0 < L * (1 - 1e-9))
+        extra.append(np.where(ok, s0, np.nan))
+    fine = np.linspace(0.0, 1.0, 4 * n_st + 1)[None, :] * L[:, None]
+    for comp in (0, 1):
+        val = slopes(fine)[comp]
+        scale = np.abs(val).max(axis=1, keepdims=True) + 1e-300
+        sign = np.sign(np.where(np.abs(val) <= 1e-13 * scale, 0.0, val))
+        change = (sign[:, :-1] * sign[:, 1:]) < 0
+        rows, cols = np.nonzero(change)
+        if rows.size:
+            a, b = fine[rows, cols], fine[rows, cols + 1]
+            fa = val[rows, cols]
+            for _ in range(60):
+                mid = (a + b) / 2
+                fm = slopes(mid[:, None], rows)[comp][:, 0]
+                left = np.sign(fm) == np.sign(fa)
+                a = np.where(left, mid, a)
+                fa = np.where(left, fm, fa)
+                b = np.where(left, b, mid)
+            roots = np.full((g, 4 * n_st), np.nan)
+            roots[rows, cols] = (a + b) / 2
+            extra.append(roots)
+    stations = np.concatenate([grid] + [e.reshape(g, -1) for e in extra], axis=1)
+    stations = np.sort(stations, axis=1)  # NaN last
+    s = np.nan_to_num(stations)
+    F = P[:, :, 0, None] + P[:, :, 1, None] * s[:, None, :] + P[:, :, 2, None] * s[:, None, :] ** 2  # (g,6,k)
+    v = (d[:, 1, None] + d[:, 5, None] * s
+         + C[:, 5, None] * (P[:, 5, 0, None] * s**2 / 2 + P[:, 5, 1, None] * s**3 / 6 + P[:, 5, 2, None] * s**4 / 12)
+         + C[:, 1, None] * (P[:, 1, 0, None] * s + P[:, 1, 1, None] * s**2 / 2))
+    w = (d[:, 2, None] - d[:, 4, None] * s
+         - C[:, 4, None] * (P[:, 4, 0, None] * s**2 / 2 + P[:, 4, 1, None] * s**3 / 6 + P[:, 4, 2, None] * s**4 / 12)
+         + C[:, 2, None] * (P[:, 2, 0, None] * s + P[:, 2, 1, None] * s**2 / 2))
+    out = []
+    for r in range(g):
+        keep = ~np.isnan(stations[r])
+        st = stations[r, keep]
+        uniq = np.concatenate([[True], np.diff(st) > 1e-7 * max(L[r], 1.0)])
+        out.append(MemberDiagram(stations=st[uniq], forces=F[r][:, keep][:, uniq].T.copy(),
+                                 deflections=np.stack([v[r, keep][uniq], w[r, keep][uniq]], axis=1)))
+    return out
+
+
+def _compliances(res: "Results", ks: np.ndarray) -> np.ndarray:
+    f = res.frame
+    shear = res.options.shear
+
+    def inv(x):
+        with np.errstate(divide="ignore"):
+            return np.where(x > 0, 1.0 / np.where(x > 0, x, 1.0), 0.0)
+
+    C = np.stack([inv(f.E[ks] * f.A[ks]), inv(f.G[ks] * f.Avy[ks]) * shear, inv(f.G[ks] * f.Avz[ks]) * shear,
+                  inv(f.G[ks] * f.J[ks]), inv(f.E[ks] * f.Iy[ks]), inv(f.E[ks] * f.Iz[ks])], axis=1)
+    C[f.truss[ks], 4:6] = 0.0
+    return C
 
 
 def _segment_poly_roots(fun, a: float, b: float, degree: int) -> list[float]:

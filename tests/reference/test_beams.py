@@ -183,3 +183,19 @@ def test_combination_is_the_factored_sum():
     assert_allclose(c.displacements, 1.35 * A.displacements + 1.5 * B.displacements, rtol=1e-12, atol=1e-18)
     assert_allclose(r.diagram("C", "B0")["My"][0], 1.35 * 1e3 * L + 1.5 * 2e3 * L**2 / 2, rtol=1e-12)
     assert c.equilibrium_residual < 1e-12
+
+
+def test_batched_uniform_diagrams_equal_the_quadrature_path():
+    # two independent evaluations of the same diagrams: closed-form polynomials vs Gauss quadrature
+    from analysis.results import _uniform_diagrams
+
+    b = beam(6.0, left="fixed", right="uy uz", case=LoadCase("w", member=(LineLoad("B0", "z", -9e3, axes="global"),
+                                                                          LineLoad("B0", "y", 2e3))))
+    for opts in ({}, {"shear": True}):
+        r = run(b, **opts)
+        cr = r.cases["w"]
+        fast = _uniform_diagrams(r, cr, np.array([0]), 11)[0]
+        slow = r._diagram(cr, 0, 11)
+        assert_allclose(fast.stations, slow.stations, atol=1e-9)
+        assert_allclose(fast.forces, slow.forces, atol=1e-6 * np.abs(slow.forces).max())
+        assert_allclose(fast.deflections, slow.deflections, atol=1e-9 * np.abs(slow.deflections).max())
