@@ -270,9 +270,9 @@ def _read_representation(el: _Element) -> str | None:
                 pos = solid.get_argument(1)
                 if pos is not None:
                     M = M @ axis_placement_matrix(pos)
-                d = np.array(solid.get_argument(2).get_argument(0), dtype=float)
-                d = d / np.linalg.norm(d) * float(solid.get_argument(3))
-                el.body = (M, d, solid.get_argument(0))
+                dx, dy, dz = solid.get_argument(2).get_argument(0)
+                scale = float(solid.get_argument(3)) / math.sqrt(dx * dx + dy * dy + dz * dz)
+                el.body = (M, np.array((dx * scale, dy * scale, dz * scale)), solid.get_argument(0))
                 el.body_profile = solid.get_argument(0)
                 if notes:
                     el.note = "body read from the " + " and ".join(dict.fromkeys(notes)) + " (first extrusion taken)"
@@ -522,6 +522,7 @@ class _Deriver:
         self.secondary = _option(self.defaults, "secondary_beams", "pinned", ("pinned", "rigid"))
         self.members_as = _option(self.defaults, "members", "truss", ("truss", "frame"))
         self.placements = PlacementCache()
+        self._card_cache: dict = {}
 
     # ------------------------------------------------------------------ run
     def run(self) -> tuple[Frame, list[Diagnostic], list[str]]:
@@ -650,8 +651,12 @@ class _Deriver:
                 n = np.linalg.norm(d)
                 plane = np.eye(3) if n > 0 and abs(d[2]) / n > 1 - 1e-9 else None
             if plane is not None:
-                card, note = _cardinal_point(sec, el.cardinal)
-                shift2 = sec.centroid - card
+                ckey = (id(sec), el.cardinal)
+                hit = self._card_cache.get(ckey)
+                if hit is None:
+                    card, note = _cardinal_point(sec, el.cardinal)
+                    hit = self._card_cache[ckey] = (sec.centroid - card, note)
+                shift2, note = hit
                 if note:
                     el.note = (el.note + "; " if el.note else "") + note
                 shift = plane[:, 0] * shift2[0] + plane[:, 1] * shift2[1]
@@ -930,16 +935,23 @@ class _Deriver:
 
     def _nearest_line(self, A, B, lengths, half, x, k, tol):
         """(element, t, distance) of the nearest other centre line within its half size + tol of ``x``."""
-        d = B - A
-        tv = np.sum((x - A) * d, axis=1) / lengths**2
-        tv = np.clip(tv, 0.0, 1.0)
-        dist = np.linalg.norm(A + tv[:, None] * d - x, axis=1)
-        ok = (dist <= half + tol) & (tv * lengths > tol) & ((1 - tv) * lengths > tol)
-        ok[k] = False
+        if getattr(self, "_mid_tree", None) is None:
+            from scipy.spatial import cKDTree
+
+            self._mid_tree = cKDTree(0.5 * (A + B))
+            self._mid_reach = float((0.5 * lengths + half).max()) + tol
+        cand = np.array(self._mid_tree.query_ball_point(x, r=self._mid_reach), dtype=np.int64)
+        cand = cand[cand != k]
+        if len(cand) == 0:
+            return None
+        d = B[cand] - A[cand]
+        tv = np.clip(np.sum((x - A[cand]) * d, axis=1) / lengths[cand] ** 2, 0.0, 1.0)
+        dist = np.linalg.norm(A[cand] + tv[:, None] * d - x, axis=1)
+        ok = (dist <= half[cand] + tol) & (tv * lengths[cand] > tol) & ((1 - tv) * lengths[cand] > tol)
         if not ok.any():
             return None
-        s = int(np.flatnonzero(ok)[np.argmin(dist[ok])])
-        return s, float(tv[s]), float(dist[s])
+        j = int(np.flatnonzero(ok)[np.argmin(dist[ok])])
+        return int(cand[j]), float(tv[j]), float(dist[j])
 
     # ------------------------------------------------------------------ releases
     def _releases(self, elements, elem_nodes, interior, P, A, B) -> np.ndarray:

@@ -106,9 +106,28 @@ def _axis_placement_raw(placement) -> tuple[tuple, tuple, tuple]:
     raise ValueError(f"#{placement.id()} {kind}: not an axis placement")
 
 
+_MATRIX_CACHE: dict[tuple, FloatArray] = {}
+
+
 def axis_placement_matrix(placement) -> FloatArray:
-    """``(4,4)`` matrix of one IfcAxis2Placement3D/2D (None: identity)."""
-    return axis_placement_matrices([placement])[0]
+    """``(4,4)`` matrix of one IfcAxis2Placement3D/2D (None: identity), read-only.
+
+    Matrices are cached by the placement's values, so the many identical
+    placements of a building model (extrusion positions, mapping origins)
+    cost one dictionary look-up each.
+    """
+    if placement is None:
+        return _EYE
+    key = _axis_placement_raw(placement)
+    M = _MATRIX_CACHE.get(key)
+    if M is None:
+        if len(_MATRIX_CACHE) > 100_000:
+            _MATRIX_CACHE.clear()
+        M = _frames_from_axes(np.array([key[0]], dtype=float), np.array([key[1]], dtype=float),
+                              np.array([key[2]], dtype=float))[0]
+        M.flags.writeable = False
+        _MATRIX_CACHE[key] = M
+    return M
 
 
 def axis_placement_matrices(placements: Sequence) -> FloatArray:
