@@ -69,9 +69,17 @@ def _generator(folder: Path):
     script = folder / "generate.py"
     if not script.is_file():
         return None
-    spec = importlib.util.spec_from_file_location("_plumbframe_sample_generator", script)
+    name = "_plumbframe_sample_generator"
+    if name in sys.modules:
+        return sys.modules[name]
+    spec = importlib.util.spec_from_file_location(name, script)
     module = importlib.util.module_from_spec(spec)
-    spec.loader.exec_module(module)  # type: ignore[union-attr]
+    sys.modules[name] = module  # dataclasses look their module up while the script runs
+    try:
+        spec.loader.exec_module(module)  # type: ignore[union-attr]
+    except Exception:
+        del sys.modules[name]
+        return None
     return module
 
 

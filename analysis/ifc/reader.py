@@ -199,7 +199,10 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
 
     scales = unit_scales(ifc_file)
     schema = ifc_file.schema
-    models = list(ifc_file.by_type("IfcStructuralAnalysisModel"))
+    # An analytical model that an earlier plumbframe run derived from the physical elements (the writer
+    # tags it) is derived again from those elements, so that edits to them count, unless asked for.
+    models = [m for m in ifc_file.by_type("IfcStructuralAnalysisModel")
+              if model is not None or m.Description != "plumbframe derived analytical model"]
     listed = [(str(m.Name or ""), str(m.GlobalId)) for m in models]
     notes: list[str] = []
     if scales.derived:
