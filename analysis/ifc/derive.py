@@ -473,8 +473,9 @@ def derive_frame(ifc_file, *, scales=None, merge_tolerance: float = 0.01, suppor
     defaults : mapping or object, optional
         ``support`` ('fixed' | 'pinned'), ``beam_column`` ('rigid' |
         'pinned'), ``secondary_beams`` ('pinned' | 'rigid'), ``members``
-        ('truss' | 'frame'), and the material defaults ``E``, ``G``,
-        ``poisson``, ``density`` (SI) used where the file gives none.
+        ('truss' | 'frame'), the material defaults ``E``, ``G``,
+        ``poisson``, ``density`` (SI) and ``section`` (a `Section`) used
+        where the file gives none (e.g. `analysis.ifc.reader.ReaderDefaults`).
     area_loads : sequence of (storey, case, pressure), optional
         Storey name (or elevation in m), load case name and pressure in Pa
         (downwards) spread over that floor's beams (module docstring).
@@ -628,7 +629,14 @@ class _Deriver:
             if profile is None:
                 profile = el.body_profile
                 if profile is None:
-                    raise IfcInputError(f"{el.label}: no profile (no material profile set and no extruded body) to take the section from", el.eid)
+                    default_section = _option(self.defaults, "section", None)
+                    if default_section is None:
+                        raise IfcInputError(f"{el.label}: no profile (no material profile set and no extruded body) to take the section from", el.eid)
+                    self.sec[k], self.mat[k] = self._default_section(default_section), material
+                    el.cardinal = cardinal
+                    self.diagnostics.append(Diagnostic("warning", el.eid, f"{el.label}: no profile; the default section {default_section.name!r} is used"))
+                    self._centroid_line(el, self.sec[k])
+                    continue
             el.profile, el.cardinal, el.usage = profile, cardinal, usage
             skey = (profile.id(), usage.id() if usage is not None and usage.is_a("IfcRelAssociatesProfileProperties") else None)
             sec = sections.get(skey)
@@ -638,6 +646,13 @@ class _Deriver:
             self.sec[k] = sec
             self.mat[k] = material
             self._centroid_line(el, sec)
+
+    @staticmethod
+    def _default_section(section) -> _SectionInfo:
+        """A user-given `Section` (SI) as section info: centred, size from the radius of gyration."""
+        size = 2.0 * math.sqrt(3.0 * max(section.Iy, section.Iz) / section.A) if section.A > 0 else 0.0
+        return _SectionInfo(section.name, section.A, section.Iy, section.Iz, section.J, section.Avy, section.Avz, 0.0,
+                            np.zeros(2), (0.0, 0.0, 0.0, 0.0), True, size)
 
     def _centroid_line(self, el: _Element, sec: _SectionInfo) -> None:
         """Local (element coordinates, file units) centroid-line ends and profile y direction."""

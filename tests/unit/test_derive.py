@@ -441,6 +441,21 @@ def test_missing_material_unless_default():
     assert any("'Bare'" in d.message for d in diags)
 
 
+def test_missing_profile_unless_default_section():
+    from analysis.model import Section
+
+    m = portal()
+    e = m.element("IfcBeam", "Line", (0, 0, 2), (6, 0, 2), BEAM, body=False, material=False)
+    m.f.create_entity("IfcRelAssociatesMaterial", GlobalId=m.gid(), RelatedObjects=[e], RelatingMaterial=m.material)
+    with pytest.raises(IfcInputError, match=r"#\d+ IfcBeam 'Line': no profile"):
+        m.derive()
+    sec = Section("given", A=0.01, Iy=2e-4, Iz=1e-4, J=5e-5)
+    fr, diags, _ = m.derive(defaults={"section": sec})
+    k = fr.member_index("Line")
+    assert (fr.A[k], fr.Iy[k], fr.section_names[k]) == (0.01, 2e-4, "given")
+    assert any("default section" in d.message for d in diags)
+
+
 def test_duplicate_names_fall_back_to_global_ids():
     m = portal()
     twin = m.element("IfcBeam", "B1", (0, 0, 2), (6, 0, 2), BEAM)
