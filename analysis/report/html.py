@@ -127,8 +127,8 @@ def _member_rows(results):
     return rows
 
 
-def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | None = None) -> str:
-    """The report as one HTML string."""
+def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | None = None, plots: bool = True) -> str:
+    """The report as one HTML string (``plots=False`` leaves the figures out: tables and text only)."""
     from .. import __version__
     from ..ifc.writer import idealisation_text
     from .plots import case_figure, frame_views
@@ -160,7 +160,7 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
                                                   for k, v in meta) + "</table>")
 
     parts.append("<h2 id='overview'>Model overview</h2>")
-    for caption, b64 in frame_views(frame, results):
+    for caption, b64 in (frame_views(frame, results) if plots else ()):
         parts.append(_img(b64, caption))
     parts.append("<h3>Nodes</h3>")
     node_rows = []
@@ -205,9 +205,10 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
         parts.append(f"<h3>{_e(name)} <small>({kind})</small></h3>")
         if cr.kind == "combination" and cr.factors:
             parts.append("<p>" + " + ".join(f"{f:g} × {_e(c)}" for c, f in cr.factors) + "</p>")
-        parts.append(_img(case_figure(results, name, _actions_to_draw(results, name)),
-                          f"{name}: deformed shape and internal-force diagrams drawn on the frame "
-                          "(N and V towards local +z or +y; moments on the stretched side)"))
+        if plots:
+            parts.append(_img(case_figure(results, name, _actions_to_draw(results, name)),
+                              f"{name}: deformed shape and internal-force diagrams drawn on the frame "
+                              "(N and V towards local +z or +y; moments on the stretched side)"))
         sup = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
         heads = ["Node"] + [f"{REACTION_NAMES[c]} [{'kN' if c < 3 else 'kN·m'}]" for c in active]
         rows = [[frame.node_ids[i], *(_num(cr.reactions[i, c], 1e3) for c in active)] for i in sup]
@@ -267,8 +268,10 @@ def _public_mode(path: str) -> None:
 def write_report(path, model, results, indeterminacy=None, *, date: _dt.datetime | None = None) -> str:
     """Write the HTML report to ``path`` (atomically); returns the path."""
     path = os.fspath(path)
-    text = build_report(model, results, indeterminacy, date=date)
     folder = os.path.dirname(os.path.abspath(path))
+    if not os.path.isdir(folder):
+        raise AnalysisError(f"{path}: cannot write the report: the folder {folder} does not exist")
+    text = build_report(model, results, indeterminacy, date=date)
     try:
         fd, tmp = tempfile.mkstemp(dir=folder, prefix=".plumbframe-", suffix=".html")
     except OSError as exc:

@@ -33,7 +33,7 @@ def _mpl():
 def to_png_base64(fig, dpi: int = 90) -> str:
     plt = _mpl()
     buf = io.BytesIO()
-    fig.savefig(buf, format="png", dpi=dpi, bbox_inches="tight")
+    fig.savefig(buf, format="png", dpi=dpi)
     plt.close(fig)
     return base64.b64encode(buf.getvalue()).decode("ascii")
 
@@ -265,5 +265,6 @@ def case_figure(results, case: str, actions=("N", "Vz", "My")) -> str:
             title = f"{what} (largest {_fmt_value(peak, what)})" if peak > 0 else f"{what} (zero)"
         _setup(ax, view, title, np.concatenate(pts_all))
     fig.suptitle(case, fontsize=12)
-    fig.tight_layout()
+    fig.subplots_adjust(left=0.06, right=0.98, top=1 - 0.45 / (4.4 * nrow), bottom=0.55 / (4.4 * nrow), wspace=0.18,
+                        hspace=0.3)
     return to_png_base64(fig, dpi=80)
