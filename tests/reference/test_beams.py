@@ -199,3 +199,38 @@ def test_batched_uniform_diagrams_equal_the_quadrature_path():
         assert_allclose(fast.stations, slow.stations, atol=1e-9)
         assert_allclose(fast.forces, slow.forces, atol=1e-6 * np.abs(slow.forces).max())
         assert_allclose(fast.deflections, slow.deflections, atol=1e-9 * np.abs(slow.deflections).max())
+
+
+def test_projected_global_load_on_a_rafter():
+    # a snow load per horizontal (projected) length on an inclined simply supported rafter: the vertical
+    # reactions are w * (horizontal span) / 2 each (statics, common practice, no source)
+    span, rise, w = 6.0, 2.5, 3e3
+    b = FrameBuilder()
+    b.add_node("A", (0, 0, 0), support="ux uy uz rx")
+    b.add_node("B", (span, 0, rise), support="uy uz")
+    b.add_member("AB", "A", "B", SEC, MAT)
+    b.add_case(LoadCase("s", member=(LineLoad("AB", "z", -w, axes="global", projected=True),)))
+    r = analyze(b.build(), AnalysisOptions(plane=True))
+    assert_allclose(r.cases["s"].reactions[:, 2], [w * span / 2, w * span / 2], rtol=1e-10)
+    # the same load per true length gives w * L / 2
+    b2 = FrameBuilder()
+    b2.add_node("A", (0, 0, 0), support="ux uy uz rx")
+    b2.add_node("B", (span, 0, rise), support="uy uz")
+    b2.add_member("AB", "A", "B", SEC, MAT)
+    b2.add_case(LoadCase("s", member=(LineLoad("AB", "z", -w, axes="global"),)))
+    L = np.hypot(span, rise)
+    assert_allclose(analyze(b2.build(), AnalysisOptions(plane=True)).cases["s"].reactions[:, 2], [w * L / 2] * 2, rtol=1e-10)
+
+
+def test_concentrated_moment_on_a_simply_supported_beam():
+    # Roark, Table 8.1 case 3e (simply supported, intermediate couple) — from memory: reactions ±M0/L,
+    # moment jumps by M0 at the load point
+    L, a, M0 = 6.0, 2.0, 12e3
+    b = beam(L, left="ux uy uz rx", right="uy uz",
+             case=LoadCase("m", member=(PointLoad("B0", "y", M0, a, moment=True),)))
+    r = run(b)
+    assert_allclose(abs(r.cases["m"].reactions[0, 2]), M0 / L, rtol=1e-12)
+    dg = r.diagram("m", "B0")
+    at = np.flatnonzero(np.isclose(dg.stations, a))
+    assert at.size == 2
+    assert_allclose(abs(dg["My"][at[1]] - dg["My"][at[0]]), M0, rtol=1e-12)
