@@ -159,6 +159,7 @@ class IfcModel:
     units: Any  # analysis.units.UnitScales
     notes: list[str] = field(default_factory=list)
     physical: dict[str, str] = field(default_factory=dict)
+    plane: bool = False  # the analysis model declares in-plane 2D loading (IN_PLANE_LOADING_2D)
 
 
 # --------------------------------------------------------------------------- entry point
@@ -229,9 +230,13 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
         notes.append(f"Read the structural analysis model {entity_label(chosen)} ({chosen.GlobalId}).")
     reader = _StructuralReader(ifc_file, chosen, scales, defaults)
     frame = reader.read()
+    plane = str(getattr(chosen, "PredefinedType", None) or "") == "IN_PLANE_LOADING_2D"
+    if plane:
+        notes.append(f"{entity_label(chosen)} declares in-plane 2D loading: analysed as a plane frame in its own "
+                     "plane unless a space analysis is asked for.")
     return IfcModel(frame=frame, diagnostics=reader.diagnostics, route="structural", schema=schema,
                     analysis_models=listed, path=path, units=scales, notes=notes + reader.notes,
-                    physical=reader.physical)
+                    physical=reader.physical, plane=plane)
 
 
 def _open(path: str):
