@@ -51,10 +51,11 @@ def _size(frame) -> float:
     return max(float(np.ptp(frame.nodes, axis=0).max()) if frame.n_nodes else 1.0, 1e-9)
 
 
-_AZ, _EL = math.radians(-55.0), math.radians(25.0)
-#: axonometric projection: rows are the screen x and y directions in world coordinates
-_ISO = np.array([[math.cos(_AZ + math.pi / 2), math.sin(_AZ + math.pi / 2), 0.0],
-                 [-math.sin(_EL) * math.cos(_AZ + math.pi), -math.sin(_EL) * math.sin(_AZ + math.pi), math.cos(_EL)]])
+_TURN, _EL = math.radians(35.0), math.radians(25.0)
+#: axonometric projection seen from above: rows are the screen x and y directions in world coordinates
+#: (X runs right and a little down, Y recedes right and up, Z is up)
+_ISO = np.array([[math.cos(_TURN), math.sin(_TURN), 0.0],
+                 [-math.sin(_TURN) * math.sin(_EL), math.cos(_TURN) * math.sin(_EL), math.cos(_EL)]])
 
 
 def project(points, view):
@@ -153,9 +154,10 @@ def frame_views(frame, results=None) -> list[tuple[str, str]]:
     else:
         fig, axs = plt.subplots(1, 2, figsize=(12, 5))
         for ax, view, name in ((axs[0], (0, 2), "XZ elevation"), (axs[1], (1, 2), "YZ elevation")):
-            _draw_frame(ax, frame, view)
+            _draw_frame(ax, frame, view, labels=False)  # labels would overlap: they are in the 3D view
             _setup(ax, view, name, project(frame.nodes, view))
-        out.append((f"Elevations of the analytical frame ({legend})", to_png_base64(fig)))
+        out.append(("Elevations of the analytical frame (supports red: square fixed, triangle partial)",
+                    to_png_base64(fig)))
     fig, ax = plt.subplots(figsize=(9, 7))
     _draw_frame(ax, frame, "iso")
     _setup(ax, "iso", "Axonometric view of the analytical frame", project(frame.nodes, "iso"))
