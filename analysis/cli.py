@@ -134,7 +134,11 @@ def _add_common(p: argparse.ArgumentParser) -> None:
     g = p.add_argument_group("idealisation (whole model; a per-member property can override)")
     g.add_argument("--inextensible", action="store_true", help="members axially rigid")
     g.add_argument("--condense-pinned", action="store_true", help="reduce rotations at pinned ends out of the unknowns")
-    g.add_argument("--plane", action="store_true", help="plane-frame analysis in the frame's own plane (3 unknowns per joint)")
+    dim = g.add_mutually_exclusive_group()
+    dim.add_argument("--plane", action="store_true", help="plane-frame analysis in the frame's own plane "
+                     "(3 unknowns per joint); the default where the analysis model declares in-plane loading")
+    dim.add_argument("--space", action="store_true", help="space-frame analysis (6 unknowns per joint) even where "
+                     "the analysis model declares in-plane loading")
     g.add_argument("--shear", action="store_true", help="include shear deformation (default: Euler-Bernoulli members)")
     g.add_argument("--solver", choices=("auto", "cholmod", "pardiso", "superlu"), default="auto",
                    help="sparse solver (default auto: the fastest installed)")
@@ -239,10 +243,17 @@ def _setup_logging(verbose: bool, quiet: bool) -> None:
 
 
 # --------------------------------------------------------------------------- shared steps
-def _options(args):
+def _options(args, model=None):
+    """The idealisation: the flags, and a plane analysis where the analysis model declares in-plane loading."""
     from .model import AnalysisOptions
 
-    return AnalysisOptions(plane=True if args.plane else None, inextensible=args.inextensible,
+    if args.plane:
+        plane = True
+    elif args.space:
+        plane = False
+    else:
+        plane = True if getattr(model, "plane", False) else None
+    return AnalysisOptions(plane=plane, inextensible=args.inextensible,
                            condense_pinned=args.condense_pinned, shear=args.shear, solver=args.solver)
 
 
@@ -508,10 +519,10 @@ def summary_table(model, results=None, ind=None, outputs: Sequence[tuple[str, st
 
 # --------------------------------------------------------------------------- commands
 def _check(args, con) -> int:
-    options = _options(args)
     if args.json:
         _check_output(args.json, args.input, "JSON file")
     model = _read(args, con)
+    options = _options(args, model)
     ind = _indeterminacy(model.frame, options, con)
     d = _ind_dict(ind)
     unstable = bool(d and d.get("mechanisms", 0) > 0)
@@ -548,7 +559,6 @@ def _analyze(args, con) -> int:
     from .errors import UnstableStructureError
     from .stiffness.analyze import analyze
 
-    options = _options(args)
     out = args.output or default_output(args.input)
     _check_input(args.input)
     _check_output(out, args.input, "IFC output", allow_input=args.overwrite_input)
@@ -556,6 +566,7 @@ def _analyze(args, con) -> int:
         if path:
             _check_output(path, args.input, what)
     model = _read(args, con)
+    options = _options(args, model)
     ind = _indeterminacy(model.frame, options, con)
     try:
         t0 = time.perf_counter()

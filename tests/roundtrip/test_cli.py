@@ -311,3 +311,17 @@ def test_console_script_in_a_subprocess(tmp_path):
     p = subprocess.run([*cmd, "analyze", str(tmp_path / "missing.ifc")], capture_output=True, text=True, env=env,
                        timeout=300)
     assert p.returncode == 2 and "no such file" in p.stderr and "Traceback" not in p.stderr
+
+
+def test_in_plane_model_is_analysed_as_a_plane_frame(tmp_path, capsys):
+    """roof_truss declares IN_PLANE_LOADING_2D: a plane analysis by default, --space asks for 6 DOF per joint."""
+    src = copy_sample("roof_truss", tmp_path)
+    js = tmp_path / "c.json"
+    code, _, err = run(["check", src, "--json", js, "-q"], capsys)
+    assert code == 0, err
+    doc = json.loads(js.read_text())
+    assert doc["dimension"] == 2
+    # a simple pin-jointed truss: m + r = 2 j (21 + 3 = 2 x 12), statically determinate (common practice, no source)
+    assert doc["indeterminacy"]["static"] == 0 and doc["indeterminacy"]["mechanisms"] == 0
+    code, _, err = run(["check", src, "--space", "-q"], capsys)
+    assert code == 3  # pin-jointed joints of a plane truss are free out of its plane
