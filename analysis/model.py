@@ -282,6 +282,7 @@ class Frame:
     section_names: tuple[str, ...] = ()
     material_names: tuple[str, ...] = ()
     name: str = ""
+    _lookups: tuple = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         n, m = len(self.node_ids), len(self.member_ids)
@@ -328,6 +329,8 @@ class Frame:
             object.__setattr__(self, key, value)
         object.__setattr__(self, "node_ids", tuple(str(i) for i in self.node_ids))
         object.__setattr__(self, "member_ids", tuple(str(i) for i in self.member_ids))
+        object.__setattr__(self, "_lookups", ({k: i for i, k in enumerate(self.node_ids)},
+                                              {k: i for i, k in enumerate(self.member_ids)}))
         self._validate()
 
     # -- convenience -------------------------------------------------------
@@ -352,10 +355,10 @@ class Frame:
             raise ModelError(f"member {member_id!r} does not exist") from None
 
     def _node_lookup(self) -> dict[str, int]:
-        return {k: i for i, k in enumerate(self.node_ids)}
+        return self._lookups[0]
 
     def _member_lookup(self) -> dict[str, int]:
-        return {k: i for i, k in enumerate(self.member_ids)}
+        return self._lookups[1]
 
     def case(self, name: str) -> LoadCase:
         for c in self.load_cases:

@@ -202,6 +202,7 @@ def analyze(frame: Frame, options: AnalysisOptions | None = None, *, progress=No
     lam = _constraint_forces(asm, F_ext, u_ext, springs, x)
     reactions = _reactions(asm, F_ext, u_ext, lam)
     end_forces, end_disp = _end_forces(asm, u_ext, fef, lam)
+    _chord_rotations_of_bars(asm, end_disp)
     disp = u_ext[: asm.N6].reshape(frame.n_nodes, 6, nc)
     _fill_unattached_rotations(asm, disp, end_disp)
 
@@ -257,8 +258,8 @@ def _load_vectors(asm: Assembly, cases, loads: list[CaseLoads], diagnostics):
     active[list(dofs.active)] = True
     nodal = F_ext[: asm.N6].reshape(n, 6, nc)
     if dofs.plane_axis is not None:
-        outside = np.abs(nodal[:, ~active, :]).max() if nc else 0.0
-        if outside > 1e-9 * max(np.abs(nodal).max(), 1e-300):
+        outside = np.abs(nodal[:, ~active, :]).max() if nc and nodal.size else 0.0
+        if outside > 1e-9 * max(np.abs(nodal).max() if nodal.size else 0.0, 1e-300):
             diagnostics.append(Diagnostic("warning", None,
                                           "loads acting out of the plane of a plane analysis are ignored"))
     scale = max(np.abs(F_ext).max(), 1e-300) if F_ext.size else 1.0
@@ -281,6 +282,11 @@ def _constraint_forces(asm: Assembly, F_ext, u_ext, springs, x) -> np.ndarray:
     xe = asm.x_ext
     res = F_ext[xe] - asm.K_full[xe] @ u_ext - springs[:, None] * x
     C = d.C
+    if d.direct:
+        # a direct row alone touches its pivot column: λ = residual there / pivot
+        rows1, slaves1, pivots1, _ = d.direct
+        lam[rows1] = res[slaves1] / pivots1[:, None]
+        res = res - C[rows1].T @ lam[rows1]
     for ridx, cidx in d.groups:
         M = C[ridx][:, cidx].toarray()
         lam[ridx] = np.linalg.lstsq(M.T, res[cidx], rcond=None)[0]
@@ -317,6 +323,21 @@ def _end_forces(asm: Assembly, u_ext, fef, lam):
             f[k, 0, :] -= lam[r]
             f[k, 6, :] += lam[r]
     return f, d
+
+
+def _chord_rotations_of_bars(asm: Assembly, end_disp) -> None:
+    """Axial-only bars have no bending stiffness: their end rotations are those of the chord."""
+    bars = np.flatnonzero(asm.frame.truss)
+    if bars.size == 0:
+        return
+    d = end_disp[bars]  # (b,12,nc)
+    L = asm.L[bars][:, None]
+    rz = (d[:, 7] - d[:, 1]) / L
+    ry = -(d[:, 8] - d[:, 2]) / L
+    d[:, 5], d[:, 11] = rz, rz
+    d[:, 4], d[:, 10] = ry, ry
+    d[:, 3], d[:, 9] = 0.0, 0.0
+    end_disp[bars] = d
 
 
 def _fill_unattached_rotations(asm: Assembly, disp, end_disp) -> None:

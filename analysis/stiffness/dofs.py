@@ -65,7 +65,8 @@ class DofSystem:
     rank: int
     redundant_rows: list[int]
     T: sp.csr_array  # (n_x, n_q)
-    groups: list = field(default_factory=list)  # (row idx, x idx) per connected constraint group
+    groups: list = field(default_factory=list)  # (row idx, x idx) per connected group of the dense stage
+    direct: tuple = ()  # (rows, slaves, pivots, A) of rows eliminated through a column of their own
     slave_rhs: list = field(default_factory=list)  # (slave idx, W (r, rows), row idx) per group
     consistency: list = field(default_factory=list)  # (row idx, Z (k, rows)) redundant combos
 
@@ -85,7 +86,7 @@ class DofSystem:
         """x0 ``(n_x, c)`` satisfying the constraints for prescribed support values ``u_r (n*6, c)``."""
         c = u_r.shape[1]
         x0 = np.zeros((self.n_x, c))
-        if not self.slave_rhs or not np.any(u_r):
+        if not (self.slave_rhs or self.consistency) or not np.any(u_r):
             return x0
         rhs = self.C_r @ u_r  # (rows, c)
         for row_idx, Z in self.consistency:
@@ -96,6 +97,10 @@ class DofSystem:
                 raise ModelError(f"prescribed support displacements contradict the rigid constraints ({labels})")
         for slaves, W, row_idx in self.slave_rhs:
             x0[slaves] = W @ rhs[row_idx]
+        if self.direct:
+            rows1, slaves1, pivots1, A = self.direct
+            x0 = A @ x0
+            x0[slaves1] -= rhs[rows1] / pivots1[:, None]
         return x0
 
 
@@ -166,11 +171,12 @@ def build_dofs(frame: Frame, options: AnalysisOptions) -> DofSystem:
     C, C_r = _split_columns(C_full, node_dof, restrained, n_x)
     C, C_r, rows = _drop_empty(C, C_r, rows, C_full)
     scale = _column_scale(frame, node_dof, hinge, n_x)
-    T, rank, redundant, slave_rhs, consistency, groups = _eliminate(C, scale, n_x)
+    T, rank, redundant, slave_rhs, consistency, groups, direct = _eliminate(C, scale, n_x)
     return DofSystem(frame=frame, options=options, plane_axis=plane_axis, active=active, node_dof=node_dof,
                      hinge_dof=hinge, condensed=condensed, auto_released=auto, restrained=restrained,
                      unattached=unattached, n_x=n_x, C=C, C_r=C_r, rows=rows, rank=rank,
-                     redundant_rows=redundant, T=T, groups=groups, slave_rhs=slave_rhs, consistency=consistency)
+                     redundant_rows=redundant, T=T, groups=groups, slave_rhs=slave_rhs, consistency=consistency,
+                     direct=direct)
 
 
 def _active_components(plane_axis: int | None) -> tuple[int, ...]:
@@ -412,87 +418,147 @@ def _column_scale(frame, node_dof, hinge, n_x) -> np.ndarray:
 
 
 def _eliminate(C: sp.csr_array, scale: np.ndarray, n_x: int):
-    """Rank-revealing elimination per connected group of constraint rows.
+    """Rank-revealing elimination of the constraint rows ``C x = 0``.
 
-    Returns T (x = T q), the rank, the redundant row indices (rows that
-    depend on earlier rows of their group), and data for the particular
-    solution of prescribed support displacements.
+    Two stages. (1) Direct: a row with a column no other row touches (a
+    diaphragm or rigid-body row for a follower node, an axial row of a
+    member whose end no other constraint moves) is independent of all the
+    others and eliminates that column by itself: ``x_s = -Σ c_j x_j / c_s``.
+    (2) Dense: the remaining rows, per connected group, by a QR
+    factorisation with column pivoting on rotation-scaled columns; rows that
+    depend on earlier rows of their group are redundant. ``T = A T₂``.
+
+    Returns T (x = T q), the rank, the redundant row indices, the data for
+    particular solutions of prescribed support displacements, the dense
+    groups and the direct-stage data.
     """
     r = C.shape[0]
     if r == 0 or C.nnz == 0:
-        return sp.identity(n_x, format="csr"), 0, list(range(r)) if r else [], [], [], []
+        return sp.identity(n_x, format="csr"), 0, list(range(r)) if r else [], [], [], [], ()
+    C = C.tocsr()
+    C.sum_duplicates()
     Cs = (C @ sp.diags_array(scale)).tocsr()
-    # connected groups of rows and columns: bipartite graph rows + cols
-    coo = Cs.tocoo()
-    g = sp.coo_array((np.ones(coo.nnz), (coo.row, r + coo.col)), shape=(r + n_x, r + n_x))
-    ncomp, labels = connected_components(g, directed=False)
-    row_lab = labels[:r]
-    col_lab = labels[r:]
+    rows1, slaves1, pivots1 = _direct_rows(C, Cs)
     is_slave = np.zeros(n_x, bool)
-    t_rows, t_cols, t_vals = [], [], []  # entries of slave rows of T over master columns (x indices)
-    rank = 0
+    is_slave[slaves1] = True
+    rest = np.setdiff1d(np.arange(r), rows1)
+    t_rows, t_cols, t_vals = [], [], []  # entries of stage-2 slave rows of T over master columns
+    rank = len(rows1)
     redundant: list[int] = []
     slave_rhs, consistency, groups = [], [], []
-    order = np.argsort(row_lab, kind="stable")
-    bounds = np.searchsorted(row_lab[order], np.arange(ncomp + 1))
-    cols_sorted = np.argsort(col_lab, kind="stable")
-    cbounds = np.searchsorted(col_lab[cols_sorted], np.arange(ncomp + 1))
-    for comp in range(ncomp):
-        ridx = order[bounds[comp]:bounds[comp + 1]]
-        if ridx.size == 0:
-            continue
-        cidx = cols_sorted[cbounds[comp]:cbounds[comp + 1]]
-        if cidx.size == 0:
-            # rows on restrained components only (e.g. an axially rigid member between two
-            # supports): nothing left to constrain; they must hold for prescribed values
-            redundant += [int(k) for k in ridx]
-            consistency.append((ridx, np.eye(ridx.size)))
-            continue
-        M = Cs[ridx][:, cidx].toarray()
-        groups.append((ridx, cidx))
-        # independent rows in their given order: QR with pivoting on Mᵀ would reorder, so
-        # test rows one at a time against an orthonormal basis (groups are small)
-        if np.linalg.matrix_rank(M, tol=RANK_TOL * max(np.abs(M).max(), 1e-300)) == M.shape[0]:
-            indep = list(range(M.shape[0]))
-        else:
-            indep = _independent_rows(M)
-        redundant += [int(ridx[k]) for k in range(len(ridx)) if k not in indep]
-        Mi = M[indep]
-        rk = len(indep)
-        rank += rk
-        Q, Rq, piv = scipy.linalg.qr(Mi, mode="economic", pivoting=True)
-        slaves_local = piv[:rk]
-        masters_local = piv[rk:]
-        R11 = Rq[:rk, :rk]
-        R12 = Rq[:rk, rk:]
-        S = -scipy.linalg.solve_triangular(R11, R12)  # scaled slaves in terms of scaled masters
-        sl = cidx[slaves_local]
-        ms = cidx[masters_local]
-        is_slave[sl] = True
-        # unscale (x = D y): x_s = D_s S D_m⁻¹ x_m
-        Su = S * (scale[sl][:, None] / scale[ms][None, :])
-        ii, jj = np.nonzero(np.abs(Su) > 1e-14)
-        t_rows += list(sl[ii])
-        t_cols += list(ms[jj])
-        t_vals += list(Su[ii, jj])
-        # particular solution: C_s x_s (unscaled) = -C_r u_r - ...  =>  x_s = W rhs with rhs = C_r u_r
-        Winv = scipy.linalg.solve_triangular(R11, Q.T)  # (rk, rk): R11⁻¹ Qᵀ over independent rows
-        W = -(Winv * scale[sl][:, None])
-        slave_rhs.append((sl, W, ridx[indep]))
-        if len(indep) < len(ridx):
-            # combinations of the group's rows that vanish on x must vanish on the right side too
-            Z = scipy.linalg.null_space(M.T).T
-            if Z.size:
-                consistency.append((ridx, Z))
+    if rest.size:
+        Cs2 = Cs[rest]
+        coo = Cs2.tocoo()
+        r2 = rest.size
+        g = sp.coo_array((np.ones(coo.nnz), (coo.row, r2 + coo.col)), shape=(r2 + n_x, r2 + n_x))
+        ncomp, labels = connected_components(g, directed=False)
+        row_lab = labels[:r2]
+        used = np.zeros(n_x, bool)
+        used[coo.col] = True
+        col_lab = np.where(used, labels[r2:], -1)
+        order = np.argsort(row_lab, kind="stable")
+        bounds = np.searchsorted(row_lab[order], np.arange(ncomp + 1))
+        cols_sorted = np.argsort(col_lab, kind="stable")
+        cl = col_lab[cols_sorted]
+        cbounds = np.searchsorted(cl, np.arange(ncomp + 1))
+        for comp in range(ncomp):
+            local = order[bounds[comp]:bounds[comp + 1]]
+            if local.size == 0:
+                continue
+            ridx = rest[local]
+            cidx = cols_sorted[cbounds[comp]:cbounds[comp + 1]]
+            cidx = cidx[col_lab[cidx] == comp]
+            if cidx.size == 0:
+                # rows on restrained components only (e.g. an axially rigid member between two
+                # supports): nothing left to constrain; they must hold for prescribed values
+                redundant += [int(k) for k in ridx]
+                consistency.append((ridx, np.eye(ridx.size)))
+                continue
+            M = Cs[ridx][:, cidx].toarray()
+            groups.append((ridx, cidx))
+            # independent rows in their given order (a row depending on earlier ones is redundant)
+            if np.linalg.matrix_rank(M, tol=RANK_TOL * max(np.abs(M).max(), 1e-300)) == M.shape[0]:
+                indep = list(range(M.shape[0]))
+            else:
+                indep = _independent_rows(M)
+            redundant += [int(ridx[k]) for k in range(len(ridx)) if k not in indep]
+            Mi = M[indep]
+            rk = len(indep)
+            rank += rk
+            Q, Rq, piv = scipy.linalg.qr(Mi, mode="economic", pivoting=True)
+            R11 = Rq[:rk, :rk]
+            R12 = Rq[:rk, rk:]
+            S = -scipy.linalg.solve_triangular(R11, R12)  # scaled slaves in terms of scaled masters
+            sl = cidx[piv[:rk]]
+            ms = cidx[piv[rk:]]
+            is_slave[sl] = True
+            # unscale (x = D y): x_s = D_s S D_m⁻¹ x_m
+            Su = S * (scale[sl][:, None] / scale[ms][None, :])
+            ii, jj = np.nonzero(np.abs(Su) > 1e-14)
+            t_rows += list(sl[ii])
+            t_cols += list(ms[jj])
+            t_vals += list(Su[ii, jj])
+            # particular solution: C_s x_s = -C_r u_r  =>  x_s = W (C_r u_r)
+            Winv = scipy.linalg.solve_triangular(R11, Q.T)
+            W = -(Winv * scale[sl][:, None])
+            slave_rhs.append((sl, W, ridx[indep]))
+            if len(indep) < len(ridx):
+                # combinations of the group's rows that vanish on x must vanish on the right side too
+                Z = scipy.linalg.null_space(M.T).T
+                if Z.size:
+                    consistency.append((ridx, Z))
     masters = np.flatnonzero(~is_slave)
     qcol = np.full(n_x, -1)
     qcol[masters] = np.arange(masters.size)
-    rows_T = list(masters) + t_rows
-    cols_T = list(qcol[masters]) + list(qcol[np.array(t_cols, dtype=int)]) if t_cols else list(qcol[masters])
-    vals_T = [1.0] * masters.size + t_vals
-    T = sp.coo_array((np.array(vals_T, float), (np.array(rows_T, int), np.array(cols_T, int))),
-                     shape=(n_x, masters.size)).tocsr()
-    return T, rank, sorted(redundant), slave_rhs, consistency, groups
+    t_cols_a = np.array(t_cols, dtype=np.int64)
+    T2 = sp.coo_array((np.concatenate([np.ones(masters.size), np.array(t_vals, float)]),
+                       (np.concatenate([masters, np.array(t_rows, dtype=np.int64)]),
+                        np.concatenate([qcol[masters], qcol[t_cols_a]]))),
+                      shape=(n_x, masters.size)).tocsr()
+    if rows1.size:
+        A = _direct_map(C, rows1, slaves1, pivots1, n_x)
+        T = (A @ T2).tocsr()
+        direct = (rows1, slaves1, pivots1, A)
+    else:
+        T, direct = T2, ()
+    return T, rank, sorted(redundant), slave_rhs, consistency, groups, direct
+
+
+def _direct_rows(C: sp.csr_array, Cs: sp.csr_array):
+    """Rows with a column of their own (touched by no other row), and that column as pivot.
+
+    The pivot is the row's own column of largest scaled coefficient, taken
+    only if it is not small against the row (|c| >= 0.1 max |row|).
+    """
+    coo = Cs.tocoo()
+    col_count = np.bincount(coo.col, minlength=Cs.shape[1])
+    own = col_count[coo.col] == 1
+    mag = np.abs(coo.data)
+    row_max = np.zeros(Cs.shape[0])
+    np.maximum.at(row_max, coo.row, mag)
+    ok = own & (mag >= 0.1 * row_max[coo.row]) & (mag > 0)
+    if not ok.any():
+        return np.zeros(0, np.int64), np.zeros(0, np.int64), np.zeros(0)
+    rr, cc, vv = coo.row[ok], coo.col[ok], mag[ok]
+    # per row, the own column of largest magnitude
+    order = np.lexsort((-vv, rr))
+    rr, cc = rr[order], cc[order]
+    first = np.concatenate([[True], rr[1:] != rr[:-1]])
+    rows1, slaves1 = rr[first].astype(np.int64), cc[first].astype(np.int64)
+    pivots1 = np.asarray(C[rows1, slaves1]).reshape(-1)
+    return rows1, slaves1, pivots1
+
+
+def _direct_map(C: sp.csr_array, rows1, slaves1, pivots1, n_x: int) -> sp.csr_array:
+    """A (n_x, n_x): identity on the other unknowns, x_s = -Σ c_j x_j / c_s on direct slaves."""
+    sub = C[rows1].tocoo()
+    keep = sub.col != slaves1[sub.row]
+    vals = -sub.data[keep] / pivots1[sub.row[keep]]
+    others = np.setdiff1d(np.arange(n_x), slaves1)
+    rows = np.concatenate([others, slaves1[sub.row[keep]]])
+    cols = np.concatenate([others, sub.col[keep]])
+    data = np.concatenate([np.ones(others.size), vals])
+    return sp.coo_array((data, (rows, cols)), shape=(n_x, n_x)).tocsr()
 
 
 def _independent_rows(M: np.ndarray) -> list[int]:

@@ -198,3 +198,25 @@ def test_validation_errors(mutate, message):
     with pytest.raises(ModelError, match=message):
         mutate(b)
         b.build()
+
+
+def test_axial_bar_under_its_own_weight_deflects_along_its_chord():
+    # an axial-only bar carries no bending: its axis stays straight between its end nodes
+    # (definition of a pin-jointed bar, common practice, no source)
+    b = FrameBuilder()
+    b.add_node("L", (0, 0, 0), support="ux uy uz")
+    b.add_node("T", (3, 0, 2))
+    b.add_node("R", (6, 0, 0), support="uy uz")
+    bar = Section("bar", A=2e-3)
+    heavy = Material("steel", E=E, G=80e9, density=7850.0)
+    for mid, i, j in (("LT", "L", "T"), ("TR", "T", "R"), ("LR", "L", "R")):
+        b.add_member(mid, i, j, bar, heavy, truss=True)
+    b.add_case(LoadCase("g", self_weight=(0, 0, -1)))
+    r = analyze(b.build(), AnalysisOptions(plane=True))
+    u = r.cases["g"].displacements
+    dg = r.diagram("g", "LT")
+    k = r.frame.member_index("LT")
+    Rk = r.R[k]
+    wi, wj = (Rk @ u[0, :3])[2], (Rk @ u[1, :3])[2]
+    s, L = dg.stations, r.L[k]
+    assert_allclose(dg["dz"], wi + (wj - wi) * s / L, atol=1e-12)
