@@ -201,7 +201,14 @@ def main(argv: Sequence[str] | None = None) -> int:
         parser.print_help()
         return EXIT_BAD_INPUT
     con = _Console(quiet=args.quiet, verbose=args.verbose)
-    _setup_logging(args.verbose, args.quiet)
+    restore = _setup_logging(args.verbose, args.quiet)
+    try:
+        return _run(args, con)
+    finally:
+        restore()
+
+
+def _run(args, con) -> int:
     from .errors import AnalysisError, UnstableStructureError
 
     try:
@@ -228,18 +235,23 @@ def main(argv: Sequence[str] | None = None) -> int:
         return EXIT_INTERNAL
 
 
-def _setup_logging(verbose: bool, quiet: bool) -> None:
+def _setup_logging(verbose: bool, quiet: bool):
+    """Send the engine's log to stderr for this run; returns a callable that puts things back."""
     logger = logging.getLogger("analysis")
-    for h in list(logger.handlers):
-        if getattr(h, "_plumbframe", False):
-            logger.removeHandler(h)
+    saved = (logger.level, logger.propagate)
     handler = logging.StreamHandler(sys.stderr)
-    handler._plumbframe = True  # type: ignore[attr-defined]
     handler.setFormatter(logging.Formatter("%(levelname)s: %(message)s"))
     logger.addHandler(handler)
     logger.propagate = False
     # engine warnings are gathered as diagnostics and summarised; log lines only with --verbose
-    logger.setLevel(logging.INFO if verbose else logging.ERROR if quiet else logging.ERROR)
+    logger.setLevel(logging.INFO if verbose else logging.ERROR)
+
+    def restore() -> None:
+        logger.removeHandler(handler)
+        logger.setLevel(saved[0])
+        logger.propagate = saved[1]
+
+    return restore
 
 
 # --------------------------------------------------------------------------- shared steps
