@@ -282,7 +282,7 @@ def _kinematic_terms(frame: Frame, dofs, R: np.ndarray) -> tuple[dict, dict]:
     if dofs.plane_axis is not None and frame.n_members:
         user_rot = user_rot & _in_plane_rotation_mask(R, dofs.plane_axis)[:, None, 4:6]
     releases = int(user_rot.sum())
-    unattached_all = len(dofs.unattached)
+    unattached_all = len(dofs.unattached) + len(dofs.skew_unattached)
     unattached_phys = len(_physical_unattached(frame, dofs, R))
     condensed_own = releases - dofs.n_hinges
     terms = {
@@ -291,7 +291,7 @@ def _kinematic_terms(frame: Frame, dofs, R: np.ndarray) -> tuple[dict, dict]:
         "releases": releases,
         "restraints": int(dofs.restrained.sum()),
         "constraints": int(dofs.rank),
-        "redundant_constraints": int(len(dofs.rows) - dofs.rank),
+        "redundant_constraints": int(len(dofs.redundant_rows)),
         "reductions": int(unattached_all + condensed_own),
     }
     parts = {"unattached": unattached_phys, "pinned_condensed": unattached_all - unattached_phys,
@@ -380,7 +380,7 @@ def _static_terms(frame: Frame, dofs, R: np.ndarray, unattached_phys: int) -> di
         "member_forces": int(_member_force_counts(frame, R, dofs.plane_axis).sum()),
         "reactions": int(dofs.restrained.sum()),
         "springs": springs,
-        "constraint_forces": int(sum(1 for row in dofs.rows if row.kind != "axial")),
+        "constraint_forces": int(sum(1 for row in dofs.rows if row.kind not in ("axial", "unattached"))),
         "equations": int(frame.n_nodes * dofs.dof_per_joint - unattached_phys),
     }
 

@@ -58,6 +58,7 @@ class DofSystem:
     auto_released: np.ndarray  # (m,2,6) bool, rotations condensed at pinned ends (option)
     restrained: np.ndarray  # (n,6) bool, active restrained components
     unattached: list[tuple[int, int]]  # (node, comp) rotations nothing attaches to
+    skew_unattached: list  # (node, unit vector) joint rotation directions nothing attaches to, not along an axis
     n_x: int
     C: sp.csr_array  # constraint rows over x
     C_r: sp.csr_array  # constraint rows over restrained components (n*6 columns)
@@ -167,14 +168,17 @@ def build_dofs(frame: Frame, options: AnalysisOptions) -> DofSystem:
     hinge[keep_hinge] = n_x + np.arange(int(keep_hinge.sum()))
     n_x += int(keep_hinge.sum())
 
-    rows, C_full = _constraint_rows(frame, R, options, plane_axis)
+    skew = _skew_unattached(frame, R, rel, restrained, act_mask, unattached)
+    rows, C_full = _constraint_rows(frame, R, options, plane_axis, skew)
     C, C_r = _split_columns(C_full, node_dof, restrained, n_x)
     C, C_r, rows = _drop_empty(C, C_r, rows, C_full)
     scale = _column_scale(frame, node_dof, hinge, n_x)
     T, rank, redundant, slave_rhs, consistency, groups, direct = _eliminate(C, scale, n_x)
+    # rows pinning a skew unattached rotation are reductions, not constraints
+    rank -= len(skew)
     return DofSystem(frame=frame, options=options, plane_axis=plane_axis, active=active, node_dof=node_dof,
                      hinge_dof=hinge, condensed=condensed, auto_released=auto, restrained=restrained,
-                     unattached=unattached, n_x=n_x, C=C, C_r=C_r, rows=rows, rank=rank,
+                     unattached=unattached, skew_unattached=skew, n_x=n_x, C=C, C_r=C_r, rows=rows, rank=rank,
                      redundant_rows=redundant, T=T, groups=groups, slave_rhs=slave_rhs, consistency=consistency,
                      direct=direct)
 
@@ -290,8 +294,60 @@ def _pinned_end_releases(frame, R, rel, restrained, act_mask) -> np.ndarray:
     return auto
 
 
-def _constraint_rows(frame: Frame, R, options: AnalysisOptions, plane_axis):
-    """All exact constraint rows over the global components (n*6 columns)."""
+def _skew_unattached(frame, R, rel, restrained, act_mask, axis_aligned) -> list[tuple[int, np.ndarray]]:
+    """Joint rotation directions nothing attaches to that do not lie along a world axis.
+
+    At a joint held only by one skew member through torsion (its bending
+    released), the free rotation directions are normal to that member.
+    """
+    if frame.n_members == 0:
+        return []
+    rot_active = [c for c in range(3, 6) if act_mask[c]]
+    if len(rot_active) < 3:  # a plane analysis has one rotation: the axis check is exact
+        return []
+    full = ~rel[:, :, 3:6].any(axis=2)
+    attached = np.zeros(frame.n_nodes, bool)
+    np.logical_or.at(attached, frame.members[:, 0], full[:, 0])
+    np.logical_or.at(attached, frame.members[:, 1], full[:, 1])
+    for group in (*frame.rigid_bodies, *frame.diaphragms):
+        for node in group.nodes:
+            attached[frame.node_index(node)] = True
+    candidates = np.flatnonzero(~attached)
+    if candidates.size == 0:
+        return []
+    dropped = {(n, c) for n, c in axis_aligned}
+    ends_at: dict[int, list[tuple[int, int]]] = {}
+    for k, (i, j) in enumerate(frame.members):
+        ends_at.setdefault(int(i), []).append((k, 0))
+        ends_at.setdefault(int(j), []).append((k, 1))
+    out = []
+    for node in candidates:
+        free_c = [c for c in rot_active if not restrained[node, c] and (int(node), c) not in dropped]
+        if not free_c:
+            continue
+        dirs = []
+        for k, end in ends_at.get(int(node), []):
+            dirs += _end_rotation_rows(R, rel, k, end)
+        for c in rot_active:
+            if restrained[node, c] or frame.springs[node, c] > 0 or (int(node), c) in dropped:
+                e = np.zeros(3)
+                e[c - 3] = 1.0
+                dirs.append(e)
+        D = np.array(dirs).reshape(-1, 3)
+        if D.shape[0] == 0:
+            continue
+        null = scipy.linalg.null_space(D, rcond=1e-9)
+        for v in null.T:
+            out.append((int(node), v / np.linalg.norm(v)))
+    return out
+
+
+def _constraint_rows(frame: Frame, R, options: AnalysisOptions, plane_axis, skew=()):
+    """All exact constraint rows over the global components (n*6 columns).
+
+    Rows pinning skew unattached joint rotations (zero-stiffness directions,
+    any value is exact) come first.
+    """
     n = frame.n_nodes
     data: list[tuple[int, int, float]] = []
     rows: list[ConstraintRow] = []
@@ -302,6 +358,12 @@ def _constraint_rows(frame: Frame, R, options: AnalysisOptions, plane_axis):
         for (node, comp), v in coeffs.items():
             if v != 0.0:
                 data.append((r, 6 * node + comp, v))
+
+    for node, vec in skew:
+        add({(node, 3 + c): float(vec[c]) for c in range(3)},
+            ConstraintRow("unattached", frame.node_ids[node],
+                          f"joint {frame.node_labels[node]} turns freely about ({vec[0]:.3f}, {vec[1]:.3f}, {vec[2]:.3f}): "
+                          "no member end is attached in that direction", (node,)))
 
     def skew(o):
         return np.array([[0, -o[2], o[1]], [o[2], 0, -o[0]], [-o[1], o[0], 0]])

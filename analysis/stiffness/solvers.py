@@ -22,7 +22,7 @@ __all__ = ["Factor", "SingularStiffness", "factorize", "available_solvers", "cho
 
 log = logging.getLogger(__name__)
 
-PIVOT_TOL = 1e-11
+PIVOT_TOL = 1e-9  # of the unit-diagonal scaled matrix: below it the structure is a mechanism
 
 
 class SingularStiffness(Exception):

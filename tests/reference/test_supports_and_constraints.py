@@ -220,3 +220,29 @@ def test_axial_bar_under_its_own_weight_deflects_along_its_chord():
     wi, wj = (Rk @ u[0, :3])[2], (Rk @ u[1, :3])[2]
     s, L = dg.stations, r.L[k]
     assert_allclose(dg["dz"], wi + (wj - wi) * s / L, atol=1e-12)
+
+
+def test_skew_member_hinged_alone_at_a_joint_is_not_a_mechanism():
+    # a joint held by one inclined member whose bending is released there turns freely about the two
+    # directions normal to the member: those rotations are not unknowns (statics of a hinge, common
+    # practice, no source); the joint itself is held by the member acting as a cantilever
+    from analysis.indeterminacy import indeterminacy
+
+    b = FrameBuilder()
+    b.add_node("A", (0, 0, 0), support="fixed")
+    b.add_node("N", (2.0, 1.5, 3.0))
+    b.add_node("B", (4.0, -1.0, 0), support="pinned")
+    b.add_member("AN", "A", "N", SEC, MAT, release_j="My Mz")
+    b.add_member("BN", "B", "N", Section("bar", A=1e-3), MAT, truss=True)
+    b.add_case(LoadCase("P", nodal=(NodalLoad("N", (3e3, -2e3, -5e3, 0, 0, 0)),)))
+    frame = b.build()
+    r = analyze(frame)
+    ind = indeterminacy(frame)
+    # 3 joints x 6 + 2 own end rotations (AN hinged at N) - 9 restraints - 5 reductions
+    assert ind.kinematic == r.n_unknowns == 6 * 3 + 2 - 9 - 5
+    assert ind.terms["reductions"] == 2 + 3  # two skew directions at N, three rotations of the bar's pin support
+    assert r.cases["P"].equilibrium_residual < 1e-10
+    # the hinge carries no bending moment
+    dg = r.diagram("P", "AN")
+    assert_allclose(dg["My"][-1], 0.0, atol=1e-6)
+    assert_allclose(dg["Mz"][-1], 0.0, atol=1e-6)
