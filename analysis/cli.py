@@ -547,9 +547,9 @@ def _check(args, con) -> int:
         _write_json(args.json, check_document(model.frame, d, options))
         outputs.append(("JSON", args.json))
     if ind is not None and hasattr(ind, "format_table"):
-        con.say(ind.format_table())
+        con.say(ind.format_table())  # the table carries the notes
         con.say("")
-    if d:
+    elif d:
         for note in d.get("notes", []):
             con.say(f"  note: {note}")
     con.say(summary_table(model, None, ind, outputs))

@@ -413,6 +413,10 @@ def describe_mechanism(asm: Assembly, x: np.ndarray) -> str:
     for node, comp in moving:
         axis = "XYZ"[comp % 3]
         by_node.setdefault(int(node), []).append(f"translate in {axis}" if comp < 3 else f"rotate about {axis}")
+    # nodes that translate first (largest first), then nodes that only turn
+    trans = np.abs(nodal[:, :3]).max(axis=1)
+    order = sorted(by_node, key=lambda k: (not bool(trans[k] > 0.2 * top), -float(mag[k].max())))
+    by_node = {k: by_node[k] for k in order}
     for node, what in list(by_node.items())[:4]:
         attached = [frame.member_labels[k] for k in np.flatnonzero((frame.members == node).any(axis=1))]
         pinned = [frame.member_labels[k] for k in np.flatnonzero((frame.members == node).any(axis=1))
