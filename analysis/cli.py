@@ -14,7 +14,6 @@ import logging
 import math
 import os
 import sys
-import tempfile
 import time
 import traceback
 from typing import Any, Sequence
@@ -351,31 +350,10 @@ def _print_unstable(con, exc, ind=None) -> None:
     print("  Add supports or restraints, remove end releases, or brace the frame, then check again.", file=con.err)
 
 
-def _public_mode(path: str) -> None:
-    """Give a temporary file the mode a normally created file would have (mkstemp makes it 0600)."""
-    mask = os.umask(0)
-    os.umask(mask)
-    os.chmod(path, 0o666 & ~mask)
-
-
 def _atomic_text(path: str, text: str) -> None:
-    from .errors import AnalysisError
+    from .fileio import atomic_text
 
-    folder = os.path.dirname(os.path.abspath(path))
-    try:
-        fd, tmp = tempfile.mkstemp(dir=folder, prefix=".plumbframe-", suffix=".tmp")
-    except OSError as exc:
-        raise AnalysisError(f"{path}: cannot write in {folder} ({exc.strerror or exc})") from None
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
-        _public_mode(tmp)
-        os.replace(tmp, path)
-    except OSError as exc:
-        raise AnalysisError(f"{path}: cannot be written ({exc.strerror or exc})") from None
-    finally:
-        if os.path.exists(tmp):
-            os.remove(tmp)
+    atomic_text(path, text)
 
 
 def _finite(obj: Any) -> Any:

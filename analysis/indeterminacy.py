@@ -94,7 +94,7 @@ import scipy.linalg
 import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
-from .model import DOF_NAMES, AnalysisOptions, Frame, member_axes, member_lengths
+from .model import AnalysisOptions, Frame, member_axes, member_lengths
 
 __all__ = ["Indeterminacy", "indeterminacy", "TERM_KEYS"]
 
@@ -472,7 +472,6 @@ def _geometric_mechanisms(frame: Frame, dofs, R: np.ndarray, force: bool = False
     Returns (count, modes over x) or None when the reduced problem stays
     too large to rank densely (unless ``force``).
     """
-    from .stiffness.elements import end_transformation
 
     n, m = frame.n_nodes, frame.n_members
     N6 = 6 * n

@@ -19,7 +19,6 @@ import os
 import shutil
 import sys
 import sysconfig
-import tempfile
 from pathlib import Path
 
 from .errors import AnalysisError
@@ -83,12 +82,6 @@ def _generator(folder: Path):
     return module
 
 
-def _public_mode(path: str) -> None:
-    """Give a temporary file the mode a normally created file would have (mkstemp makes it 0600)."""
-    mask = os.umask(0)
-    os.umask(mask)
-    os.chmod(path, 0o666 & ~mask)
-
 
 def write_sample(name: str, path: str | os.PathLike) -> Path:
     """Write sample ``name`` to ``path`` (atomically: a temporary file moved into place)."""
@@ -107,21 +100,13 @@ def write_sample(name: str, path: str | os.PathLike) -> Path:
                 break
         if source is None:
             raise
-    try:
-        fd, tmp = tempfile.mkstemp(dir=folder, prefix=".plumbframe-", suffix=".ifc")
-    except OSError as exc:
-        raise AnalysisError(f"{path}: cannot write in {folder} ({exc.strerror or exc})") from None
-    os.close(fd)
-    try:
+    from .fileio import atomic_write
+
+    def write(tmp: str) -> None:
         if isinstance(source, Path):
             shutil.copyfile(source, tmp)
         else:
             source.write_sample(name, tmp)
-        _public_mode(tmp)
-        os.replace(tmp, path)
-    except OSError as exc:
-        raise AnalysisError(f"{path}: cannot be written ({exc.strerror or exc})") from None
-    finally:
-        if os.path.exists(tmp):
-            os.remove(tmp)
+
+    atomic_write(path, write, suffix=".ifc")
     return path

@@ -14,7 +14,6 @@ from __future__ import annotations
 
 import argparse
 import importlib.util
-import math
 import os
 import pathlib
 import shutil

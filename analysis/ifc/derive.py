@@ -803,7 +803,6 @@ class _Deriver:
                 target = None
                 if best is not None:
                     target = best[1]
-                    where = f"node at {tuple(np.round(P[target], 4))}"
                 else:
                     # the centre line of another member within its half size
                     lines = self._nearest_line(A, B, lengths, half, P[node], k, tol)
@@ -812,7 +811,6 @@ class _Deriver:
                         new_points.append(A[s] + tv * (B[s] - A[s]))
                         target = node_count + len(new_points) - 1
                         landings[s].append((tv, target))
-                        where = f"centre line of {elements[s].label}"
                 if target is None:
                     continue
                 moved_away.add(int(node))

@@ -87,7 +87,7 @@ from __future__ import annotations
 import logging
 import math
 import os
-from collections.abc import Mapping, Sequence
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -102,7 +102,6 @@ from ..model import (
     FrameBuilder,
     LineLoad,
     LoadCase,
-    Material,
     NodalLoad,
     PointLoad,
     Section,

@@ -42,18 +42,17 @@ import datetime as _dt
 import logging
 import math
 import os
-import tempfile
 from collections import defaultdict
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from ..errors import AnalysisError, IfcInputError, entity_label
-from ..model import ACTION_NAMES, DOF_NAMES, REACTION_NAMES
+from ..errors import AnalysisError, IfcInputError
+from ..model import ACTION_NAMES, REACTION_NAMES
 
 if TYPE_CHECKING:  # pragma: no cover
-    import ifcopenshell
+    pass
 
 __all__ = ["WriteSummary", "write_results", "remove_earlier_results", "TAG", "DERIVED_TAG", "idealisation_text",
            "units_text"]
@@ -192,30 +191,11 @@ def _same_file(a: str, b: str) -> bool:
     return os.path.abspath(a) == os.path.abspath(b)
 
 
-def _public_mode(path: str) -> None:
-    """Give a temporary file the mode a normally created file would have (mkstemp makes it 0600)."""
-    mask = os.umask(0)
-    os.umask(mask)
-    os.chmod(path, 0o666 & ~mask)
-
-
 def _atomic_write(f, out_path: str) -> None:
-    folder = os.path.dirname(os.path.abspath(out_path))
     suffix = os.path.splitext(out_path)[1] or ".ifc"
-    try:
-        fd, tmp = tempfile.mkstemp(dir=folder, prefix=".plumbframe-", suffix=suffix)
-    except OSError as exc:
-        raise AnalysisError(f"{out_path}: cannot write in {folder} ({exc.strerror or exc})") from None
-    os.close(fd)
-    try:
-        f.write(tmp)
-        _public_mode(tmp)
-        os.replace(tmp, out_path)
-    except OSError as exc:
-        raise AnalysisError(f"{out_path}: cannot be written ({exc.strerror or exc})") from None
-    finally:
-        if os.path.exists(tmp):
-            os.remove(tmp)
+    from ..fileio import atomic_write
+
+    atomic_write(out_path, f.write, suffix=suffix)
 
 
 # --------------------------------------------------------------------------- removal of earlier runs

@@ -5,7 +5,6 @@ import datetime as _dt
 import html
 import math
 import os
-import tempfile
 
 import numpy as np
 
@@ -93,7 +92,7 @@ def _member_rows(results):
     rows = []
     for k, mid in enumerate(frame.member_ids):
         best = {}
-        defl, dcase = 0.0, ""
+        defl = 0.0
         for name in results.cases:
             dg = results.diagram(name, k)
             for i, a in enumerate(ACTION_NAMES):
@@ -108,7 +107,7 @@ def _member_rows(results):
                     b[2], b[3] = hi, name
             d, _ = _relative_deflection(dg.stations, dg.deflections, float(results.L[k]))
             if d > defl:
-                defl, dcase = d, name
+                defl = d
         L = float(results.L[k])
         ratio = f"L/{L / defl:.0f}" if defl > 0 else "–"
         row = [mid, f"{L:.3f}"]
@@ -212,7 +211,7 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
         sup = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
         heads = ["Node"] + [f"{REACTION_NAMES[c]} [{'kN' if c < 3 else 'kN·m'}]" for c in active]
         rows = [[frame.node_ids[i], *(_num(cr.reactions[i, c], 1e3) for c in active)] for i in sup]
-        total = [f"sum", *(_num(cr.reactions[sup, c].sum(), 1e3) if c < 3 else "" for c in active)]
+        total = ["sum", *(_num(cr.reactions[sup, c].sum(), 1e3) if c < 3 else "" for c in active)]
         parts.append("<p><b>Reactions</b> (forces the supports exert on the structure, global axes)</p>")
         parts.append(_table(heads, rows + [total]))
         d = cr.displacements
@@ -258,12 +257,6 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
     return "\n".join(parts)
 
 
-def _public_mode(path: str) -> None:
-    """Give a temporary file the mode a normally created file would have (mkstemp makes it 0600)."""
-    mask = os.umask(0)
-    os.umask(mask)
-    os.chmod(path, 0o666 & ~mask)
-
 
 def write_report(path, model, results, indeterminacy=None, *, date: _dt.datetime | None = None) -> str:
     """Write the HTML report to ``path`` (atomically); returns the path."""
@@ -272,18 +265,7 @@ def write_report(path, model, results, indeterminacy=None, *, date: _dt.datetime
     if not os.path.isdir(folder):
         raise AnalysisError(f"{path}: cannot write the report: the folder {folder} does not exist")
     text = build_report(model, results, indeterminacy, date=date)
-    try:
-        fd, tmp = tempfile.mkstemp(dir=folder, prefix=".plumbframe-", suffix=".html")
-    except OSError as exc:
-        raise AnalysisError(f"{path}: cannot write in {folder} ({exc.strerror or exc})") from None
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as fh:
-            fh.write(text)
-        _public_mode(tmp)
-        os.replace(tmp, path)
-    except OSError as exc:
-        raise AnalysisError(f"{path}: cannot be written ({exc.strerror or exc})") from None
-    finally:
-        if os.path.exists(tmp):
-            os.remove(tmp)
+    from ..fileio import atomic_text
+
+    atomic_text(path, text, suffix=".html")
     return path

@@ -15,8 +15,8 @@ import time
 import numpy as np
 import scipy.sparse as sp
 
-from ..errors import Diagnostic, ModelError, UnstableStructureError
-from ..model import DOF_NAMES, AnalysisOptions, Frame, member_axes, member_ends, member_lengths
+from ..errors import Diagnostic, UnstableStructureError
+from ..model import DOF_NAMES, AnalysisOptions, Frame, member_axes, member_lengths
 from .dofs import DofSystem, build_dofs
 from .elements import condense, end_transformation, local_stiffness
 from .loads import CaseLoads, case_loads, generic_fixed_end_forces, uniform_fixed_end_forces
@@ -310,8 +310,6 @@ def _reactions(asm: Assembly, F_ext, u_ext, lam) -> np.ndarray:
 def _end_forces(asm: Assembly, u_ext, fef, lam):
     """Member end forces (m,12,nc) in member axes (nodes on member) and end displacements."""
     A, idx = asm.element_map()
-    m = asm.frame.n_members
-    nc = u_ext.shape[1]
     vals = np.where(idx[:, :, None] >= 0, u_ext[np.maximum(idx, 0)], 0.0)  # (m,w,nc)
     d = A @ vals  # (m,12,nc)
     d = asm._recover(d, fef)

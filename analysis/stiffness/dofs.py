@@ -24,8 +24,8 @@ import scipy.linalg
 import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
-from ..errors import ModelError, UnstableStructureError
-from ..model import ACTION_NAMES, DOF_NAMES, AnalysisOptions, Frame, member_axes, member_lengths
+from ..errors import ModelError
+from ..model import DOF_NAMES, AnalysisOptions, Frame, member_axes
 
 __all__ = ["DofSystem", "ConstraintRow", "build_dofs", "plane_of"]
 

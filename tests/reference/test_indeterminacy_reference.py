@@ -3,7 +3,6 @@
 Sources are named beside each check. "from memory" means the worked example
 or rule is recalled, not copied. Plane frames lie in the world XZ plane (Z up).
 """
-import pytest
 
 from analysis.indeterminacy import indeterminacy
 from analysis.model import AnalysisOptions, FrameBuilder, Material, Section

@@ -7,7 +7,6 @@ In the world XZ plane with X right and Z up, a clockwise rotation is a positive 
 """
 from __future__ import annotations
 
-import numpy as np
 import pytest
 import sympy as sy
 from numpy.testing import assert_allclose

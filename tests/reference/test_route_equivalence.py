@@ -10,7 +10,7 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-ifcopenshell = pytest.importorskip("ifcopenshell")
+import ifcopenshell  # noqa: E402  (a hard dependency: never skipped)
 import ifcopenshell.guid  # noqa: E402
 
 from analysis import analyze  # noqa: E402

@@ -20,7 +20,7 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-ifcopenshell = pytest.importorskip("ifcopenshell")
+import ifcopenshell  # noqa: E402  (a hard dependency: never skipped)
 import ifcopenshell.util.element as ue  # noqa: E402
 
 ROOT = Path(__file__).resolve().parents[2]

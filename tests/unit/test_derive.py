@@ -12,7 +12,7 @@ import pathlib
 import numpy as np
 import pytest
 
-ifcopenshell = pytest.importorskip("ifcopenshell")
+import ifcopenshell  # noqa: E402  (a hard dependency: never skipped)
 import ifcopenshell.guid  # noqa: E402
 
 from analysis import analyze  # noqa: E402

@@ -6,7 +6,7 @@ import sys
 
 import pytest
 
-ifcopenshell = pytest.importorskip("ifcopenshell")
+import ifcopenshell  # noqa: E402  (a hard dependency: never skipped)
 import ifcopenshell.util.unit  # noqa: E402
 import ifcopenshell.validate  # noqa: E402
 

@@ -7,7 +7,7 @@ import math
 import numpy as np
 import pytest
 
-ifcopenshell = pytest.importorskip("ifcopenshell")
+import ifcopenshell  # noqa: E402  (a hard dependency: never skipped)
 import ifcopenshell.geom  # noqa: E402
 import ifcopenshell.guid  # noqa: E402
 

@@ -7,7 +7,6 @@ symmetry, and that the batched assembly equals a plain per-member loop.
 from __future__ import annotations
 
 import numpy as np
-import pytest
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 from numpy.testing import assert_allclose
