@@ -300,17 +300,18 @@ def _kinematic_terms(frame: Frame, dofs, R: np.ndarray) -> tuple[dict, dict]:
 
 
 def _physical_unattached(frame: Frame, dofs, R: np.ndarray) -> list:
-    """Joint rotations nothing attaches to, without the ``condense_pinned`` device."""
+    """Joint rotations nothing attaches to (axis-aligned and skew), without the ``condense_pinned`` device."""
     if not dofs.auto_released.any():
-        return list(dofs.unattached)
-    from .stiffness.dofs import _unattached_rotations
+        return list(dofs.unattached) + list(dofs.skew_unattached)
+    from .stiffness.dofs import _skew_unattached, _unattached_rotations
 
     rel = frame.releases.copy()
     rel[frame.truss, :, 4:6] = True
     rel[frame.truss, 1, 3] = True
     act = np.zeros(6, bool)
     act[list(dofs.active)] = True
-    return _unattached_rotations(frame, R, rel, dofs.restrained, act)
+    aligned = _unattached_rotations(frame, R, rel, dofs.restrained, act)
+    return aligned + _skew_unattached(frame, R, rel, dofs.restrained, act, aligned)
 
 
 # --------------------------------------------------------------------------- member end-force maps

@@ -5,6 +5,13 @@ import os
 import sys
 
 import pytest
+from hypothesis import settings
+
+# Property tests draw the same examples on every run and machine (CI included); explore more
+# locally with HYPOTHESIS_PROFILE=explore.
+settings.register_profile("repeatable", derandomize=True, deadline=None)
+settings.register_profile("explore", derandomize=False, deadline=None, max_examples=300)
+settings.load_profile(os.environ.get("HYPOTHESIS_PROFILE", "repeatable"))
 
 ROOT = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
 if ROOT not in sys.path:
