@@ -72,7 +72,7 @@ def main(argv=None) -> None:
     ap.add_argument("--inextensible", action="store_true")
     args = ap.parse_args(argv)
     options = AnalysisOptions(inextensible=args.inextensible)
-    sizes = [(3, 3, 4), (5, 5, 8), (8, 8, 12), (10, 10, 20), (12, 12, 25), (14, 14, 30)]
+    sizes = [(3, 3, 4), (5, 5, 8), (8, 8, 12), (10, 10, 20), (12, 12, 25), (14, 14, 30), (18, 18, 40)]
     print(f"{'DOF':>8} {'unknowns':>9} {'kin':>7} {'static':>7} {'mech':>5} "
           f"{'count s':>8} {'assembly s':>10} {'ratio':>6}")
     for nx, ny, storeys in sizes:
