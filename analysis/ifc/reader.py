@@ -161,6 +161,19 @@ class IfcModel:
     plane: bool = False  # the analysis model declares in-plane 2D loading (IN_PLANE_LOADING_2D)
 
 
+class _ImpliedConnection:
+    """Stands in for an IfcRelConnectsStructuralMember that the file leaves out (a rigid joint)."""
+
+    AppliedCondition = None
+    ConditionCoordinateSystem = None
+
+    def __init__(self, connection):
+        self.RelatedStructuralConnection = connection
+
+    def is_a(self, _name: str) -> bool:
+        return False
+
+
 # --------------------------------------------------------------------------- entry point
 def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, support_level: float | None = None,
              defaults: ReaderDefaults | Mapping[str, Any] | None = None, area_loads=None) -> IfcModel:
@@ -403,6 +416,7 @@ class _StructuralReader:
     # -- main
     def read(self) -> Frame:
         members, connections = self._items()
+        self._connections = connections
         if not members:
             raise self.fail(self.model, "the structural analysis model has no IfcStructuralCurveMember")
         self.member_ids = _unique_ids(members)
@@ -526,6 +540,18 @@ class _StructuralReader:
                         best, best_d = r, d
                 if best is not None and (best_d <= L_tol or best.is_a("IfcRelConnectsWithEccentricity")):
                     chosen[k] = best
+        for k in (0, 1):
+            if chosen[k] is None:
+                # no relation: a point connection of the model at the same place still joins it (noted)
+                taken = {r.RelatedStructuralConnection.id() for r in chosen if r is not None}
+                for conn in getattr(self, "_connections", ()):
+                    if conn.id() in taken or self._vertex_of(conn) is None:
+                        continue
+                    if float(np.linalg.norm(self._connection_point(conn) - p[k])) <= max(L_tol, 1e-6):
+                        chosen[k] = _ImpliedConnection(conn)
+                        self.warn(member, f"end {'ij'[k]} joins {entity_label(conn)} by position: no "
+                                          "IfcRelConnectsStructuralMember relates them (taken as a rigid joint)", "info")
+                        break
         for k, which in ((0, "start (end i)"), (1, "end (end j)")):
             if chosen[k] is None:
                 raise self.fail(member, f"no IfcStructuralPointConnection at the {which} of its edge (IfcRelConnectsStructuralMember missing)")

@@ -534,6 +534,7 @@ def test_errors_name_the_entity(schema, fault, tmp_path):
         kwargs["edge"] = False
     if fault == "missing end connection":
         kwargs["connect"] = (True, False)
+        m.items.remove(m.nodes["N2"])  # and no point connection of the model lies at that end
     b1 = m.member("B1", "N1", "N2", **kwargs)
     if fault == "no material":
         pass
@@ -548,6 +549,19 @@ def test_errors_name_the_entity(schema, fault, tmp_path):
     with pytest.raises(IfcInputError, match=rf"#{b1.id()} IfcStructuralCurveMember 'B1'") as info:
         read_ifc(m.write(tmp_path / "e.ifc"))
     assert info.value.entity_id == b1.id()
+
+
+@pytest.mark.parametrize("schema", SCHEMAS)
+def test_end_without_relation_joins_the_connection_at_its_position(schema, tmp_path):
+    # a file that leaves out IfcRelConnectsStructuralMember at the free end still reads: the point
+    # connection at that position is the node (a rigid joint), and the reader says so
+    m, _ = cantilever(schema, tmp_path, connect=(True, False))
+    result = read_ifc(m.write(tmp_path / "c.ifc"))
+    assert result.frame.node_ids == ("N1", "N2")
+    assert any("by position" in d.message for d in result.diagnostics)
+    P, L, EI = 10000.0, 4.0, E_STEEL * B * H**3 / 12
+    # cantilever tip deflection P L^3 / (3 E I) (Gere & Timoshenko, Mechanics of Materials — from memory)
+    assert analyze(result.frame).case("G").displacements[1, 2] == pytest.approx(-P * L**3 / (3 * EI), rel=1e-9)
 
 
 # --------------------------------------------------------------------------- sample models
