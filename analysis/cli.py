@@ -535,6 +535,13 @@ def _check(args, con) -> int:
         con.error("the structure is unstable under this idealisation")
         for k, text in enumerate(texts or ("see the counts above",), 1):
             print(f"  mechanism {k}: {text}", file=con.err)
+        if options.plane is None:
+            from .stiffness.dofs import in_plane_problem
+
+            if in_plane_problem(model.frame) is not None:
+                print("  the frame and its loads lie in one plane: `plumbframe check --plane` counts it as a plane "
+                      "frame, and `analyze` falls back to that when the only mechanisms are out of the plane",
+                      file=con.err)
         return EXIT_UNSTABLE
     return EXIT_OK
 
@@ -565,6 +572,9 @@ def _analyze(args, con) -> int:
     except UnstableStructureError as exc:
         _print_unstable(con, exc, ind)
         return EXIT_UNSTABLE
+    if results.options.plane and not options.plane:
+        # the engine fell back to the frame's own plane (a mechanism only out of it): count the same way
+        ind = _indeterminacy(model.frame, results.options, con)
     d = _ind_dict(ind)
     if d and d.get("mechanisms", 0) > 0:  # the counts see a mechanism the solver did not trip over
         _print_unstable(con, UnstableStructureError("; ".join(d.get("notes", [])) or "mechanism found by the counts"),

@@ -204,10 +204,11 @@ class AnalysisOptions:
     """The idealisation and the numerics of one analysis.
 
     plane
-        None: decide from the geometry (a frame whose nodes lie in one plane
-        and whose loads act in it is analysed as a plane frame only when
-        asked); True: plane analysis in the frame's own plane, 3 DOF per
-        joint; False: space frame, 6 DOF per joint.
+        True: plane analysis in the frame's own plane (a world coordinate
+        plane), 3 DOF per joint; False: space frame, 6 DOF per joint; None
+        (default): space frame, except that `analyze` falls back to the
+        plane analysis, with a warning, when the frame and all its loads lie
+        in one world plane and it is a mechanism only out of that plane.
     inextensible
         Every frame member (not truss members) is axially rigid.
     condense_pinned

@@ -9,6 +9,7 @@ are superpositions of case results.
 """
 from __future__ import annotations
 
+import dataclasses
 import logging
 import time
 
@@ -152,10 +153,40 @@ def analyze(frame: Frame, options: AnalysisOptions | None = None, *, progress=No
     ModelError
         The model is inconsistent (e.g. a settlement that contradicts a
         rigid constraint).
+
+    Notes
+    -----
+    With ``options.plane`` left at None, a frame whose nodes and loads all
+    lie in one world plane but which is a mechanism only out of that plane
+    (a portal on pinned bases, say) is analysed as a plane frame, with a
+    warning in the diagnostics; ``plane=False`` insists on the space frame.
     """
+    options = options or AnalysisOptions()
+    if options.plane is None:
+        try:
+            return _analyze(frame, options, progress)
+        except UnstableStructureError as exc:
+            from .dofs import in_plane_problem
+
+            if in_plane_problem(frame) is None:
+                raise
+            plane_options = dataclasses.replace(options, plane=True)
+            try:
+                res = _analyze(frame, plane_options, progress)
+            except UnstableStructureError:
+                raise exc from None
+            res.diagnostics = (Diagnostic(
+                "warning", None,
+                "the frame is a mechanism out of its own plane (" + "; ".join(exc.mechanisms[:1]) + "); its "
+                "nodes and loads all lie in one plane, so it was analysed as a plane frame: brace it out of "
+                "plane or check that a plane analysis is what you mean"),) + tuple(res.diagnostics)
+            return res
+    return _analyze(frame, options, progress)
+
+
+def _analyze(frame: Frame, options: AnalysisOptions, progress=None):
     from ..results import CaseResult, Results
 
-    options = options or AnalysisOptions()
     say = progress or (lambda step: None)
     timings: dict[str, float] = {}
     t0 = time.perf_counter()

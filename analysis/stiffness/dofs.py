@@ -27,7 +27,7 @@ from scipy.sparse.csgraph import connected_components
 from ..errors import ModelError
 from ..model import DOF_NAMES, AnalysisOptions, Frame, member_axes
 
-__all__ = ["DofSystem", "ConstraintRow", "build_dofs", "plane_of"]
+__all__ = ["DofSystem", "ConstraintRow", "build_dofs", "plane_of", "in_plane_problem"]
 
 log = logging.getLogger(__name__)
 
@@ -119,6 +119,42 @@ def plane_of(frame: Frame) -> int | None:
     # a line of nodes: the plane holding the member reference vectors (beams along X: XZ)
     axis = int(np.argmax(span))
     return 1 if axis in (0, 2) else 0
+
+
+def in_plane_problem(frame: Frame) -> int | None:
+    """The world axis normal to the frame's plane when geometry and every load lie in that plane.
+
+    Nodes in one world coordinate plane, every force in it and every moment
+    about its normal (nodal loads, member loads in global or member axes,
+    self-weight, settlements); None otherwise.
+    """
+    axis = plane_of(frame)
+    if axis is None:
+        return None
+    out_force = np.zeros(3, bool)
+    out_force[axis] = True
+    out_moment = ~out_force
+    R = member_axes(frame) if frame.n_members else np.zeros((0, 3, 3))
+    index = frame._member_lookup()
+    for case in frame.load_cases:
+        if abs(case.self_weight[axis]) > 0:
+            return None
+        for load in case.nodal:
+            v = np.asarray(load.values, float)
+            if np.any(v[:3][out_force] != 0) or np.any(v[3:][out_moment] != 0):
+                return None
+        for load in case.member:
+            d = np.zeros(3)
+            d["xyz".index(load.direction)] = 1.0
+            g = d if load.axes == "global" else R[index[load.member]].T @ d
+            moment = getattr(load, "moment", False)
+            if (abs(g[axis]) > 1e-9) != moment or (moment and np.any(np.abs(g[out_moment]) > 1e-9)):
+                return None
+        for s in case.settlements:
+            c = DOF_NAMES.index(s.dof)
+            if (c < 3 and c == axis) or (c >= 3 and c - 3 != axis):
+                return None
+    return axis
 
 
 def build_dofs(frame: Frame, options: AnalysisOptions) -> DofSystem:

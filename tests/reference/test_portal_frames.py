@@ -104,3 +104,17 @@ def test_extensible_portal_is_close_to_slope_deflection():
     space = analyze(portal("fixed"))
     assert space.n_unknowns == 6 * 4 - 12
     assert_allclose(space.cases["lateral"].displacements, res.cases["lateral"].displacements, atol=1e-15)
+
+
+def test_pinned_portal_left_to_the_default_is_analysed_in_its_plane():
+    # in space a portal on pinned bases sways out of its plane freely (a mechanism); its nodes and loads
+    # all lie in the XZ plane, so the default analysis falls back to the plane frame and says so
+    from analysis import UnstableStructureError
+
+    with pytest.raises(UnstableStructureError):
+        analyze(portal("pinned"), AnalysisOptions(plane=False))
+    res = analyze(portal("pinned"))
+    assert res.dimension == 2
+    assert any("out of its own plane" in d.message for d in res.diagnostics)
+    plane = analyze(portal("pinned"), AnalysisOptions(plane=True))
+    assert_allclose(res.cases["lateral"].displacements, plane.cases["lateral"].displacements, rtol=1e-12, atol=1e-18)
