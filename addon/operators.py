@@ -28,10 +28,17 @@ def _settings(context):
     return context.scene.plumbframe
 
 
-def _options(settings):
+def _options(settings, model=None):
     plane = {"AUTO": None, "PLANE": True, "SPACE": False}[settings.plane]
+    if plane is None and getattr(model, "plane", False):
+        plane = True  # the analysis model declares in-plane 2D loading
     return engine("model").AnalysisOptions(plane=plane, inextensible=settings.inextensible,
                                            condense_pinned=settings.condense_pinned, shear=settings.shear)
+
+
+def _scene_options(context):
+    """The idealisation chosen in the panel, for the model loaded in this scene."""
+    return _options(_settings(context), getattr(session(context.scene, create=False), "model", None))
 
 
 def _relay(op, diagnostics) -> None:
@@ -130,7 +137,7 @@ class PLUMBFRAME_OT_check(bpy.types.Operator):
         if s is None:
             return {"CANCELLED"}
         try:
-            ind = engine("indeterminacy").indeterminacy(s.frame, _options(_settings(context)))
+            ind = engine("indeterminacy").indeterminacy(s.frame, _scene_options(context))
         except analysis_error() as exc:
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}
@@ -141,7 +148,7 @@ class PLUMBFRAME_OT_check(bpy.types.Operator):
             if line.strip():
                 self.report({"INFO"}, line)
         if ind.mechanisms:
-            shapes = _mechanism_shapes(ind, s.frame, _options(_settings(context)))
+            shapes = _mechanism_shapes(ind, s.frame, _scene_options(context))
             for k, (motion, text) in enumerate(shapes):
                 drawing.draw_mechanism(scene, s.frame, motion, index=k, text=text)
             self.report({"WARNING"}, f"unstable: {ind.mechanisms} independent mechanism(s)"
@@ -193,7 +200,7 @@ class PLUMBFRAME_OT_analyze(bpy.types.Operator):
             wm.progress_update(min(len(done), len(steps)))
             self.report({"INFO"}, f"analysis: {step}")
 
-        options = _options(_settings(context))
+        options = _scene_options(context)
         wm.progress_begin(0, len(steps))
         try:
             results = engine().analyze(s.frame, options, progress=progress)
