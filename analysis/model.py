@@ -21,8 +21,9 @@ from __future__ import annotations
 
 import dataclasses
 import math
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 import numpy.typing as npt
@@ -309,7 +310,7 @@ class Frame:
             "springs": (np.float64, (n, 6)),
         }
         for key, (dtype, shape) in specs.items():
-            a = np.asarray(getattr(self, key), dtype=dtype)
+            a: np.ndarray = np.asarray(getattr(self, key), dtype=dtype)
             if a.size == 0:
                 a = a.reshape(shape)
             if a.shape != shape:
@@ -437,7 +438,8 @@ class Frame:
 
     def _validate_groups(self) -> None:
         known = set(self.node_ids)
-        for group in (*self.rigid_bodies, *self.diaphragms):
+        groups: tuple[RigidBody | Diaphragm, ...] = (*self.rigid_bodies, *self.diaphragms)
+        for group in groups:
             kind = "rigid body" if isinstance(group, RigidBody) else "diaphragm"
             missing = [k for k in group.nodes if k not in known]
             if missing:
@@ -455,11 +457,11 @@ class Frame:
         lengths = member_lengths(self) if self.n_members else np.zeros(0)
         for case in self.load_cases:
             where = f"load case {case.name!r}"
-            for load in case.nodal:
-                if load.node not in nodes:
-                    raise ModelError(f"{where}: nodal load on missing node {load.node!r}")
-                if len(load.values) != 6 or not np.all(np.isfinite(load.values)):
-                    raise ModelError(f"{where}: nodal load on node {load.node!r} needs six finite values")
+            for nload in case.nodal:
+                if nload.node not in nodes:
+                    raise ModelError(f"{where}: nodal load on missing node {nload.node!r}")
+                if len(nload.values) != 6 or not np.all(np.isfinite(nload.values)):
+                    raise ModelError(f"{where}: nodal load on node {nload.node!r} needs six finite values")
             for load in case.member:
                 if load.member not in members:
                     raise ModelError(f"{where}: load on missing member {load.member!r}")
@@ -679,29 +681,35 @@ class FrameBuilder:
         nodes = [self._nodes[k] for k in node_ids]
         mems = list(self._members.values())
 
-        def per_member(fn) -> list:
+        def per_member(fn: Callable[[dict], Any]) -> list:
             return [fn(mm) for mm in mems]
+
+        def floats(fn: Callable[[dict], Any]) -> FloatArray:
+            return np.array(per_member(fn), dtype=np.float64)
+
+        def flags(fn: Callable[[dict], Any]) -> BoolArray:
+            return np.array(per_member(fn), dtype=np.bool_)
 
         return Frame(
             node_ids=tuple(node_ids),
             nodes=np.array([nd["xyz"] for nd in nodes], dtype=float).reshape(-1, 3),
             member_ids=tuple(self._members),
             members=np.array(per_member(lambda mm: [index[mm["ends"][0]], index[mm["ends"][1]]]), dtype=np.int32).reshape(-1, 2),
-            A=per_member(lambda mm: mm["section"].A),
-            Iy=per_member(lambda mm: mm["section"].Iy),
-            Iz=per_member(lambda mm: mm["section"].Iz),
-            J=per_member(lambda mm: mm["section"].J),
-            Avy=per_member(lambda mm: mm["section"].Avy),
-            Avz=per_member(lambda mm: mm["section"].Avz),
-            E=per_member(lambda mm: mm["material"].E),
-            G=per_member(lambda mm: mm["material"].shear_modulus),
-            density=per_member(lambda mm: mm["material"].density),
+            A=floats(lambda mm: mm["section"].A),
+            Iy=floats(lambda mm: mm["section"].Iy),
+            Iz=floats(lambda mm: mm["section"].Iz),
+            J=floats(lambda mm: mm["section"].J),
+            Avy=floats(lambda mm: mm["section"].Avy),
+            Avz=floats(lambda mm: mm["section"].Avz),
+            E=floats(lambda mm: mm["material"].E),
+            G=floats(lambda mm: mm["material"].shear_modulus),
+            density=floats(lambda mm: mm["material"].density),
             ref=np.array(per_member(lambda mm: mm["ref"]), dtype=float).reshape(-1, 3),
-            roll=per_member(lambda mm: mm["roll"]),
-            truss=per_member(lambda mm: mm["truss"]),
+            roll=floats(lambda mm: mm["roll"]),
+            truss=flags(lambda mm: mm["truss"]),
             releases=np.array(per_member(lambda mm: mm["releases"]), dtype=bool).reshape(-1, 2, 6),
             offsets=np.array(per_member(lambda mm: mm["offsets"]), dtype=float).reshape(-1, 2, 3),
-            inextensible=per_member(lambda mm: mm["inextensible"]),
+            inextensible=flags(lambda mm: mm["inextensible"]),
             restraints=np.array([nd["restraint"] for nd in nodes], dtype=bool).reshape(-1, 6),
             springs=np.array([nd["springs"] for nd in nodes], dtype=float).reshape(-1, 6),
             rigid_bodies=tuple(self._rigid),

@@ -10,12 +10,16 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
 
 from .errors import Diagnostic
 from .model import ACTION_NAMES, DOF_NAMES, REACTION_NAMES, AnalysisOptions, Frame, member_ends
 from .stiffness.loads import _GAUSS_W, _GAUSS_X, CaseLoads, MemberLoading, internal_forces
+
+if TYPE_CHECKING:
+    from .stiffness.dofs import DofSystem
 
 __all__ = ["CaseResult", "Results", "MemberDiagram", "SCHEMA"]
 
@@ -76,7 +80,7 @@ class Results:
 
     frame: Frame
     options: AnalysisOptions
-    dofs: object
+    dofs: DofSystem
     R: np.ndarray
     L: np.ndarray
     cases: dict[str, CaseResult]

@@ -25,7 +25,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
 from ..errors import ModelError
-from ..model import DOF_NAMES, AnalysisOptions, Frame, member_axes
+from ..model import DOF_NAMES, AnalysisOptions, Diaphragm, Frame, RigidBody, member_axes
 
 __all__ = ["DofSystem", "ConstraintRow", "build_dofs", "plane_of", "in_plane_problem"]
 
@@ -139,8 +139,8 @@ def in_plane_problem(frame: Frame) -> int | None:
     for case in frame.load_cases:
         if abs(case.self_weight[axis]) > 0:
             return None
-        for load in case.nodal:
-            v = np.asarray(load.values, float)
+        for nload in case.nodal:
+            v = np.asarray(nload.values, float)
             if np.any(v[:3][out_force] != 0) or np.any(v[3:][out_moment] != 0):
                 return None
         for load in case.member:
@@ -236,7 +236,8 @@ def _in_plane_rotation_mask(R: np.ndarray, plane_axis: int) -> np.ndarray:
 def _check_connected_nodes(frame: Frame) -> None:
     used = np.zeros(frame.n_nodes, bool)
     used[frame.members.ravel()] = True
-    for group in (*frame.rigid_bodies, *frame.diaphragms):
+    groups: tuple[RigidBody | Diaphragm, ...] = (*frame.rigid_bodies, *frame.diaphragms)
+    for group in groups:
         for node in group.nodes:
             used[frame.node_index(node)] = True
     if not used.all():
@@ -401,7 +402,7 @@ def _constraint_rows(frame: Frame, R, options: AnalysisOptions, plane_axis, skew
                           f"joint {frame.node_labels[node]} turns freely about ({vec[0]:.3f}, {vec[1]:.3f}, {vec[2]:.3f}): "
                           "no member end is attached in that direction", (node,)))
 
-    def skew(o):
+    def cross_matrix(o):
         return np.array([[0, -o[2], o[1]], [o[2], 0, -o[0]], [-o[1], o[0], 0]])
 
     axial = frame.inextensible.copy()
@@ -415,7 +416,7 @@ def _constraint_rows(frame: Frame, R, options: AnalysisOptions, plane_axis, skew
         coeffs: dict[tuple[int, int], float] = {}
         for node, sign, o in ((j, 1.0, frame.offsets[k, 1]), (i, -1.0, frame.offsets[k, 0])):
             # e · (u - S(o) θ)
-            rot = -(e @ skew(o))
+            rot = -(e @ cross_matrix(o))
             for c in range(3):
                 coeffs[(int(node), c)] = coeffs.get((int(node), c), 0.0) + sign * e[c]
                 coeffs[(int(node), 3 + c)] = coeffs.get((int(node), 3 + c), 0.0) + sign * rot[c]
@@ -427,7 +428,7 @@ def _constraint_rows(frame: Frame, R, options: AnalysisOptions, plane_axis, skew
         mnode = idx[0]
         for node in idx[1:]:
             d = frame.nodes[node] - frame.nodes[mnode]
-            S = skew(d)
+            S = cross_matrix(d)
             for c in range(3):  # u_k - u_m + S(d) θ_m = 0
                 coeffs = {(node, c): 1.0, (mnode, c): -1.0}
                 for q in range(3):
@@ -470,11 +471,11 @@ def _constraint_rows(frame: Frame, R, options: AnalysisOptions, plane_axis, skew
                                       f"diaphragm {dia.name!r} ties the in-plane rotation of node {frame.node_labels[node]} to node {frame.node_labels[mnode]}",
                                       (mnode, node)))
     if data:
-        r, c, v = (np.array(x) for x in zip(*data))
+        r_arr, c_arr, v_arr = (np.array(x) for x in zip(*data))
     else:
-        r = c = np.zeros(0, int)
-        v = np.zeros(0)
-    C_full = sp.coo_array((v, (r, c)), shape=(len(rows), 6 * n)).tocsr()
+        r_arr = c_arr = np.zeros(0, int)
+        v_arr = np.zeros(0)
+    C_full = sp.coo_array((v_arr, (r_arr, c_arr)), shape=(len(rows), 6 * n)).tocsr()
     return rows, C_full
 
 
@@ -613,6 +614,7 @@ def _eliminate(C: sp.csr_array, scale: np.ndarray, n_x: int):
                        (np.concatenate([masters, np.array(t_rows, dtype=np.int64)]),
                         np.concatenate([qcol[masters], qcol[t_cols_a]]))),
                       shape=(n_x, masters.size)).tocsr()
+    direct: tuple  # (rows, slaves, pivots, map) of the directly solved rows, or ()
     if rows1.size:
         A = _direct_map(C, rows1, slaves1, pivots1, n_x)
         T = (A @ T2).tocsr()

@@ -202,8 +202,8 @@ def case_loads(frame: Frame, case: LoadCase, R: np.ndarray, L: np.ndarray) -> Ca
     nodes = frame._node_lookup()
     members = frame._member_lookup()
     nodal = np.zeros((frame.n_nodes, 6))
-    for load in case.nodal:
-        nodal[nodes[load.node]] += np.asarray(load.values, float)
+    for nload in case.nodal:
+        nodal[nodes[nload.node]] += np.asarray(nload.values, float)
     uniform = np.zeros((frame.n_members, 3))
     sw = np.asarray(case.self_weight, float)
     if np.any(sw):
