@@ -16,7 +16,10 @@ import os
 import sys
 import time
 import traceback
-from typing import Any, Sequence
+from typing import TYPE_CHECKING, Any, Sequence
+
+if TYPE_CHECKING:
+    from .model import FloatArray
 
 __all__ = ["main", "build_parser", "summary_table", "EXIT_OK", "EXIT_BAD_INPUT", "EXIT_UNSTABLE"]
 
@@ -376,7 +379,7 @@ def check_document(frame, ind: dict | None, options=None) -> dict:
     from .model import member_lengths
     from .results import SCHEMA
 
-    lengths = member_lengths(frame) if frame.n_members else []
+    lengths: FloatArray | list[float] = member_lengths(frame) if frame.n_members else []
     dof = (ind or {}).get("terms", {}).get("dof_per_joint")
     dimension = 2 if dof == 3 else 3
     doc = {

@@ -22,7 +22,7 @@ def _public_mode(path: str) -> None:
     os.chmod(path, 0o666 & ~mask)
 
 
-def atomic_write(path: str, write: Callable[[str], None], suffix: str = ".tmp") -> str:
+def atomic_write(path: str | os.PathLike[str], write: Callable[[str], None], suffix: str = ".tmp") -> str:
     """Call ``write(tmp_path)`` and move the result to ``path``; nothing is left behind on failure.
 
     Raises
@@ -49,7 +49,7 @@ def atomic_write(path: str, write: Callable[[str], None], suffix: str = ".tmp") 
     return path
 
 
-def atomic_text(path: str, text: str, suffix: str = ".tmp") -> str:
+def atomic_text(path: str | os.PathLike[str], text: str, suffix: str = ".tmp") -> str:
     """Write a UTF-8 text file atomically (see `atomic_write`)."""
 
     def write(tmp: str) -> None:

@@ -88,6 +88,7 @@ import logging
 import time
 import types
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, cast
 
 import numpy as np
 import scipy.linalg
@@ -95,6 +96,9 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
 from .model import AnalysisOptions, Frame, member_axes, member_lengths
+
+if TYPE_CHECKING:
+    from .stiffness.analyze import Assembly
 
 __all__ = ["Indeterminacy", "indeterminacy", "TERM_KEYS"]
 
@@ -555,9 +559,10 @@ def _geometric_mechanisms(frame: Frame, dofs, R: np.ndarray, force: bool = False
     spring = (frame.springs > 0) & active[None, :] & ~dofs.restrained
     held = dofs.restrained & in_cluster[:, None]
     for mask in (spring, held):
-        idx = np.flatnonzero(mask.reshape(-1))
-        if idx.size:
-            blocks.append(sp.coo_array((np.ones(idx.size), (np.arange(idx.size), idx)), shape=(idx.size, n_ext)).tocsr())
+        held_idx = np.flatnonzero(mask.reshape(-1))
+        if held_idx.size:
+            blocks.append(sp.coo_array((np.ones(held_idx.size), (np.arange(held_idx.size), held_idx)),
+                                       shape=(held_idx.size, n_ext)).tocsr())
     if dofs.C.shape[0]:
         Cx = dofs.C.tocoo()
         x_ext = _x_to_ext(dofs, N6, n_joint_x)
@@ -705,11 +710,12 @@ def _dense_null(B: np.ndarray) -> np.ndarray:
     """Null space basis (cols, k) of B, reducing tall blocks by QR first."""
     rows, cols = B.shape
     if rows > 2 * cols:
-        Rr = None
+        Rr: np.ndarray | None = None
         step = max(4 * cols, 256)
         for s0 in range(0, rows, step):
             chunk = B[s0:s0 + step] if Rr is None else np.vstack([Rr, B[s0:s0 + step]])
             Rr = scipy.linalg.qr(chunk, mode="r")[0][: min(chunk.shape)]
+        assert Rr is not None  # rows > 2 * cols >= 0, so the loop ran at least once
         B = Rr
     _, sv, Vt = np.linalg.svd(B, full_matrices=True)
     top = sv.max() if sv.size else 0.0
@@ -741,7 +747,8 @@ def _describe_modes(frame: Frame, dofs, modes: list[np.ndarray]) -> list[str]:
     out = []
     for x in modes:
         text = _rigid_motion_text(frame, dofs, asm, x)
-        out.append(text or describe_mechanism(asm, x))
+        # asm is a stand-in carrying the fields describe_mechanism reads (frame, dofs, N6, n_ext, x_ext)
+        out.append(text or describe_mechanism(cast("Assembly", asm), x))
     return out
 
 
@@ -774,7 +781,7 @@ def _rigid_motion_text(frame, dofs, asm, x) -> str | None:
         return None
     t, w = sol[:3], sol[3:]
     parts = []
-    if np.linalg.norm(t) > 1e-9 * np.linalg.norm(sol) and np.linalg.norm(w) < 1e-9 * max(np.linalg.norm(t), 1e-300):
+    if np.linalg.norm(t) > 1e-9 * np.linalg.norm(sol) and np.linalg.norm(w) < 1e-9 * max(float(np.linalg.norm(t)), 1e-300):
         direction = ", ".join(f"{_AXIS[a]}" for a in range(3) if abs(t[a]) > 0.2 * np.abs(t).max())
         parts.append(f"slide in {direction}")
     else:
@@ -819,12 +826,12 @@ def _explain_redundant(frame: Frame, dofs) -> list[str]:
             if earlier:
                 a = np.linalg.lstsq(M[earlier].T, M[pos], rcond=None)[0]
                 norms = np.linalg.norm(M[earlier], axis=1) * np.abs(a)
-                ref = max(np.linalg.norm(M[pos]), 1e-300)
+                ref = max(float(np.linalg.norm(M[pos])), 1e-300)
                 coeffs = [(int(ridx[earlier[k]]), float(a[k])) for k in range(len(earlier)) if norms[k] > 1e-8 * ref]
         resid = C_r[[r]].toarray().reshape(-1)
         for q, a in coeffs:
             resid = resid - a * C_r[[q]].toarray().reshape(-1)
-        ref = max(np.abs(C_r[[r]].toarray()).max(), np.abs(resid).max(), 1e-300)
+        ref = max(float(np.abs(C_r[[r]].toarray()).max()), float(np.abs(resid).max()), 1e-300)
         supports = np.flatnonzero(np.abs(resid) > 1e-8 * ref)
         out.append(_sentence(frame, dofs, row, [dofs.rows[q] for q, _ in coeffs], supports))
     if len(red) > MAX_EXPLAINED:

@@ -126,7 +126,7 @@ class Results:
                 out[k] = dg
         for k in generic:
             out[k] = self._diagram(cr, k, n_st)
-        return out  # type: ignore[return-value]
+        return out  # type: ignore[return-value]  # every slot is filled: uniform and generic cover 0..m-1
 
     def _diagram(self, cr: CaseResult, k: int, n_st: int) -> MemberDiagram:
         L = float(self.L[k])

@@ -20,6 +20,7 @@ import shutil
 import sys
 import sysconfig
 from pathlib import Path
+from types import ModuleType
 
 from .errors import AnalysisError
 
@@ -64,7 +65,7 @@ def sample_path(name: str) -> Path:
     raise AnalysisError(f"no sample model named {name!r}; available: {listing}")
 
 
-def _generator(folder: Path):
+def _generator(folder: Path) -> ModuleType | None:
     script = folder / "generate.py"
     if not script.is_file():
         return None
@@ -72,10 +73,12 @@ def _generator(folder: Path):
     if name in sys.modules:
         return sys.modules[name]
     spec = importlib.util.spec_from_file_location(name, script)
+    if spec is None or spec.loader is None:
+        return None
     module = importlib.util.module_from_spec(spec)
     sys.modules[name] = module  # dataclasses look their module up while the script runs
     try:
-        spec.loader.exec_module(module)  # type: ignore[union-attr]
+        spec.loader.exec_module(module)
     except Exception:
         del sys.modules[name]
         return None
@@ -89,6 +92,7 @@ def write_sample(name: str, path: str | os.PathLike) -> Path:
     folder = path.resolve().parent
     if not folder.is_dir():
         raise AnalysisError(f"{path}: the folder {folder} does not exist")
+    source: Path | ModuleType | None
     try:
         source = sample_path(name)
     except AnalysisError:

@@ -165,10 +165,10 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
     node_rows = []
     for i, nid in enumerate(frame.node_ids):
         r = frame.restraints[i]
-        sup = "fixed" if r.all() else (" ".join(DOF_NAMES[c] for c in range(6) if r[c]) or "")
+        support = "fixed" if r.all() else (" ".join(DOF_NAMES[c] for c in range(6) if r[c]) or "")
         if (frame.springs[i] > 0).any():
-            sup += " springs"
-        node_rows.append([nid, *(f"{v:.3f}" for v in frame.nodes[i]), sup or "–", frame.node_labels[i]])
+            support += " springs"
+        node_rows.append([nid, *(f"{v:.3f}" for v in frame.nodes[i]), support or "–", frame.node_labels[i]])
     parts.append(_table(["Node", "X [m]", "Y [m]", "Z [m]", "Support", "Source"], node_rows))
     parts.append("<h3>Members</h3>")
     mem_rows = []

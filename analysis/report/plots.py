@@ -142,7 +142,8 @@ def frame_views(frame, results=None) -> list[tuple[str, str]]:
 
         normal = plane_of(frame) if frame.n_nodes > 1 else None
         if normal is not None:
-            plane = tuple(k for k in range(3) if k != normal)
+            a, b = (k for k in range(3) if k != normal)
+            plane = (a, b)
     legend = "node labels black, member labels blue, supports red: square fixed, triangle partial"
     if plane is not None:
         fig, ax = plt.subplots(figsize=(9, 5.5))
