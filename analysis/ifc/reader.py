@@ -89,9 +89,10 @@ import math
 import os
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
+import numpy.typing as npt
 
 from ..errors import AnalysisError, Diagnostic, IfcInputError, entity_label
 from ..model import (
@@ -102,13 +103,24 @@ from ..model import (
     FrameBuilder,
     LineLoad,
     LoadCase,
+    Material,
     NodalLoad,
     PointLoad,
     Section,
     Settlement,
 )
 
+from .placement import PlacementCache
+
+if TYPE_CHECKING:
+    from ..units import UnitScales
+    from .sections import SectionProperties
+
 __all__ = ["IfcModel", "ReaderDefaults", "read_ifc"]
+
+Entity = Any  # an ifcopenshell.entity_instance (ifcopenshell ships no type information)
+Vec3 = npt.NDArray[np.float64]  # (3,) float64
+Mat = npt.NDArray[np.float64]  # (3, 3) or (4, 4) float64
 
 logger = logging.getLogger(__name__)
 
@@ -172,6 +184,34 @@ class _ImpliedConnection:
 
     def is_a(self, _name: str) -> bool:
         return False
+
+
+class _ConnectionIndex:
+    """Point connections found by position: a KD-tree over their world points, built once.
+
+    ``first_within`` gives the same connection as scanning the list in order
+    for the first one within the tolerance, in O(log n) per query.
+    """
+
+    def __init__(self, connections: list[Entity], points: list[Vec3]) -> None:
+        from scipy.spatial import cKDTree
+
+        self.connections = connections
+        self.points: npt.NDArray[np.float64] = np.array(points, dtype=float).reshape(-1, 3)
+        self.tree = cKDTree(self.points) if connections else None
+
+    def first_within(self, point: Vec3, tol: float, taken: set[int]) -> Entity | None:
+        if self.tree is None:
+            return None
+        # a slightly larger radius for the tree, then the exact test of the list scan
+        candidates = sorted(self.tree.query_ball_point(point, tol * (1.0 + 1e-9) + 1e-300))
+        for i in candidates:
+            conn = self.connections[i]
+            if conn.id() in taken:
+                continue
+            if float(np.linalg.norm(self.points[i] - point)) <= tol:
+                return conn
+        return None
 
 
 # --------------------------------------------------------------------------- entry point
@@ -301,15 +341,6 @@ def _as_list(value) -> list:
     return [value]
 
 
-def _placement_matrix(placement) -> np.ndarray:
-    """4x4 world matrix (file length units) of an IfcObjectPlacement, identity for None."""
-    if placement is None:
-        return np.eye(4)
-    import ifcopenshell.util.placement as ifc_placement
-
-    return np.asarray(ifc_placement.get_local_placement(placement), dtype=float)
-
-
 def _axis2placement_matrix(axis_placement) -> np.ndarray:
     if axis_placement is None:
         return np.eye(4)
@@ -347,22 +378,36 @@ def _local_axes(ex: np.ndarray, ref: np.ndarray | None, roll: float = 0.0) -> np
     if n < 1e-9:
         return None  # caller reports
     ez = ez / n
-    ey = np.cross(ez, ex)
+    ey = _cross(ez, ex)
     if roll:
         c, s = math.cos(roll), math.sin(roll)
         ey, ez = c * ey + s * ez, -s * ey + c * ez
     return np.stack([ex, ey, ez])
 
 
-def _unique_ids(entities) -> dict[int, str]:
+def _cross(a: Vec3, b: Vec3) -> Vec3:
+    """``np.cross`` of two 3-vectors (the same arithmetic, without its per-call overhead)."""
+    a0, a1, a2 = a.tolist()
+    b0, b1, b2 = b.tolist()
+    return np.array([a1 * b2 - a2 * b1, a2 * b0 - a0 * b2, a0 * b1 - a1 * b0])
+
+
+def _norm(v: Vec3) -> float:
+    """Euclidean length of a 3-vector (for tolerance tests)."""
+    x, y, z = v.tolist()
+    return math.sqrt(x * x + y * y + z * z)
+
+
+def _unique_ids(entities: list[Entity]) -> dict[int, str]:
     """Entity id -> Name where present and unique among ``entities``, else GlobalId."""
+    names = [(e, e.Name) for e in entities]
     counts: dict[str, int] = {}
-    for e in entities:
-        if e.Name:
-            counts[e.Name] = counts.get(e.Name, 0) + 1
+    for _, name in names:
+        if name:
+            counts[name] = counts.get(name, 0) + 1
     ids = {}
-    for e in entities:
-        ids[e.id()] = e.Name if e.Name and counts[e.Name] == 1 else str(e.GlobalId)
+    for e, name in names:
+        ids[e.id()] = name if name and counts[name] == 1 else str(e.GlobalId)
     return ids
 
 
@@ -379,9 +424,24 @@ class _StructuralReader:
         self.diagnostics: list[Diagnostic] = []
         self.notes: list[str] = []
         self.physical: dict[str, str] = {}
+        self._placement_cache = PlacementCache()
         shared = getattr(model, "SharedPlacement", None)
-        self.shared = _placement_matrix(shared) if shared is not None else None
-        self._placements: dict[int, np.ndarray] = {}
+        self.shared = self._placement_cache.matrix(shared) if shared is not None else None
+        # per-entity look-ups, computed once (profiles, materials, conditions and loads are shared)
+        self._vertices: dict[int, Any] = {}
+        self._points: dict[int, Vec3] = {}
+        self._vertex_world: dict[tuple[int, int], Vec3] = {}
+        self._materials: dict[tuple[Any, ...], Material] = {}
+        self._profiles: dict[tuple[int, ...], tuple[Entity | None, int | None, Entity | None]] = {}
+        self._sections: dict[tuple[int, int | None], tuple[Section, SectionProperties, list[str]]] = {}
+        self._boxes: dict[int, tuple[np.ndarray, np.ndarray]] = {}
+        self._line_forces: dict[int, np.ndarray] = {}
+        self._conditions: dict[int, tuple[list[bool], list[float], list[Any]]] = {}
+        self._connection_index: _ConnectionIndex | None = None
+        self._activity_items: dict[int, Any] | None = None
+        self._physical_links: tuple[dict[int, Any], dict[int, Any]] | None = None
+        self._material_links: dict[int, list[Any]] | None = None
+        self._profile_links: dict[int, list[Any]] | None = None
 
     # -- small utilities
     def warn(self, entity, message: str, level: str = "warning") -> None:
@@ -397,21 +457,36 @@ class _StructuralReader:
         pl = getattr(item, "ObjectPlacement", None)
         if pl is None:
             return self.shared if self.shared is not None else np.eye(4)
-        key = pl.id()
-        if key not in self._placements:
-            self._placements[key] = _placement_matrix(pl)
-        return self._placements[key]
+        return self._placement_cache.matrix(pl)
 
     @property
     def global_rotation(self) -> np.ndarray:
         """Rotation of the model's 'global' axes (SharedPlacement) in world axes."""
         return self.shared[:3, :3] if self.shared is not None else np.eye(3)
 
-    def world_point(self, item, coords) -> np.ndarray:
-        M = self.placement_of(item)
+    def world_point(self, item: Entity, coords: Any) -> Vec3:
+        """World position (m) of coordinates given in an item's frame (see `placement_of`)."""
+        return self._to_world(self.placement_of(item), coords)
+
+    def _to_world(self, M: Mat, coords: Any) -> Vec3:
         c = [float(v) for v in coords] + [0.0, 0.0, 0.0]
         local = np.array(c[:3] + [1.0])
         return (M @ local)[:3] * self.s.length
+
+    def _vertex_points(self, item: Entity, vertices: tuple[Entity, ...]) -> list[Vec3]:
+        """World positions (m) of IfcVertexPoints given in an item's frame, cached per (placement, vertex)."""
+        pl = getattr(item, "ObjectPlacement", None)
+        pkey = pl.id() if pl is not None else 0
+        out = []
+        for v in vertices:
+            key = (pkey, v.id())
+            point = self._vertex_world.get(key)
+            if point is None:
+                point = self._to_world(self.placement_of(item), v.VertexGeometry.Coordinates)
+                point.flags.writeable = False  # shared by every item that names the vertex
+                self._vertex_world[key] = point
+            out.append(point)
+        return out
 
     # -- main
     def read(self) -> Frame:
@@ -429,7 +504,8 @@ class _StructuralReader:
         for c in connections:
             if c.id() not in used:
                 self.warn(c, "point connection not connected to any curve member of the model: ignored", "info")
-        conn_list = [c for c in connections if c.id() in used] + [c for cid, c in used.items() if cid not in {x.id() for x in connections}]
+        listed = {c.id() for c in connections}
+        conn_list = [c for c in connections if c.id() in used] + [c for cid, c in used.items() if cid not in listed]
         self.node_ids = _unique_ids(conn_list)
         self.node_xyz = {c.id(): self._connection_point(c) for c in conn_list}
 
@@ -469,21 +545,33 @@ class _StructuralReader:
                     self.warn(obj, f"{obj.is_a()} is not supported by a frame analysis: ignored")
         return members, connections
 
-    def _connection_point(self, conn) -> np.ndarray:
-        vertex = self._vertex_of(conn)
-        if vertex is None:
-            raise self.fail(conn, "no vertex point (topology representation 'Reference' with an IfcVertexPoint)")
-        return self.world_point(conn, vertex.VertexGeometry.Coordinates)
+    def _connection_point(self, conn: Entity) -> Vec3:
+        """World position (m) of a point connection's vertex (cached; do not modify)."""
+        key = conn.id()
+        point = self._points.get(key)
+        if point is None:
+            vertex = self._vertex_of(conn)
+            if vertex is None:
+                raise self.fail(conn, "no vertex point (topology representation 'Reference' with an IfcVertexPoint)")
+            point = self._vertex_points(conn, (vertex,))[0]
+            self._points[key] = point
+        return point
 
-    def _vertex_of(self, item):
+    def _vertex_of(self, item: Entity) -> Entity | None:
+        key = item.id()
+        if key in self._vertices:
+            return self._vertices[key]
+        found = None
         rep = getattr(item, "Representation", None)
-        if rep is None:
-            return None
-        for r in rep.Representations or ():
+        for r in (rep.Representations or ()) if rep is not None else ():
             for it in r.Items or ():
                 if it.is_a("IfcVertexPoint") and it.VertexGeometry is not None:
-                    return it
-        return None
+                    found = it
+                    break
+            if found is not None:
+                break
+        self._vertices[key] = found
+        return found
 
     def _edge_of(self, member):
         rep = getattr(member, "Representation", None)
@@ -497,7 +585,14 @@ class _StructuralReader:
                     return it, it.EdgeStart, it.EdgeEnd
         return None
 
-    def _member_ends(self, member) -> dict:
+    def _connection_at(self, point: Vec3, tol: float, taken: set[int]) -> Entity | None:
+        """The first point connection of the model (in the model's order) within ``tol`` (m) of ``point``."""
+        if self._connection_index is None:
+            with_vertex = [c for c in self._connections if self._vertex_of(c) is not None]
+            self._connection_index = _ConnectionIndex(with_vertex, [self._connection_point(c) for c in with_vertex])
+        return self._connection_index.first_within(point, tol, taken)
+
+    def _member_ends(self, member: Entity) -> dict[str, Any]:
         """End points (world, m) and the connection and relation at each end."""
         found = self._edge_of(member)
         if found is None:
@@ -510,68 +605,92 @@ class _StructuralReader:
             straight = geom.is_a("IfcLine") or (geom.is_a("IfcPolyline") and len(geom.Points) == 2)
             if not straight:
                 self.warn(member, f"edge geometry {geom.is_a()} is read as the straight chord between its end points")
-        p = [self.world_point(member, v.VertexGeometry.Coordinates) for v in (v_start, v_end)]
-        rels = [r for r in (getattr(member, "ConnectedBy", None) or ()) if r.is_a("IfcRelConnectsStructuralMember")]
-        point_rels = [r for r in rels if r.RelatedStructuralConnection is not None and r.RelatedStructuralConnection.is_a("IfcStructuralPointConnection")]
-        chosen: list = [None, None]
+        p = self._vertex_points(member, (v_start, v_end))
+        # (relation, its point connection) pairs, in the order of the member's ConnectedBy
+        point_rels: list[tuple[Entity, Entity]] = []
+        for r in getattr(member, "ConnectedBy", None) or ():
+            if not r.is_a("IfcRelConnectsStructuralMember"):
+                continue
+            conn = r.RelatedStructuralConnection
+            if conn is not None and conn.is_a("IfcStructuralPointConnection"):
+                point_rels.append((r, conn))
+        # index into point_rels of the relation chosen at each end (None: not yet, -1: implied by position)
+        chosen: list[int | None] = [None, None]
+        conns: list[Entity | None] = [None, None]
         for k, v in enumerate((v_start, v_end)):
             # 1. the same vertex entity; 2. the eccentricity's vertex on the member; 3. the point within tolerance
-            for r in point_rels:
-                cv = self._vertex_of(r.RelatedStructuralConnection)
-                if cv is not None and cv.id() == v.id():
-                    chosen[k] = r
+            vid = v.id()
+            for n, (r, conn) in enumerate(point_rels):
+                cv = self._vertex_of(conn)
+                if cv is not None and cv.id() == vid:
+                    chosen[k], conns[k] = n, conn
                     break
             if chosen[k] is None:
-                for r in point_rels:
+                for n, (r, conn) in enumerate(point_rels):
                     if r.is_a("IfcRelConnectsWithEccentricity") and r.ConnectionConstraint is not None:
                         on_member = getattr(r.ConnectionConstraint, "PointOnRelatingElement", None)
-                        if on_member is not None and on_member.id() in (v.id(), getattr(v, "VertexGeometry", v).id()):
-                            chosen[k] = r
+                        if on_member is not None and on_member.id() in (vid, getattr(v, "VertexGeometry", v).id()):
+                            chosen[k], conns[k] = n, conn
                             break
         L_tol = 1e-6 * max(1.0, float(np.linalg.norm(p[1] - p[0])))
         for k in (0, 1):
             if chosen[k] is None:
                 best, best_d = None, math.inf
-                for r in point_rels:
-                    if r in chosen:
+                for n, (r, conn) in enumerate(point_rels):
+                    if n in chosen:
                         continue
-                    d = float(np.linalg.norm(self._connection_point(r.RelatedStructuralConnection) - p[k]))
+                    d = float(np.linalg.norm(self._connection_point(conn) - p[k]))
                     if d < best_d:
-                        best, best_d = r, d
-                if best is not None and (best_d <= L_tol or best.is_a("IfcRelConnectsWithEccentricity")):
-                    chosen[k] = best
+                        best, best_d = n, d
+                if best is not None and (best_d <= L_tol or point_rels[best][0].is_a("IfcRelConnectsWithEccentricity")):
+                    chosen[k], conns[k] = best, point_rels[best][1]
+        rels: list[Any] = [None, None]
         for k in (0, 1):
-            if chosen[k] is None:
-                # no relation: a point connection of the model at the same place still joins it (noted)
-                taken = {r.RelatedStructuralConnection.id() for r in chosen if r is not None}
-                for conn in getattr(self, "_connections", ()):
-                    if conn.id() in taken or self._vertex_of(conn) is None:
-                        continue
-                    if float(np.linalg.norm(self._connection_point(conn) - p[k])) <= max(L_tol, 1e-6):
-                        chosen[k] = _ImpliedConnection(conn)
-                        self.warn(member, f"end {'ij'[k]} joins {entity_label(conn)} by position: no "
-                                          "IfcRelConnectsStructuralMember relates them (taken as a rigid joint)", "info")
-                        break
-        for k, which in ((0, "start (end i)"), (1, "end (end j)")):
-            if chosen[k] is None:
-                raise self.fail(member, f"no IfcStructuralPointConnection at the {which} of its edge (IfcRelConnectsStructuralMember missing)")
-        if chosen[0].RelatedStructuralConnection.id() == chosen[1].RelatedStructuralConnection.id():
+            if chosen[k] is not None:
+                rels[k] = point_rels[chosen[k]][0]
+                continue
+            # no relation: a point connection of the model at the same place still joins it (noted)
+            taken = {c.id() for c in conns if c is not None}
+            found = self._connection_at(p[k], max(L_tol, 1e-6), taken)
+            if found is not None:
+                chosen[k], conns[k], rels[k] = -1, found, _ImpliedConnection(found)
+                self.warn(member, f"end {'ij'[k]} joins {entity_label(found)} by position: no "
+                                  "IfcRelConnectsStructuralMember relates them (taken as a rigid joint)", "info")
+        conn_i, conn_j = conns
+        if conn_i is None or conn_j is None:
+            which = "start (end i)" if conn_i is None else "end (end j)"
+            raise self.fail(member, f"no IfcStructuralPointConnection at the {which} of its edge (IfcRelConnectsStructuralMember missing)")
+        if conn_i.id() == conn_j.id():
             raise self.fail(member, "both ends connect to the same point connection")
-        extra = [r for r in point_rels if r not in chosen]
+        extra = [conn for n, (_, conn) in enumerate(point_rels) if n not in chosen]
         if extra:
-            names = ", ".join(entity_label(r.RelatedStructuralConnection) for r in extra)
+            names = ", ".join(entity_label(conn) for conn in extra)
             raise self.fail(member, f"connected to point connections between its ends ({names}): split the member at them")
         if np.linalg.norm(p[1] - p[0]) <= 1e-9 * max(1.0, float(np.abs(p[0]).max())):
             raise self.fail(member, "zero length (edge start and end at the same point)")
-        return {"points": p, "rels": chosen, "conns": [(r, r.RelatedStructuralConnection) for r in chosen]}
+        return {"points": p, "rels": rels, "conns": [(rels[0], conn_i), (rels[1], conn_j)]}
 
     # -- supports
-    def _condition_flags(self, cond, owner, what: str):
-        """(fixed[6], springs_si[6]) of an IfcBoundaryNodeCondition, in its own axes."""
+    def _condition_flags(self, cond: Entity | None, owner: Entity, what: str) -> tuple[list[bool], list[float], list[Any]]:
+        """(fixed[6], springs_si[6], raw values[6]) of an IfcBoundaryNodeCondition, in its own axes.
+
+        Cached per condition entity when reading it reported nothing (reports
+        name the owner, so those are repeated for each owner).
+        """
+        if cond is None:
+            return [False] * 6, [0.0] * 6, [None] * 6
+        found = self._conditions.get(cond.id())
+        if found is not None:
+            return list(found[0]), list(found[1]), list(found[2])
+        reported = len(self.diagnostics)
+        fixed, springs, raw_values = self._read_condition(cond, owner, what)
+        if len(self.diagnostics) == reported:
+            self._conditions[cond.id()] = (list(fixed), list(springs), list(raw_values))
+        return fixed, springs, raw_values
+
+    def _read_condition(self, cond: Entity, owner: Entity, what: str) -> tuple[list[bool], list[float], list[Any]]:
         fixed = [False] * 6
         springs = [0.0] * 6
-        if cond is None:
-            return fixed, springs, [None] * 6
         if not cond.is_a("IfcBoundaryNodeCondition"):
             self.warn(owner, f"{what} {cond.is_a()} is not a node condition: ignored")
             return fixed, springs, [None] * 6
@@ -638,19 +757,13 @@ class _StructuralReader:
 
     # -- members
     def _member(self, member, ends: dict, need_density: bool, material_cache: dict) -> None:
-        from ..units import section_to_si
-        from .materials import element_material, element_profile, profile_mechanical_values
-        from .sections import PSET_FIELD_UNITS, section_from_pset, section_properties
-
         mid = self.member_ids[member.id()]
         label = entity_label(member)
         predefined = str(getattr(member, "PredefinedType", None) or "NOTDEFINED")
         truss = predefined in _TRUSS_TYPES
         if predefined in _ONE_WAY_TYPES:
             self.warn(member, f"{predefined}: {_ONE_WAY_TYPES[predefined]} behaviour is not modelled by a linear analysis; the member is an axial bar carrying both tension and compression")
-        material, diags = element_material(self.f, member, self.s, self.defaults, need_density=need_density,
-                                           need_shear=not truss, cache=material_cache)
-        self.diagnostics.extend(diags)
+        material = self._material(member, need_density, truss, material_cache)
 
         # axes
         p_i, p_j = ends["points"]
@@ -660,9 +773,9 @@ class _StructuralReader:
         axis = getattr(member, "Axis", None)
         if axis is not None:
             ref = self.placement_of(member)[:3, :3] @ _direction(axis)
-            if np.linalg.norm(np.cross(ref, ex)) < 1e-9 * max(np.linalg.norm(ref), 1e-300):
+            if _norm(_cross(ref, ex)) < 1e-9 * max(_norm(ref), 1e-300):
                 raise self.fail(member, "Axis is parallel to the member's reference edge")
-        profile, cardinal, usage = element_profile(self.f, member)
+        profile, cardinal, usage = self._profile(member)
         if axis is None and usage is not None and usage.is_a("IfcRelAssociatesProfileProperties"):
             angle = _unwrap(getattr(usage, "ProfileOrientation", None))
             if angle:
@@ -678,23 +791,11 @@ class _StructuralReader:
             section = self.defaults.section
             self.warn(member, f"no profile in the file: default section '{section.name}' used")
         else:
-            try:
-                props = section_properties(profile, angle_scale=self.s.angle)
-            except IfcInputError as exc:
-                raise IfcInputError(f"{label}: {exc}", member.id()) from None
-            pset = section_from_pset(profile_mechanical_values(self.f, profile, usage))
+            section, props_si, pset = self._section(member, profile, usage)
             if pset:
-                self.warn(member, "Pset_ProfileMechanical values used for " + ", ".join(sorted(pset)), "info")
-            props_si = section_to_si(props, self.s.length)
-            import dataclasses as _dc
-
-            if pset:
-                props_si = _dc.replace(props_si, **{k: v * getattr(self.s, PSET_FIELD_UNITS[k]) for k, v in pset.items()})
+                self.warn(member, "Pset_ProfileMechanical values used for " + ", ".join(pset), "info")
             if abs(props_si.Iyz) > 1e-6 * math.sqrt(max(props_si.Iy * props_si.Iz, 0.0)) and not truss:
                 self.warn(member, f"profile {entity_label(profile)} is not symmetric (Iyz = {props_si.Iyz:.4g} m4): bending is analysed about the profile axes, the product of inertia is neglected")
-            name = props_si.name or str(getattr(profile, "ProfileName", None) or f"#{profile.id()}")
-            section = Section(name, A=props_si.A, Iy=props_si.Iy, Iz=props_si.Iz, J=props_si.J,
-                              Avy=props_si.Avy, Avz=props_si.Avz)
             offset = self._cardinal_offset(member, profile, cardinal, props_si, axes)
 
         # releases
@@ -746,6 +847,88 @@ class _StructuralReader:
         if phys is not None:
             self.physical[mid] = str(phys.GlobalId)
 
+    def _associations(self, rel_type: str) -> dict[int, list[Entity]]:
+        """Element id -> the ``rel_type`` associations naming it, from one pass over the relations."""
+        out: dict[int, list[Entity]] = {}
+        for rel in self.f.by_type(rel_type):
+            for obj in rel.RelatedObjects or ():
+                out.setdefault(obj.id(), []).append(rel)
+        return out
+
+    def _shared_key(self, member: Entity) -> tuple[int, ...] | None:
+        """Ids of the association entities that alone decide a member's material and profile, or None.
+
+        A member with exactly one material association of its own (IFC2X3:
+        and exactly one profile-properties association) gets the material and
+        profile of that association's definition, whichever member it is.
+        """
+        if self._material_links is None:
+            self._material_links = self._associations("IfcRelAssociatesMaterial")
+            self._profile_links = self._associations("IfcRelAssociatesProfileProperties") if self.is2x3 else {}
+        own = self._material_links.get(member.id(), [])
+        if len(own) != 1:
+            return None
+        if not self.is2x3:
+            return (own[0].RelatingMaterial.id(),)
+        own_profile = (self._profile_links or {}).get(member.id(), [])
+        if len(own_profile) != 1:
+            return None
+        return (own[0].RelatingMaterial.id(), own_profile[0].id())
+
+    def _material(self, member: Entity, need_density: bool, truss: bool, material_cache: dict[Any, Any]) -> Material:
+        """The member's material (SI); shared between members with the same association unless a default was used."""
+        from .materials import element_material
+
+        shared = self._shared_key(member)
+        key = None if shared is None else (*shared, need_density, truss)
+        if key is not None and key in self._materials:
+            return self._materials[key]
+        material, diags = element_material(self.f, member, self.s, self.defaults, need_density=need_density,
+                                           need_shear=not truss, cache=material_cache)
+        self.diagnostics.extend(diags)
+        if key is not None and not diags:
+            self._materials[key] = material
+        return material
+
+    def _profile(self, member: Entity) -> tuple[Entity | None, int | None, Entity | None]:
+        """(profile, cardinal point, usage) of a member, shared between members with the same association."""
+        from .materials import element_profile
+
+        key = self._shared_key(member)
+        if key is not None and key in self._profiles:
+            return self._profiles[key]
+        found = element_profile(self.f, member)
+        if key is not None:
+            self._profiles[key] = found
+        return found
+
+    def _section(self, member: Entity, profile: Entity, usage: Entity | None) -> tuple[Section, SectionProperties, list[str]]:
+        """Section (SI), its properties (SI) and the Pset_ProfileMechanical names used, cached per profile and usage."""
+        key = (profile.id(), usage.id() if usage is not None else None)
+        found = self._sections.get(key)
+        if found is not None:
+            return found
+        import dataclasses
+
+        from ..units import section_to_si
+        from .materials import profile_mechanical_values
+        from .sections import PSET_FIELD_UNITS, section_from_pset, section_properties
+
+        try:
+            props = section_properties(profile, angle_scale=self.s.angle)
+        except IfcInputError as exc:
+            raise IfcInputError(f"{entity_label(member)}: {exc}", member.id()) from None
+        pset = section_from_pset(profile_mechanical_values(self.f, profile, usage))
+        props_si = section_to_si(props, self.s.length)
+        if pset:
+            props_si = dataclasses.replace(props_si, **{k: v * getattr(self.s, PSET_FIELD_UNITS[k]) for k, v in pset.items()})
+        name = props_si.name or str(getattr(profile, "ProfileName", None) or f"#{profile.id()}")
+        section = Section(name, A=props_si.A, Iy=props_si.Iy, Iz=props_si.Iz, J=props_si.J,
+                          Avy=props_si.Avy, Avz=props_si.Avz)
+        found = (section, props_si, sorted(pset))
+        self._sections[key] = found
+        return found
+
     def _cardinal_offset(self, member, profile, cardinal, props_si, axes) -> np.ndarray:
         """Global offset of the centroidal axis from the reference line for an eccentric insertion."""
         if cardinal is None or cardinal == 10:
@@ -774,8 +957,11 @@ class _StructuralReader:
         self.warn(member, f"eccentric insertion (CardinalPoint {cardinal}): centroidal axis offset by y = {d[0]:.6g} m, z = {d[1]:.6g} m from the reference line (rigid offsets at both ends)")
         return offset
 
-    def _profile_box(self, profile):
-        """Bounding box (m) of the profile in its underlying x, y axes, from ifcopenshell's triangulation."""
+    def _profile_box(self, profile: Entity) -> tuple[npt.NDArray[np.float64], npt.NDArray[np.float64]]:
+        """Bounding box (m) of the profile in its underlying x, y axes, from ifcopenshell's triangulation (cached)."""
+        found = self._boxes.get(profile.id())
+        if found is not None:
+            return found
         import ifcopenshell.geom
 
         try:
@@ -783,20 +969,36 @@ class _StructuralReader:
             v = np.asarray(shape.verts, dtype=float).reshape(-1, 3)[:, :2]
         except Exception as exc:  # geometry kernel cannot build it
             raise IfcInputError(f"{entity_label(profile)}: cannot build its outline for the cardinal point ({exc})", profile.id()) from None
-        return v.min(axis=0), v.max(axis=0)
+        found = (v.min(axis=0), v.max(axis=0))
+        self._boxes[profile.id()] = found
+        return found
 
-    def _physical(self, member):
-        for rel in getattr(member, "HasAssignments", None) or ():
-            if rel.is_a("IfcRelAssignsToProduct"):
+    def _physical(self, member: Entity) -> Entity | None:
+        """The physical element a member is assigned to (IfcRelAssignsToProduct, either direction), or None.
+
+        The member's own assignment (HasAssignments) wins over an element
+        that lists it (ReferencedBy); the maps come from one pass over the
+        relations, in file order.
+        """
+        if self._physical_links is None:
+            assigned: dict[int, Entity] = {}
+            referenced: dict[int, Entity] = {}
+            for rel in self.f.by_type("IfcRelAssignsToProduct"):
                 prod = rel.RelatingProduct
-                if prod is not None and prod.is_a("IfcElement"):
-                    return prod
-        for rel in getattr(member, "ReferencedBy", None) or ():
-            if rel.is_a("IfcRelAssignsToProduct"):
-                for obj in rel.RelatedObjects or ():
-                    if obj.is_a("IfcElement"):
-                        return obj
-        return None
+                if prod is None:
+                    continue
+                objects = rel.RelatedObjects or ()
+                if prod.is_a("IfcElement"):
+                    for obj in objects:
+                        assigned.setdefault(obj.id(), prod)
+                element = next((obj for obj in objects if obj.is_a("IfcElement")), None)
+                if element is not None:
+                    referenced.setdefault(prod.id(), element)
+            self._physical_links = (assigned, referenced)
+        assigned, referenced = self._physical_links
+        key = member.id()
+        found = assigned.get(key)
+        return found if found is not None else referenced.get(key)
 
     # -- load groups
     def _groups(self) -> list:
@@ -923,8 +1125,7 @@ class _StructuralReader:
             nodal, member_loads, settlements = [], [], []
             for action, factor in case["actions"]:
                 in_case.add(action.id())
-                rels = _as_list(getattr(action, "AssignedToStructuralItem", None))
-                item = rels[0].RelatingElement if rels else None
+                item = self._acted_on(action)
                 if item is None:
                     self.warn(action, "action not connected to a structural item: ignored")
                     continue
@@ -944,10 +1145,20 @@ class _StructuralReader:
         for action in self.f.by_type("IfcStructuralAction"):
             if action.id() in in_case:
                 continue
-            rels = _as_list(getattr(action, "AssignedToStructuralItem", None))
-            item = rels[0].RelatingElement if rels else None
+            item = self._acted_on(action)
             if item is not None and (item.id() in member_by_entity or item.id() in node_ids):
                 self.warn(action, "action in no load case of the model: ignored")
+
+    def _acted_on(self, action: Entity) -> Entity | None:
+        """The structural item of an action's first IfcRelConnectsStructuralActivity (AssignedToStructuralItem)."""
+        if self._activity_items is None:
+            items: dict[int, Entity] = {}
+            for rel in self.f.by_type("IfcRelConnectsStructuralActivity"):
+                activity = rel.RelatedStructuralActivity
+                if activity is not None and activity.id() not in items:
+                    items[activity.id()] = rel.RelatingElement
+            self._activity_items = items
+        return self._activity_items.get(action.id())
 
     def _node_action(self, action, conn, factor: float):
         load = action.AppliedLoad
@@ -1045,13 +1256,19 @@ class _StructuralReader:
                                         axes=axes_name, projected=projected, source=src))
         return out
 
-    def _linear_force(self, action, value) -> np.ndarray:
+    def _linear_force(self, action: Entity, value: Entity) -> Vec3:
+        """SI linear-force vector of an IfcStructuralLoadLinearForce (cached per load; do not modify)."""
+        found = self._line_forces.get(value.id())
+        if found is not None:
+            return found
         if not value.is_a("IfcStructuralLoadLinearForce"):
             raise self.fail(action, f"curve action with {value.is_a()} is not supported (linear forces only)")
         moments = [float(getattr(value, f"LinearMoment{a}", None) or 0.0) for a in "XYZ"]
         if any(moments):
             raise self.fail(action, "distributed moments (LinearMomentX/Y/Z) are not supported")
-        return np.array([float(getattr(value, f"LinearForce{a}", None) or 0.0) for a in "XYZ"]) * self.s.linear_force
+        found = np.array([float(getattr(value, f"LinearForce{a}", None) or 0.0) for a in "XYZ"]) * self.s.linear_force
+        self._line_forces[value.id()] = found
+        return found
 
     def _action_extent(self, action, member, info) -> tuple[float, float]:
         """Start and end (m from end i) of a curve action: the whole member, or its own edge."""
