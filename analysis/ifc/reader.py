@@ -431,6 +431,9 @@ class _StructuralReader:
         self._vertices: dict[int, Any] = {}
         self._points: dict[int, Vec3] = {}
         self._vertex_world: dict[tuple[int, int], Vec3] = {}
+        self._references: dict[tuple[int, int], Vec3] = {}
+        self._relating_material: dict[int, int] = {}
+        self._last_key: tuple[int, tuple[int, ...] | None] = (-1, None)
         self._materials: dict[tuple[Any, ...], Material] = {}
         self._profiles: dict[tuple[int, ...], tuple[Entity | None, int | None, Entity | None]] = {}
         self._sections: dict[tuple[int, int | None], tuple[Section, SectionProperties, list[str]]] = {}
@@ -473,16 +476,22 @@ class _StructuralReader:
         local = np.array(c[:3] + [1.0])
         return (M @ local)[:3] * self.s.length
 
-    def _vertex_points(self, item: Entity, vertices: tuple[Entity, ...]) -> list[Vec3]:
-        """World positions (m) of IfcVertexPoints given in an item's frame, cached per (placement, vertex)."""
+    def _frame_of(self, item: Entity) -> tuple[int, Mat]:
+        """(key, world matrix) of an item's frame (see `placement_of`); the key is the placement's id, 0 for none."""
         pl = getattr(item, "ObjectPlacement", None)
-        pkey = pl.id() if pl is not None else 0
+        if pl is None:
+            return 0, self.shared if self.shared is not None else np.eye(4)
+        return pl.id(), self._placement_cache.matrix(pl)
+
+    def _vertex_points(self, frame: tuple[int, Mat], vertices: tuple[Entity, ...]) -> list[Vec3]:
+        """World positions (m) of IfcVertexPoints given in an item's frame, cached per (placement, vertex)."""
+        pkey, M = frame
         out = []
         for v in vertices:
             key = (pkey, v.id())
             point = self._vertex_world.get(key)
             if point is None:
-                point = self._to_world(self.placement_of(item), v.VertexGeometry.Coordinates)
+                point = self._to_world(M, v.VertexGeometry.Coordinates)
                 point.flags.writeable = False  # shared by every item that names the vertex
                 self._vertex_world[key] = point
             out.append(point)
@@ -553,7 +562,7 @@ class _StructuralReader:
             vertex = self._vertex_of(conn)
             if vertex is None:
                 raise self.fail(conn, "no vertex point (topology representation 'Reference' with an IfcVertexPoint)")
-            point = self._vertex_points(conn, (vertex,))[0]
+            point = self._vertex_points(self._frame_of(conn), (vertex,))[0]
             self._points[key] = point
         return point
 
@@ -605,7 +614,8 @@ class _StructuralReader:
             straight = geom.is_a("IfcLine") or (geom.is_a("IfcPolyline") and len(geom.Points) == 2)
             if not straight:
                 self.warn(member, f"edge geometry {geom.is_a()} is read as the straight chord between its end points")
-        p = self._vertex_points(member, (v_start, v_end))
+        frame = self._frame_of(member)
+        p = self._vertex_points(frame, (v_start, v_end))
         # (relation, its point connection) pairs, in the order of the member's ConnectedBy
         point_rels: list[tuple[Entity, Entity]] = []
         for r in getattr(member, "ConnectedBy", None) or ():
@@ -668,7 +678,7 @@ class _StructuralReader:
             raise self.fail(member, f"connected to point connections between its ends ({names}): split the member at them")
         if np.linalg.norm(p[1] - p[0]) <= 1e-9 * max(1.0, float(np.abs(p[0]).max())):
             raise self.fail(member, "zero length (edge start and end at the same point)")
-        return {"points": p, "rels": rels, "conns": [(rels[0], conn_i), (rels[1], conn_j)]}
+        return {"points": p, "rels": rels, "conns": [(rels[0], conn_i), (rels[1], conn_j)], "frame": frame}
 
     # -- supports
     def _condition_flags(self, cond: Entity | None, owner: Entity, what: str) -> tuple[list[bool], list[float], list[Any]]:
@@ -772,7 +782,7 @@ class _StructuralReader:
         roll = 0.0
         axis = getattr(member, "Axis", None)
         if axis is not None:
-            ref = self.placement_of(member)[:3, :3] @ _direction(axis)
+            ref = self._reference(ends["frame"], axis)
             if _norm(_cross(ref, ex)) < 1e-9 * max(_norm(ref), 1e-300):
                 raise self.fail(member, "Axis is parallel to the member's reference edge")
         profile, cardinal, usage = self._profile(member)
@@ -855,6 +865,16 @@ class _StructuralReader:
                 out.setdefault(obj.id(), []).append(rel)
         return out
 
+    def _reference(self, frame: tuple[int, Mat], axis: Entity) -> Vec3:
+        """A member's Axis (given in its placement axes) in world axes, cached per (placement, direction)."""
+        key = (frame[0], axis.id())
+        ref = self._references.get(key)
+        if ref is None:
+            ref = frame[1][:3, :3] @ _direction(axis)
+            ref.flags.writeable = False
+            self._references[key] = ref
+        return ref
+
     def _shared_key(self, member: Entity) -> tuple[int, ...] | None:
         """Ids of the association entities that alone decide a member's material and profile, or None.
 
@@ -865,15 +885,25 @@ class _StructuralReader:
         if self._material_links is None:
             self._material_links = self._associations("IfcRelAssociatesMaterial")
             self._profile_links = self._associations("IfcRelAssociatesProfileProperties") if self.is2x3 else {}
+        if self._last_key[0] == member.id():
+            return self._last_key[1]
+        key: tuple[int, ...] | None = None
         own = self._material_links.get(member.id(), [])
-        if len(own) != 1:
-            return None
-        if not self.is2x3:
-            return (own[0].RelatingMaterial.id(),)
-        own_profile = (self._profile_links or {}).get(member.id(), [])
-        if len(own_profile) != 1:
-            return None
-        return (own[0].RelatingMaterial.id(), own_profile[0].id())
+        if len(own) == 1:
+            rel = own[0]
+            definition = self._relating_material.get(rel.id())
+            if definition is None:
+                relating = rel.RelatingMaterial
+                definition = self._relating_material[rel.id()] = relating.id() if relating is not None else 0
+            if definition == 0:  # no material named: the member's own error or default, not shared
+                key = None
+            elif not self.is2x3:
+                key = (definition,)
+            else:
+                own_profile = (self._profile_links or {}).get(member.id(), [])
+                key = (definition, own_profile[0].id()) if len(own_profile) == 1 else None
+        self._last_key = (member.id(), key)
+        return key
 
     def _material(self, member: Entity, need_density: bool, truss: bool, material_cache: dict[Any, Any]) -> Material:
         """The member's material (SI); shared between members with the same association unless a default was used."""
