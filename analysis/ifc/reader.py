@@ -349,7 +349,7 @@ def _axis2placement_matrix(axis_placement) -> np.ndarray:
     return np.asarray(ifc_placement.get_axis2placement(axis_placement), dtype=float)
 
 
-def _permutation(R: np.ndarray) -> np.ndarray | None:
+def _permutation(R: Mat) -> npt.NDArray[np.intp] | None:
     """For a rotation that only permutes/flips axes: index of the global axis of each local axis."""
     A = np.abs(R)
     if not np.allclose(A, np.round(A), atol=1e-9):
@@ -370,7 +370,7 @@ def _default_ref(ex: np.ndarray) -> np.ndarray:
     return np.array([-1.0, 0.0, 0.0]) if abs(ex[2]) > 1.0 - 1e-9 else np.array([0.0, 0.0, 1.0])
 
 
-def _local_axes(ex: np.ndarray, ref: np.ndarray | None, roll: float = 0.0) -> np.ndarray:
+def _local_axes(ex: Vec3, ref: Vec3 | None, roll: float = 0.0) -> Mat | None:
     """Rows x, y, z of member axes (same rule as analysis.model.member_axes)."""
     r = _default_ref(ex) if ref is None else ref
     ez = r - np.dot(r, ex) * ex
@@ -521,7 +521,7 @@ class _StructuralReader:
         b = FrameBuilder(name=str(self.model.Name or self.model.GlobalId))
         self.builder = b
         for c in conn_list:
-            b.add_node(self.node_ids[c.id()], self.node_xyz[c.id()], source=str(c.GlobalId), label=entity_label(c))
+            b.add_node(self.node_ids[c.id()], self.node_xyz[c.id()].tolist(), source=str(c.GlobalId), label=entity_label(c))
             self._support(c)
         self.cases = self._load_structure()
         need_density = any(any(v != 0 for v in case["self_weight"]) for case in self.cases.values())
@@ -656,8 +656,9 @@ class _StructuralReader:
                     chosen[k], conns[k] = best, point_rels[best][1]
         rels: list[Any] = [None, None]
         for k in (0, 1):
-            if chosen[k] is not None:
-                rels[k] = point_rels[chosen[k]][0]
+            index = chosen[k]
+            if index is not None:
+                rels[k] = point_rels[index][0]
                 continue
             # no relation: a point connection of the model at the same place still joins it (noted)
             taken = {c.id() for c in conns if c is not None}
@@ -809,7 +810,7 @@ class _StructuralReader:
             offset = self._cardinal_offset(member, profile, cardinal, props_si, axes)
 
         # releases
-        releases = [[], []]
+        releases: list[list[str]] = [[], []]
         for k, rel in enumerate(ends["rels"]):
             cond = getattr(rel, "AppliedCondition", None)
             if cond is None:
@@ -819,11 +820,12 @@ class _StructuralReader:
             if any(springs):
                 raise self.fail(rel, "semi-rigid member end (finite stiffness in AppliedCondition) is not supported")
             ccs = getattr(rel, "ConditionCoordinateSystem", None)
-            perm = np.arange(3)
+            perm: npt.NDArray[np.intp] = np.arange(3)
             if ccs is not None:
-                perm = _permutation(_axis2placement_matrix(ccs)[:3, :3])
-                if perm is None:
+                turned = _permutation(_axis2placement_matrix(ccs)[:3, :3])
+                if turned is None:
                     raise self.fail(rel, "end condition in an inclined ConditionCoordinateSystem is not supported")
+                perm = turned
             for c in range(3):
                 for base in (0, 3):
                     if released_local[base + c]:
@@ -996,6 +998,8 @@ class _StructuralReader:
 
         try:
             shape = ifcopenshell.geom.create_shape(ifcopenshell.geom.settings(), profile)
+            if not isinstance(shape, ifcopenshell.ifcopenshell_wrapper.triangulation):
+                raise TypeError(f"the geometry kernel gave a {type(shape).__name__}, not a triangulation")
             v = np.asarray(shape.verts, dtype=float).reshape(-1, 3)[:, :2]
         except Exception as exc:  # geometry kernel cannot build it
             raise IfcInputError(f"{entity_label(profile)}: cannot build its outline for the cardinal point ({exc})", profile.id()) from None
@@ -1211,8 +1215,8 @@ class _StructuralReader:
             M = np.array([float(getattr(load, f"Moment{a}", None) or 0.0) for a in "XYZ"]) * self.s.moment
             if load.is_a("IfcStructuralLoadSingleForceWarping") and getattr(load, "WarpingMoment", None):
                 self.warn(action, "warping moment ignored (no warping degree of freedom)")
-            values = np.concatenate([R @ F, R @ M]) * factor
-            return [NodalLoad(node, tuple(float(v) for v in values), source=str(action.GlobalId))], []
+            fx, fy, fz, mx, my, mz = (np.concatenate([R @ F, R @ M]) * factor).tolist()
+            return [NodalLoad(node, (fx, fy, fz, mx, my, mz), source=str(action.GlobalId))], []
         if load.is_a("IfcStructuralLoadSingleDisplacement"):
             u = np.array([float(getattr(load, f"Displacement{a}", None) or 0.0) for a in "XYZ"]) * self.s.length
             r = np.array([float(getattr(load, f"RotationalDisplacementR{a}", None) or 0.0) for a in "XYZ"]) * self.s.angle
@@ -1254,7 +1258,7 @@ class _StructuralReader:
             pos = min(max(pos, 0.0), L)
             F = R @ np.array([float(getattr(load, f"Force{a}", None) or 0.0) for a in "XYZ"]) * self.s.force * factor
             M = R @ np.array([float(getattr(load, f"Moment{a}", None) or 0.0) for a in "XYZ"]) * self.s.moment * factor
-            out = []
+            out: list[PointLoad | LineLoad] = []
             axes_name = "local" if local else "global"
             for k, a in enumerate("xyz"):
                 if F[k]:
