@@ -87,7 +87,7 @@ from __future__ import annotations
 import logging
 import math
 from collections import Counter, defaultdict
-from collections.abc import Mapping, Sequence
+from collections.abc import Hashable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
 from typing import Any
 
@@ -176,6 +176,10 @@ class _Element:
     note: str = ""
 
 
+def _floats(values: Iterable[float]) -> npt.NDArray[np.float64]:
+    return np.fromiter(values, dtype=np.float64)
+
+
 def _curve_end_points(curve) -> tuple[np.ndarray, np.ndarray] | None:
     """First and last point of an axis curve (file units, representation coordinates)."""
     kind = curve.is_a()
@@ -207,8 +211,9 @@ def _curve_end_points(curve) -> tuple[np.ndarray, np.ndarray] | None:
             if point is not None:
                 ends.append(np.array(point.Coordinates, dtype=float))
             else:
-                par = next((t for t in trims if not hasattr(t, "is_a") or not t.is_a("IfcCartesianPoint")), None)
-                par = float(getattr(par, "wrappedValue", par))
+                trim = next((t for t in trims if not hasattr(t, "is_a") or not t.is_a("IfcCartesianPoint")), None)
+                value: Any = getattr(trim, "wrappedValue", trim)  # an IfcParameterValue
+                par = float(value)
                 ends.append(origin + par * d)
         a, b = ends
         if not curve.SenseAgreement:
@@ -308,7 +313,15 @@ class _SectionInfo:
 
 def _profile_box(profile, props) -> tuple[tuple[float, float, float, float], bool]:
     """Bounding box of a profile in its underlying coordinates (file units) and whether it is exact."""
-    g = lambda *names: next((float(getattr(profile, n)) for n in names if hasattr(profile, n) and getattr(profile, n) is not None), None)  # noqa: E731
+    def g(*names: str) -> float | None:
+        return next((float(getattr(profile, n)) for n in names if hasattr(profile, n) and getattr(profile, n) is not None), None)
+
+    def need(*names: str) -> float:  # section_properties has already checked these dimensions
+        v = g(*names)
+        if v is None:
+            raise TypeError(f"{names[0]} is missing")
+        return v
+
     kind = profile.is_a()
     w = d = None
     if kind in ("IfcIShapeProfileDef",):
@@ -319,9 +332,9 @@ def _profile_box(profile, props) -> tuple[tuple[float, float, float, float], boo
     elif kind in ("IfcRectangleProfileDef", "IfcRoundedRectangleProfileDef", "IfcRectangleHollowProfileDef"):
         w, d = g("XDim"), g("YDim")
     elif kind in ("IfcCircleProfileDef", "IfcCircleHollowProfileDef"):
-        w = d = 2.0 * g("Radius")
+        w = d = 2.0 * need("Radius")
     elif kind == "IfcEllipseProfileDef":
-        w, d = 2.0 * g("SemiAxis1"), 2.0 * g("SemiAxis2")
+        w, d = 2.0 * need("SemiAxis1"), 2.0 * need("SemiAxis2")
     elif kind == "IfcLShapeProfileDef":
         d = g("Depth")
         w = g("Width") or d
@@ -330,9 +343,9 @@ def _profile_box(profile, props) -> tuple[tuple[float, float, float, float], boo
     elif kind == "IfcCShapeProfileDef":
         w, d = g("Width"), g("Depth")
     elif kind == "IfcZShapeProfileDef":
-        w, d = 2.0 * g("FlangeWidth") - g("WebThickness"), g("Depth")
+        w, d = 2.0 * need("FlangeWidth") - need("WebThickness"), g("Depth")
     elif kind == "IfcTrapeziumProfileDef":
-        bx, tx, off = g("BottomXDim"), g("TopXDim"), g("TopXOffset") or 0.0
+        bx, tx, off = need("BottomXDim"), need("TopXDim"), g("TopXOffset") or 0.0
         lo, hi = min(0.0, off), max(bx, off + tx)
         w, d = hi - lo, g("YDim")
     if w is not None and d is not None:
@@ -581,7 +594,7 @@ class _Deriver:
         from .materials import element_material, element_profile
 
         f, scales = self.ifc_file, self.scales
-        assoc: dict[int, int] = {}
+        assoc: dict[int, Hashable] = {}  # element id -> what decides its material and profile
         for rel in f.by_type("IfcRelAssociatesMaterial"):
             d = rel.RelatingMaterial
             key = d.id()
@@ -686,6 +699,8 @@ class _Deriver:
                     el.note = (el.note + "; " if el.note else "") + \
                         f"cardinal point {el.cardinal} ignored: the axis is not along the element's local z and there is no body"
         else:
+            if el.body is None:  # _placements has already required an Axis or a Body
+                raise IfcInputError(f"{el.label}: no 'Axis' curve and no 'Body' extrusion to derive the analytical axis from", el.eid)
             M, d, _ = el.body
             el.source = "Body"
             c = M[:3, :3] @ np.array([sec.centroid[0], sec.centroid[1], 0.0]) + M[:3, 3]
@@ -707,7 +722,7 @@ class _Deriver:
         B = (np.einsum("kij,kj->ki", R, p1) + t) * L
         lengths = np.linalg.norm(B - A, axis=1)
         scale = max(float(np.ptp(np.vstack([A, B]), axis=0).max()), 1.0)
-        for k in np.flatnonzero(lengths <= 1e-9 * scale):
+        for k in np.flatnonzero(lengths <= 1e-9 * scale).tolist():
             raise IfcInputError(f"{elements[k].label}: zero length (its analytical axis starts and ends at the same point)", elements[k].eid)
         ref = np.full((m, 3), np.nan)
         has_y = np.array([el.yaxis is not None for el in elements])
@@ -749,13 +764,13 @@ class _Deriver:
             self.notes.append(
                 f"{int(moved.sum())} member ends were within the merge tolerance ({tol * 1000:.3g} mm) of another end and were "
                 f"merged into {nodes_moved} nodes (largest gap closed {gap.max() * 1000:.3g} mm); nodes sit on column ends where a column takes part.")
-            for e in np.flatnonzero(moved & (gap > 1e-6)):
+            for e in np.flatnonzero(moved & (gap > 1e-6)).tolist():
                 el = elements[end_elem[e]]
                 self.diagnostics.append(Diagnostic("info", el.eid, f"{el.label}: {'start' if e < m else 'end'} moved {gap[e] * 1000:.3g} mm to merge with a node"))
         node_count = ncl
         elem_nodes = np.stack([end_node[:m], end_node[m:]], axis=1)
         same = elem_nodes[:, 0] == elem_nodes[:, 1]
-        for k in np.flatnonzero(same):
+        for k in np.flatnonzero(same).tolist():
             raise IfcInputError(f"{elements[k].label}: shorter ({lengths[k] * 1000:.3g} mm) than the merge tolerance: both ends merge into one node", elements[k].eid)
 
         # -- 2. ends landing on other members' spans ----------------------------
@@ -834,7 +849,7 @@ class _Deriver:
                               f"tolerance but within half its section size) were joined to the centre-line node by rigid offsets: "
                               + _names(sorted({elements[k].label for k, *_ in eccentric})) + ".")
         same = elem_nodes[:, 0] == elem_nodes[:, 1]
-        for k in np.flatnonzero(same):
+        for k in np.flatnonzero(same).tolist():
             raise IfcInputError(f"{elements[k].label}: both ends join the same node", elements[k].eid)
 
         # -- 4. segments ----------------------------------------------------------
@@ -919,11 +934,12 @@ class _Deriver:
             nodes=nodes,
             member_ids=tuple(member_ids),
             members=members.astype(np.int32),
-            A=[s.A for s in secs], Iy=[s.Iy for s in secs], Iz=[s.Iz for s in secs], J=[s.J for s in secs],
-            Avy=[s.Avy for s in secs], Avz=[s.Avz for s in secs],
-            E=[mt.E for mt in mats], G=[mt.shear_modulus for mt in mats], density=[mt.density for mt in mats],
+            A=_floats(s.A for s in secs), Iy=_floats(s.Iy for s in secs), Iz=_floats(s.Iz for s in secs),
+            J=_floats(s.J for s in secs), Avy=_floats(s.Avy for s in secs), Avz=_floats(s.Avz for s in secs),
+            E=_floats(mt.E for mt in mats), G=_floats(mt.shear_modulus for mt in mats),
+            density=_floats(mt.density for mt in mats),
             ref=ref[seg_elem_a] if s_count else np.zeros((0, 3)),
-            roll=[s.roll for s in secs],
+            roll=_floats(s.roll for s in secs),
             truss=truss,
             releases=rel,
             offsets=off,
@@ -1189,10 +1205,11 @@ class _Deriver:
         u = d / Ls[:, None]
         ang = np.mod(np.degrees(np.arctan2(u[:, 1], u[:, 0])), 180.0)
         bucket = np.round(ang).astype(int) % 180
-        totals = Counter()
+        totals: dict[int, float] = {}
         for b_, l_ in zip(bucket, Ls):
-            totals[int(b_)] += float(l_)
-        groups = [b_ for b_, _ in totals.most_common(2)]
+            totals[int(b_)] = totals.get(int(b_), 0.0) + float(l_)
+        # the two directions with the most beam length (ties in first-seen order)
+        groups = [b_ for b_, _ in sorted(totals.items(), key=lambda t: t[1], reverse=True)[:2]]
 
         def widths(members_in: np.ndarray) -> tuple[np.ndarray, float]:
             uu = u[members_in[0]]
@@ -1215,6 +1232,8 @@ class _Deriver:
             w, med = widths(members_in)
             if choice is None or med < choice[2] - tol:
                 choice = (g, members_in, med, w)
+        if choice is None:
+            raise IfcInputError(f"area load on {storey_label}: no horizontal IfcBeam lies at that level to carry it")
         g, members_in, med, w = choice
         if not np.isfinite(med):
             raise IfcInputError(f"area load on {storey_label}: the beams at that level have no parallel neighbours to span between")

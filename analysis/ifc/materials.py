@@ -286,6 +286,7 @@ def element_material(ifc_file, element, scales, defaults=None, *, need_density: 
     def default(name: str):
         return getattr(defaults, name, None) if defaults is not None else None
 
+    values: dict[str, float]
     if definition is None:
         if default("E") is None:
             raise IfcInputError(f"{label}: no material (IfcRelAssociatesMaterial on the element or its type) and no default material given", element.id())

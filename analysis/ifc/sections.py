@@ -831,7 +831,10 @@ def _analyse(profile, angle_scale: float | None, depth: int = 0) -> _Section:
         for q in parts[1:]:
             m = m + q.m
         logger.info("%s: J and shear areas are summed over the parts (parts taken as unconnected)", _label(profile))
-        return _Section(m, sum(q.J for q in parts), sum(q.K for q in parts))
+        K = parts[0].K
+        for q in parts[1:]:
+            K = K + q.K
+        return _Section(m, sum(q.J for q in parts), K)
     raise _fail(profile, f"profile type {cls} is not supported")
 
 

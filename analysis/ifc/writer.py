@@ -316,7 +316,7 @@ class _Writer:
         self.removed = 0
         self.notes: list[str] = []
         self.owner = self._owner_history()
-        self.counts = defaultdict(int)
+        self.counts: defaultdict[str, int] = defaultdict(int)
         self.derived = False
         self._by_guid: dict[str, Any] = {}
 
@@ -561,7 +561,7 @@ class _Writer:
     def _load_groups(self) -> dict[str, Any]:
         frame = self.frame
         groups = {}
-        by_name = {}
+        by_name: dict[str | None, Any] = {}
         for g in self.f.by_type("IfcStructuralLoadGroup"):
             by_name.setdefault(g.Name, g)
         for item in (*frame.load_cases, *frame.combinations):
@@ -589,7 +589,7 @@ class _Writer:
             groups.append(group)
             self.counts["groups"] += 1
             reactions = []
-            for i in supported:
+            for i in supported.tolist():
                 item = self.node_items[i]
                 if item is None:
                     continue
@@ -656,13 +656,14 @@ class _Writer:
             starts = {int(frame.members[k, 0]): k for k in ks}
             ends = {int(frame.members[k, 1]) for k in ks}
             first = [k for k in ks if int(frame.members[k, 0]) not in ends]
-            chain, pos, k = [], 0.0, first[0] if first else ks[0]
-            seen = set()
-            while k is not None and k not in seen:
-                seen.add(k)
-                chain.append((k, pos))
-                pos += float(L[k])
-                k = starts.get(int(frame.members[k, 1]))
+            chain, pos = [], 0.0
+            cur: int | None = first[0] if first else ks[0]
+            seen: set[int] = set()
+            while cur is not None and cur not in seen:
+                seen.add(cur)
+                chain.append((cur, pos))
+                pos += float(L[cur])
+                cur = starts.get(int(frame.members[cur, 1]))
             if len(chain) != len(ks):  # not a simple chain: fall back to member order
                 chain, pos = [], 0.0
                 for k in ks:
