@@ -432,6 +432,7 @@ class _StructuralReader:
         self._points: dict[int, Vec3] = {}
         self._vertex_world: dict[tuple[int, int], Vec3] = {}
         self._references: dict[tuple[int, int], Vec3] = {}
+        self._point_kinds: dict[int, bool] = {}
         self._relating_material: dict[int, int] = {}
         self._last_key: tuple[int, tuple[int, ...] | None] = (-1, None)
         self._materials: dict[tuple[Any, ...], Material] = {}
@@ -582,10 +583,13 @@ class _StructuralReader:
         self._vertices[key] = found
         return found
 
-    def _edge_of(self, member):
+    def _edge_of(self, member: Entity) -> tuple[Entity, Entity, Entity] | None:
+        """(edge, start vertex, end vertex) of an item's topology representation, or None."""
         rep = getattr(member, "Representation", None)
         for r in (rep.Representations or ()) if rep is not None else ():
             for it in r.Items or ():
+                if it.is_a() in ("IfcEdge", "IfcEdgeCurve"):  # the common case, without the subtype tests
+                    return it, it.EdgeStart, it.EdgeEnd
                 if it.is_a("IfcOrientedEdge"):
                     base = it.EdgeElement
                     start, end = (base.EdgeStart, base.EdgeEnd) if it.Orientation else (base.EdgeEnd, base.EdgeStart)
@@ -593,6 +597,13 @@ class _StructuralReader:
                 if it.is_a("IfcEdge"):
                     return it, it.EdgeStart, it.EdgeEnd
         return None
+
+    def _is_point_connection(self, item: Entity) -> bool:
+        key = item.id()
+        known = self._point_kinds.get(key)
+        if known is None:
+            known = self._point_kinds[key] = bool(item.is_a("IfcStructuralPointConnection"))
+        return known
 
     def _connection_at(self, point: Vec3, tol: float, taken: set[int]) -> Entity | None:
         """The first point connection of the model (in the model's order) within ``tol`` (m) of ``point``."""
@@ -607,7 +618,8 @@ class _StructuralReader:
         if found is None:
             raise self.fail(member, "no edge topology (topology representation with an IfcEdge): the member has no axis")
         edge, v_start, v_end = found
-        if v_start is None or v_end is None or not v_start.is_a("IfcVertexPoint") or not v_end.is_a("IfcVertexPoint"):
+        # IfcVertexPoint has no subtypes: the class name is enough
+        if v_start is None or v_end is None or v_start.is_a() != "IfcVertexPoint" or v_end.is_a() != "IfcVertexPoint":
             raise self.fail(member, "edge without start and end vertex points")
         if edge.is_a("IfcEdgeCurve") and edge.EdgeGeometry is not None:
             geom = edge.EdgeGeometry
@@ -618,11 +630,9 @@ class _StructuralReader:
         p = self._vertex_points(frame, (v_start, v_end))
         # (relation, its point connection) pairs, in the order of the member's ConnectedBy
         point_rels: list[tuple[Entity, Entity]] = []
-        for r in getattr(member, "ConnectedBy", None) or ():
-            if not r.is_a("IfcRelConnectsStructuralMember"):
-                continue
+        for r in getattr(member, "ConnectedBy", None) or ():  # IfcRelConnectsStructuralMember by the schema
             conn = r.RelatedStructuralConnection
-            if conn is not None and conn.is_a("IfcStructuralPointConnection"):
+            if conn is not None and self._is_point_connection(conn):
                 point_rels.append((r, conn))
         # index into point_rels of the relation chosen at each end (None: not yet, -1: implied by position)
         chosen: list[int | None] = [None, None]
@@ -836,25 +846,27 @@ class _StructuralReader:
         # ends, offsets
         conn_i, conn_j = (c for _, c in ends["conns"])
         node_i, node_j = self.node_xyz[conn_i.id()], self.node_xyz[conn_j.id()]
-        off_i = p_i - node_i + offset
-        off_j = p_j - node_j + offset
+        d_i, d_j = p_i - node_i, p_j - node_j
+        off_i = d_i + offset
+        off_j = d_j + offset
         tol = 1e-9 * max(1.0, float(np.linalg.norm(p_j - p_i)))
-        for k, (off, rel) in enumerate(((p_i - node_i, ends["rels"][0]), (p_j - node_j, ends["rels"][1]))):
-            if np.linalg.norm(off) > tol:
+        for k, (off, rel) in enumerate(((d_i, ends["rels"][0]), (d_j, ends["rels"][1]))):
+            if off.any() and np.linalg.norm(off) > tol:
                 kind = "eccentric connection" if rel.is_a("IfcRelConnectsWithEccentricity") else "member end away from its connection"
                 self.warn(member, f"{kind} at end {'ij'[k]}: rigid offset {tuple(round(float(v), 9) for v in off)} m")
         off_i[np.abs(off_i) < tol] = 0.0
         off_j[np.abs(off_j) < tol] = 0.0
-        if np.linalg.norm((node_j + off_j) - (node_i + off_i)) <= tol:
+        start = node_i + off_i
+        length = float(np.linalg.norm((node_j + off_j) - start))
+        if length <= tol:
             raise self.fail(member, "zero length")
 
         self.builder.add_member(
             mid, self.node_ids[conn_i.id()], self.node_ids[conn_j.id()], section, material,
-            ref=tuple(ref) if ref is not None else None, roll=roll, truss=truss,
-            release_i=releases[0], release_j=releases[1], offset_i=tuple(off_i), offset_j=tuple(off_j),
+            ref=tuple(ref.tolist()) if ref is not None else None, roll=roll, truss=truss,
+            release_i=releases[0], release_j=releases[1], offset_i=tuple(off_i.tolist()), offset_j=tuple(off_j.tolist()),
             source=str(member.GlobalId), label=label)
-        length = float(np.linalg.norm((node_j + off_j) - (node_i + off_i)))
-        self.member_info[member.id()] = {"id": mid, "start": node_i + off_i, "axes": axes, "length": length}
+        self.member_info[member.id()] = {"id": mid, "start": start, "axes": axes, "length": length}
         phys = self._physical(member)
         if phys is not None:
             self.physical[mid] = str(phys.GlobalId)
