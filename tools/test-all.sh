@@ -24,9 +24,8 @@ echo "== engine on numpy 2 =="
 "$PY" -m venv "$WORK/np2"
 "$WORK/np2/bin/pip" install -q --upgrade pip
 "$WORK/np2/bin/pip" install -q -e ".[test,fast]"
-# type check the engine (settings in pyproject.toml [tool.mypy]); analysis/ifc/ is not yet clean,
-# so it is left out for now (followed imports checked silently)
-"$WORK/np2/bin/python" -m mypy analysis --exclude 'analysis/ifc/' --follow-imports=silent
+# type check the engine (settings in pyproject.toml [tool.mypy])
+"$WORK/np2/bin/python" -m mypy analysis
 run_pytest "$WORK/np2/bin/python" -q -p no:cacheprovider tests --ignore=tests/addon
 
 echo "== engine on numpy 1.26 and the Blender add-on (bpy 5.0.1) =="
