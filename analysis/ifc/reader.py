@@ -433,6 +433,7 @@ class _StructuralReader:
         self._vertex_world: dict[tuple[int, int], Vec3] = {}
         self._references: dict[tuple[int, int], Vec3] = {}
         self._point_kinds: dict[int, bool] = {}
+        self._axes_cache: dict[tuple[bytes, bytes, float], Mat | None] = {}
         self._relating_material: dict[int, int] = {}
         self._last_key: tuple[int, tuple[int, ...] | None] = (-1, None)
         self._materials: dict[tuple[Any, ...], Material] = {}
@@ -652,7 +653,8 @@ class _StructuralReader:
                         if on_member is not None and on_member.id() in (vid, getattr(v, "VertexGeometry", v).id()):
                             chosen[k], conns[k] = n, conn
                             break
-        L_tol = 1e-6 * max(1.0, float(np.linalg.norm(p[1] - p[0])))
+        chord = float(np.linalg.norm(p[1] - p[0]))  # m
+        L_tol = 1e-6 * max(1.0, chord)
         for k in (0, 1):
             if chosen[k] is None:
                 best, best_d = None, math.inf
@@ -687,9 +689,10 @@ class _StructuralReader:
         if extra:
             names = ", ".join(entity_label(conn) for conn in extra)
             raise self.fail(member, f"connected to point connections between its ends ({names}): split the member at them")
-        if np.linalg.norm(p[1] - p[0]) <= 1e-9 * max(1.0, float(np.abs(p[0]).max())):
+        if chord <= 1e-9 * max(1.0, float(np.abs(p[0]).max())):
             raise self.fail(member, "zero length (edge start and end at the same point)")
-        return {"points": p, "rels": rels, "conns": [(rels[0], conn_i), (rels[1], conn_j)], "frame": frame}
+        return {"points": p, "rels": rels, "conns": [(rels[0], conn_i), (rels[1], conn_j)], "frame": frame,
+                "chord": chord}
 
     # -- supports
     def _condition_flags(self, cond: Entity | None, owner: Entity, what: str) -> tuple[list[bool], list[float], list[Any]]:
@@ -788,7 +791,8 @@ class _StructuralReader:
 
         # axes
         p_i, p_j = ends["points"]
-        ex = (p_j - p_i) / np.linalg.norm(p_j - p_i)
+        chord = ends["chord"]
+        ex = (p_j - p_i) / chord
         ref = None
         roll = 0.0
         axis = getattr(member, "Axis", None)
@@ -802,7 +806,7 @@ class _StructuralReader:
             if angle:
                 roll = float(angle) * self.s.angle
                 self.warn(member, f"no Axis (IFC2X3): default orientation turned by ProfileOrientation {roll:.6g} rad", "info")
-        axes = _local_axes(ex, ref, roll)
+        axes = self._axes(ex, ref, roll)
 
         # section
         offset = np.zeros(3)
@@ -849,7 +853,7 @@ class _StructuralReader:
         d_i, d_j = p_i - node_i, p_j - node_j
         off_i = d_i + offset
         off_j = d_j + offset
-        tol = 1e-9 * max(1.0, float(np.linalg.norm(p_j - p_i)))
+        tol = 1e-9 * max(1.0, chord)
         for k, (off, rel) in enumerate(((d_i, ends["rels"][0]), (d_j, ends["rels"][1]))):
             if off.any() and np.linalg.norm(off) > tol:
                 kind = "eccentric connection" if rel.is_a("IfcRelConnectsWithEccentricity") else "member end away from its connection"
@@ -878,6 +882,17 @@ class _StructuralReader:
             for obj in rel.RelatedObjects or ():
                 out.setdefault(obj.id(), []).append(rel)
         return out
+
+    def _axes(self, ex: Vec3, ref: Vec3 | None, roll: float) -> Mat | None:
+        """`_local_axes`, cached per (direction, reference, roll): a regular frame repeats a few of them."""
+        key = (ex.tobytes(), ref.tobytes() if ref is not None else b"", roll)  # bytes: -0.0 and 0.0 stay apart
+        if key in self._axes_cache:
+            return self._axes_cache[key]
+        axes = _local_axes(ex, ref, roll)
+        if axes is not None:
+            axes.flags.writeable = False
+        self._axes_cache[key] = axes
+        return axes
 
     def _reference(self, frame: tuple[int, Mat], axis: Entity) -> Vec3:
         """A member's Axis (given in its placement axes) in world axes, cached per (placement, direction)."""
