@@ -109,7 +109,6 @@ from ..model import (
     Section,
     Settlement,
 )
-
 from .placement import PlacementCache
 
 if TYPE_CHECKING:
@@ -167,7 +166,7 @@ class IfcModel:
     schema: str
     analysis_models: list[tuple[str, str]]
     path: str
-    units: Any  # analysis.units.UnitScales
+    units: UnitScales
     notes: list[str] = field(default_factory=list)
     physical: dict[str, str] = field(default_factory=dict)
     plane: bool = False  # the analysis model declares in-plane 2D loading (IN_PLANE_LOADING_2D)
@@ -415,7 +414,7 @@ def _unique_ids(entities: list[Entity]) -> dict[int, str]:
 class _StructuralReader:
     """Route 1: one IfcStructuralAnalysisModel -> Frame. Steps in `read`."""
 
-    def __init__(self, ifc_file, model, scales, defaults: ReaderDefaults | None):
+    def __init__(self, ifc_file: Any, model: Entity, scales: UnitScales, defaults: ReaderDefaults | None) -> None:
         self.f = ifc_file
         self.model = model
         self.s = scales
