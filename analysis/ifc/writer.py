@@ -317,6 +317,7 @@ class _Writer:
         self.notes: list[str] = []
         self.owner = self._owner_history()
         self.counts: defaultdict[str, int] = defaultdict(int)
+        self._properties: dict[tuple[str, str, Any], Any] = {}  # shared IfcPropertySingleValue by content
         self.derived = False
         self._by_guid: dict[str, Any] = {}
 
@@ -701,10 +702,22 @@ class _Writer:
             ifc_type = "IfcLabel"
         return self.f.create_entity(ifc_type, v)
 
+    def _property(self, pname: str, t: str, v: Any):
+        """One IfcPropertySingleValue, shared by every property set that states the same thing.
+
+        An IfcProperty may belong to several property sets; sharing the
+        repeated ones (date, version, units, idealisation, governing case
+        names) halves the entities a large model gets.
+        """
+        key = (pname, t, v)
+        prop = self._properties.get(key)
+        if prop is None:
+            prop = self.f.create_entity("IfcPropertySingleValue", Name=pname, NominalValue=self._value(t, v))
+            self._properties[key] = prop
+        return prop
+
     def _pset(self, name: str, objects: list, props: list[tuple[str, str, Any]]) -> None:
-        f = self.f
-        values = [f.create_entity("IfcPropertySingleValue", Name=pname, NominalValue=self._value(t, v))
-                  for pname, t, v in props if v is not None]
+        values = [self._property(pname, t, v) for pname, t, v in props if v is not None]
         pset = self._root("IfcPropertySet", Name=name, Description=TAG, HasProperties=values)
         self._root("IfcRelDefinesByProperties", RelatedObjects=objects, RelatingPropertyDefinition=pset)
         self.counts["psets"] += 1
