@@ -127,6 +127,19 @@ _TRUSS_TYPES = {"PIN_JOINED_MEMBER", "TENSION_MEMBER", "COMPRESSION_MEMBER", "CA
 _ONE_WAY_TYPES = {"TENSION_MEMBER": "tension-only", "COMPRESSION_MEMBER": "compression-only", "CABLE": "tension-only (cable)"}
 _CURVE_SEGMENTS = 16  # linear pieces for SINUS / PARABOLA curve actions
 
+# Positions of attributes read for every member (``entity[i]`` skips the name look-up of ``entity.Name``).
+# The same in IFC2X3, IFC4 and IFC4X3 (checked against the schemas); Axis is looked up per schema.
+_PRODUCT_PLACEMENT = 5  # IfcProduct.ObjectPlacement
+_PRODUCT_REPRESENTATION = 6  # IfcProduct.Representation
+_PRODUCT_SHAPE_REPRESENTATIONS = 2  # IfcProductRepresentation.Representations
+_REPRESENTATION_ITEMS = 3  # IfcRepresentation.Items
+_EDGE_START, _EDGE_END = 0, 1  # IfcEdge.EdgeStart, EdgeEnd
+_VERTEX_GEOMETRY = 0  # IfcVertexPoint.VertexGeometry
+_POINT_COORDINATES = 0  # IfcCartesianPoint.Coordinates
+_MEMBER_TYPE = 7  # IfcStructuralCurveMember.PredefinedType
+_REL_MEMBER, _REL_CONNECTION, _REL_CONDITION = 4, 5, 6  # IfcRelConnectsStructuralMember
+_GLOBAL_ID, _ROOT_NAME = 0, 2  # IfcRoot.GlobalId, Name
+
 
 # --------------------------------------------------------------------------- public types
 @dataclass(frozen=True, slots=True)
@@ -397,16 +410,25 @@ def _norm(v: Vec3) -> float:
     return math.sqrt(x * x + y * y + z * z)
 
 
+def _attribute_index(ifc_file: Any, entity: str, attribute: str) -> int | None:
+    """Position of an entity's attribute in the file's schema, or None where the schema lacks it."""
+    import ifcopenshell.ifcopenshell_wrapper as wrapper
+
+    declaration: Any = wrapper.schema_by_name(ifc_file.schema_identifier).declaration_by_name(entity)  # an entity
+    index = declaration.attribute_index(attribute)
+    return None if index < 0 else int(index)
+
+
 def _unique_ids(entities: list[Entity]) -> dict[int, str]:
     """Entity id -> Name where present and unique among ``entities``, else GlobalId."""
-    names = [(e, e.Name) for e in entities]
+    names = [(e, e[_ROOT_NAME]) for e in entities]  # every item is an IfcRoot
     counts: dict[str, int] = {}
     for _, name in names:
         if name:
             counts[name] = counts.get(name, 0) + 1
     ids = {}
     for e, name in names:
-        ids[e.id()] = name if name and counts[name] == 1 else str(e.GlobalId)
+        ids[e.id()] = name if name and counts[name] == 1 else str(e[_GLOBAL_ID])
     return ids
 
 
@@ -420,6 +442,7 @@ class _StructuralReader:
         self.s = scales
         self.defaults = defaults
         self.is2x3 = ifc_file.schema == "IFC2X3"
+        self._axis_index = None if self.is2x3 else _attribute_index(ifc_file, "IfcStructuralCurveMember", "Axis")
         self.diagnostics: list[Diagnostic] = []
         self.notes: list[str] = []
         self.physical: dict[str, str] = {}
@@ -442,6 +465,7 @@ class _StructuralReader:
         self._line_forces: dict[int, np.ndarray] = {}
         self._conditions: dict[int, tuple[list[bool], list[float], list[Any]]] = {}
         self._connection_index: _ConnectionIndex | None = None
+        self._member_relations: dict[int, list[tuple[Entity, Entity]]] | None = None
         self._activity_items: dict[int, Any] | None = None
         self._physical_links: tuple[dict[int, Any], dict[int, Any]] | None = None
         self._material_links: dict[int, list[Any]] | None = None
@@ -458,7 +482,7 @@ class _StructuralReader:
 
     def placement_of(self, item) -> np.ndarray:
         """World matrix of an item's frame: its ObjectPlacement, else the model's SharedPlacement."""
-        pl = getattr(item, "ObjectPlacement", None)
+        pl = item[_PRODUCT_PLACEMENT]  # every structural item and action is an IfcProduct
         if pl is None:
             return self.shared if self.shared is not None else np.eye(4)
         return self._placement_cache.matrix(pl)
@@ -479,7 +503,7 @@ class _StructuralReader:
 
     def _frame_of(self, item: Entity) -> tuple[int, Mat]:
         """(key, world matrix) of an item's frame (see `placement_of`); the key is the placement's id, 0 for none."""
-        pl = getattr(item, "ObjectPlacement", None)
+        pl = item[_PRODUCT_PLACEMENT]  # every structural item and action is an IfcProduct
         if pl is None:
             return 0, self.shared if self.shared is not None else np.eye(4)
         return pl.id(), self._placement_cache.matrix(pl)
@@ -492,7 +516,7 @@ class _StructuralReader:
             key = (pkey, v.id())
             point = self._vertex_world.get(key)
             if point is None:
-                point = self._to_world(M, v.VertexGeometry.Coordinates)
+                point = self._to_world(M, v[_VERTEX_GEOMETRY][_POINT_COORDINATES])
                 point.flags.writeable = False  # shared by every item that names the vertex
                 self._vertex_world[key] = point
             out.append(point)
@@ -572,10 +596,10 @@ class _StructuralReader:
         if key in self._vertices:
             return self._vertices[key]
         found = None
-        rep = getattr(item, "Representation", None)
-        for r in (rep.Representations or ()) if rep is not None else ():
-            for it in r.Items or ():
-                if it.is_a("IfcVertexPoint") and it.VertexGeometry is not None:
+        rep = item[_PRODUCT_REPRESENTATION]
+        for r in (rep[_PRODUCT_SHAPE_REPRESENTATIONS] or ()) if rep is not None else ():
+            for it in r[_REPRESENTATION_ITEMS] or ():
+                if it.is_a() == "IfcVertexPoint" and it[_VERTEX_GEOMETRY] is not None:  # no subtypes
                     found = it
                     break
             if found is not None:
@@ -585,11 +609,11 @@ class _StructuralReader:
 
     def _edge_of(self, member: Entity) -> tuple[Entity, Entity, Entity] | None:
         """(edge, start vertex, end vertex) of an item's topology representation, or None."""
-        rep = getattr(member, "Representation", None)
-        for r in (rep.Representations or ()) if rep is not None else ():
-            for it in r.Items or ():
+        rep = member[_PRODUCT_REPRESENTATION]
+        for r in (rep[_PRODUCT_SHAPE_REPRESENTATIONS] or ()) if rep is not None else ():
+            for it in r[_REPRESENTATION_ITEMS] or ():
                 if it.is_a() in ("IfcEdge", "IfcEdgeCurve"):  # the common case, without the subtype tests
-                    return it, it.EdgeStart, it.EdgeEnd
+                    return it, it[_EDGE_START], it[_EDGE_END]
                 if it.is_a("IfcOrientedEdge"):
                     base = it.EdgeElement
                     start, end = (base.EdgeStart, base.EdgeEnd) if it.Orientation else (base.EdgeEnd, base.EdgeStart)
@@ -612,6 +636,22 @@ class _StructuralReader:
             self._connection_index = _ConnectionIndex(with_vertex, [self._connection_point(c) for c in with_vertex])
         return self._connection_index.first_within(point, tol, taken)
 
+    def _point_relations(self, member: Entity) -> list[tuple[Entity, Entity]]:
+        """(relation, its point connection) pairs of a member, in the order of its ConnectedBy.
+
+        From one pass over every IfcRelConnectsStructuralMember (file order,
+        which is the order of the inverse attribute) instead of one inverse
+        look-up per member.
+        """
+        if self._member_relations is None:
+            found: dict[int, list[tuple[Entity, Entity]]] = {}
+            for r in self.f.by_type("IfcRelConnectsStructuralMember"):
+                relating, conn = r[_REL_MEMBER], r[_REL_CONNECTION]
+                if relating is not None and conn is not None and self._is_point_connection(conn):
+                    found.setdefault(relating.id(), []).append((r, conn))
+            self._member_relations = found
+        return self._member_relations.get(member.id(), [])
+
     def _member_ends(self, member: Entity) -> dict[str, Any]:
         """End points (world, m) and the connection and relation at each end."""
         found = self._edge_of(member)
@@ -629,11 +669,7 @@ class _StructuralReader:
         frame = self._frame_of(member)
         p = self._vertex_points(frame, (v_start, v_end))
         # (relation, its point connection) pairs, in the order of the member's ConnectedBy
-        point_rels: list[tuple[Entity, Entity]] = []
-        for r in getattr(member, "ConnectedBy", None) or ():  # IfcRelConnectsStructuralMember by the schema
-            conn = r.RelatedStructuralConnection
-            if conn is not None and self._is_point_connection(conn):
-                point_rels.append((r, conn))
+        point_rels = self._point_relations(member)
         # index into point_rels of the relation chosen at each end (None: not yet, -1: implied by position)
         chosen: list[int | None] = [None, None]
         conns: list[Entity | None] = [None, None]
@@ -782,7 +818,7 @@ class _StructuralReader:
     def _member(self, member, ends: dict, need_density: bool, material_cache: dict) -> None:
         mid = self.member_ids[member.id()]
         label = entity_label(member)
-        predefined = str(getattr(member, "PredefinedType", None) or "NOTDEFINED")
+        predefined = str(member[_MEMBER_TYPE] or "NOTDEFINED")
         truss = predefined in _TRUSS_TYPES
         if predefined in _ONE_WAY_TYPES:
             self.warn(member, f"{predefined}: {_ONE_WAY_TYPES[predefined]} behaviour is not modelled by a linear analysis; the member is an axial bar carrying both tension and compression")
@@ -794,7 +830,7 @@ class _StructuralReader:
         ex = (p_j - p_i) / chord
         ref = None
         roll = 0.0
-        axis = getattr(member, "Axis", None)
+        axis = member[self._axis_index] if self._axis_index is not None else None
         if axis is not None:
             ref = self._reference(ends["frame"], axis)
             if _norm(_cross(ref, ex)) < 1e-9 * max(_norm(ref), 1e-300):
@@ -825,7 +861,7 @@ class _StructuralReader:
         # releases
         releases: list[list[str]] = [[], []]
         for k, rel in enumerate(ends["rels"]):
-            cond = getattr(rel, "AppliedCondition", None)
+            cond = rel.AppliedCondition if isinstance(rel, _ImpliedConnection) else rel[_REL_CONDITION]
             if cond is None:
                 continue
             fixed, springs, raw = self._condition_flags(cond, rel, "end condition")
@@ -868,7 +904,7 @@ class _StructuralReader:
             mid, self.node_ids[conn_i.id()], self.node_ids[conn_j.id()], section, material,
             ref=tuple(ref.tolist()) if ref is not None else None, roll=roll, truss=truss,
             release_i=releases[0], release_j=releases[1], offset_i=tuple(off_i.tolist()), offset_j=tuple(off_j.tolist()),
-            source=str(member.GlobalId), label=label)
+            source=str(member[_GLOBAL_ID]), label=label)
         self.member_info[member.id()] = {"id": mid, "start": start, "axes": axes, "length": length}
         phys = self._physical(member)
         if phys is not None:
