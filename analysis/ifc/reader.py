@@ -421,14 +421,14 @@ def _attribute_index(ifc_file: Any, entity: str, attribute: str) -> int | None:
 
 def _unique_ids(entities: list[Entity]) -> dict[int, str]:
     """Entity id -> Name where present and unique among ``entities``, else GlobalId."""
-    names = [(e, e[_ROOT_NAME]) for e in entities]  # every item is an IfcRoot
+    names = [(e, e.get_argument(_ROOT_NAME)) for e in entities]  # every item is an IfcRoot
     counts: dict[str, int] = {}
     for _, name in names:
         if name:
             counts[name] = counts.get(name, 0) + 1
     ids = {}
     for e, name in names:
-        ids[e.id()] = name if name and counts[name] == 1 else str(e[_GLOBAL_ID])
+        ids[e.id()] = name if name and counts[name] == 1 else str(e.get_argument(_GLOBAL_ID))
     return ids
 
 
@@ -482,7 +482,7 @@ class _StructuralReader:
 
     def placement_of(self, item) -> np.ndarray:
         """World matrix of an item's frame: its ObjectPlacement, else the model's SharedPlacement."""
-        pl = item[_PRODUCT_PLACEMENT]  # every structural item and action is an IfcProduct
+        pl = item.get_argument(_PRODUCT_PLACEMENT)  # every structural item and action is an IfcProduct
         if pl is None:
             return self.shared if self.shared is not None else np.eye(4)
         return self._placement_cache.matrix(pl)
@@ -503,7 +503,7 @@ class _StructuralReader:
 
     def _frame_of(self, item: Entity) -> tuple[int, Mat]:
         """(key, world matrix) of an item's frame (see `placement_of`); the key is the placement's id, 0 for none."""
-        pl = item[_PRODUCT_PLACEMENT]  # every structural item and action is an IfcProduct
+        pl = item.get_argument(_PRODUCT_PLACEMENT)  # every structural item and action is an IfcProduct
         if pl is None:
             return 0, self.shared if self.shared is not None else np.eye(4)
         return pl.id(), self._placement_cache.matrix(pl)
@@ -516,7 +516,7 @@ class _StructuralReader:
             key = (pkey, v.id())
             point = self._vertex_world.get(key)
             if point is None:
-                point = self._to_world(M, v[_VERTEX_GEOMETRY][_POINT_COORDINATES])
+                point = self._to_world(M, v.get_argument(_VERTEX_GEOMETRY).get_argument(_POINT_COORDINATES))
                 point.flags.writeable = False  # shared by every item that names the vertex
                 self._vertex_world[key] = point
             out.append(point)
@@ -596,10 +596,10 @@ class _StructuralReader:
         if key in self._vertices:
             return self._vertices[key]
         found = None
-        rep = item[_PRODUCT_REPRESENTATION]
-        for r in (rep[_PRODUCT_SHAPE_REPRESENTATIONS] or ()) if rep is not None else ():
-            for it in r[_REPRESENTATION_ITEMS] or ():
-                if it.is_a() == "IfcVertexPoint" and it[_VERTEX_GEOMETRY] is not None:  # no subtypes
+        rep = item.get_argument(_PRODUCT_REPRESENTATION)
+        for r in (rep.get_argument(_PRODUCT_SHAPE_REPRESENTATIONS) or ()) if rep is not None else ():
+            for it in r.get_argument(_REPRESENTATION_ITEMS) or ():
+                if it.is_a() == "IfcVertexPoint" and it.get_argument(_VERTEX_GEOMETRY) is not None:  # no subtypes
                     found = it
                     break
             if found is not None:
@@ -609,11 +609,11 @@ class _StructuralReader:
 
     def _edge_of(self, member: Entity) -> tuple[Entity, Entity, Entity] | None:
         """(edge, start vertex, end vertex) of an item's topology representation, or None."""
-        rep = member[_PRODUCT_REPRESENTATION]
-        for r in (rep[_PRODUCT_SHAPE_REPRESENTATIONS] or ()) if rep is not None else ():
-            for it in r[_REPRESENTATION_ITEMS] or ():
+        rep = member.get_argument(_PRODUCT_REPRESENTATION)
+        for r in (rep.get_argument(_PRODUCT_SHAPE_REPRESENTATIONS) or ()) if rep is not None else ():
+            for it in r.get_argument(_REPRESENTATION_ITEMS) or ():
                 if it.is_a() in ("IfcEdge", "IfcEdgeCurve"):  # the common case, without the subtype tests
-                    return it, it[_EDGE_START], it[_EDGE_END]
+                    return it, it.get_argument(_EDGE_START), it.get_argument(_EDGE_END)
                 if it.is_a("IfcOrientedEdge"):
                     base = it.EdgeElement
                     start, end = (base.EdgeStart, base.EdgeEnd) if it.Orientation else (base.EdgeEnd, base.EdgeStart)
@@ -646,7 +646,7 @@ class _StructuralReader:
         if self._member_relations is None:
             found: dict[int, list[tuple[Entity, Entity]]] = {}
             for r in self.f.by_type("IfcRelConnectsStructuralMember"):
-                relating, conn = r[_REL_MEMBER], r[_REL_CONNECTION]
+                relating, conn = r.get_argument(_REL_MEMBER), r.get_argument(_REL_CONNECTION)
                 if relating is not None and conn is not None and self._is_point_connection(conn):
                     found.setdefault(relating.id(), []).append((r, conn))
             self._member_relations = found
@@ -818,7 +818,7 @@ class _StructuralReader:
     def _member(self, member, ends: dict, need_density: bool, material_cache: dict) -> None:
         mid = self.member_ids[member.id()]
         label = entity_label(member)
-        predefined = str(member[_MEMBER_TYPE] or "NOTDEFINED")
+        predefined = str(member.get_argument(_MEMBER_TYPE) or "NOTDEFINED")
         truss = predefined in _TRUSS_TYPES
         if predefined in _ONE_WAY_TYPES:
             self.warn(member, f"{predefined}: {_ONE_WAY_TYPES[predefined]} behaviour is not modelled by a linear analysis; the member is an axial bar carrying both tension and compression")
@@ -830,7 +830,7 @@ class _StructuralReader:
         ex = (p_j - p_i) / chord
         ref = None
         roll = 0.0
-        axis = member[self._axis_index] if self._axis_index is not None else None
+        axis = member.get_argument(self._axis_index) if self._axis_index is not None else None
         if axis is not None:
             ref = self._reference(ends["frame"], axis)
             if _norm(_cross(ref, ex)) < 1e-9 * max(_norm(ref), 1e-300):
@@ -861,7 +861,7 @@ class _StructuralReader:
         # releases
         releases: list[list[str]] = [[], []]
         for k, rel in enumerate(ends["rels"]):
-            cond = rel.AppliedCondition if isinstance(rel, _ImpliedConnection) else rel[_REL_CONDITION]
+            cond = rel.AppliedCondition if isinstance(rel, _ImpliedConnection) else rel.get_argument(_REL_CONDITION)
             if cond is None:
                 continue
             fixed, springs, raw = self._condition_flags(cond, rel, "end condition")
@@ -904,7 +904,7 @@ class _StructuralReader:
             mid, self.node_ids[conn_i.id()], self.node_ids[conn_j.id()], section, material,
             ref=tuple(ref.tolist()) if ref is not None else None, roll=roll, truss=truss,
             release_i=releases[0], release_j=releases[1], offset_i=tuple(off_i.tolist()), offset_j=tuple(off_j.tolist()),
-            source=str(member[_GLOBAL_ID]), label=label)
+            source=str(member.get_argument(_GLOBAL_ID)), label=label)
         self.member_info[member.id()] = {"id": mid, "start": start, "axes": axes, "length": length}
         phys = self._physical(member)
         if phys is not None:
