@@ -139,6 +139,8 @@ _POINT_COORDINATES = 0  # IfcCartesianPoint.Coordinates
 _MEMBER_TYPE = 7  # IfcStructuralCurveMember.PredefinedType
 _REL_MEMBER, _REL_CONNECTION, _REL_CONDITION = 4, 5, 6  # IfcRelConnectsStructuralMember
 _GLOBAL_ID, _ROOT_NAME = 0, 2  # IfcRoot.GlobalId, Name
+_ACTIVITY_LOAD, _ACTIVITY_AXES = 7, 8  # IfcStructuralActivity.AppliedLoad, GlobalOrLocal
+_ACTIVITY_ITEM, _ACTIVITY_ACTIVITY = 4, 5  # IfcRelConnectsStructuralActivity.RelatingElement, RelatedStructuralActivity
 
 
 # --------------------------------------------------------------------------- public types
@@ -1250,9 +1252,9 @@ class _StructuralReader:
         if self._activity_items is None:
             items: dict[int, Entity] = {}
             for rel in self.f.by_type("IfcRelConnectsStructuralActivity"):
-                activity = rel.RelatedStructuralActivity
+                activity = rel.get_argument(_ACTIVITY_ACTIVITY)
                 if activity is not None and activity.id() not in items:
-                    items[activity.id()] = rel.RelatingElement
+                    items[activity.id()] = rel.get_argument(_ACTIVITY_ITEM)
             self._activity_items = items
         return self._activity_items.get(action.id())
 
@@ -1298,11 +1300,11 @@ class _StructuralReader:
     def _member_action(self, action, member, factor: float) -> list:
         info = self.member_info[member.id()]
         mid, L, axes = info["id"], info["length"], info["axes"]
-        load = action.AppliedLoad
-        gl = str(getattr(action, "GlobalOrLocal", None) or "GLOBAL_COORDS")
+        load = action.get_argument(_ACTIVITY_LOAD)
+        gl = str(action.get_argument(_ACTIVITY_AXES) or "GLOBAL_COORDS")
         local = gl == "LOCAL_COORDS"
         R = np.eye(3) if local else self.global_rotation
-        src = str(action.GlobalId)
+        src = str(action.get_argument(_GLOBAL_ID))
         if load is None:
             return []
         if action.is_a("IfcStructuralPointAction"):
