@@ -126,6 +126,8 @@ logger = logging.getLogger(__name__)
 _TRUSS_TYPES = {"PIN_JOINED_MEMBER", "TENSION_MEMBER", "COMPRESSION_MEMBER", "CABLE"}
 _ONE_WAY_TYPES = {"TENSION_MEMBER": "tension-only", "COMPRESSION_MEMBER": "compression-only", "CABLE": "tension-only (cable)"}
 _CURVE_SEGMENTS = 16  # linear pieces for SINUS / PARABOLA curve actions
+_NO_OFFSET = np.zeros(3)  # (3,) the zero offset, shared and read-only: ``offset is _NO_OFFSET`` tests for it
+_NO_OFFSET.flags.writeable = False
 
 # Positions of attributes read for every member (``entity[i]`` skips the name look-up of ``entity.Name``).
 # The same in IFC2X3, IFC4 and IFC4X3 (checked against the schemas); Axis is looked up per schema.
@@ -464,6 +466,7 @@ class _StructuralReader:
         self._profiles: dict[tuple[int, ...], tuple[Entity | None, int | None, Entity | None]] = {}
         self._sections: dict[tuple[int, int | None], tuple[Section, SectionProperties, list[str]]] = {}
         self._boxes: dict[int, tuple[np.ndarray, np.ndarray]] = {}
+        self._cardinal_shifts: dict[tuple[int, int, int], np.ndarray] = {}
         self._line_forces: dict[int, np.ndarray] = {}
         self._conditions: dict[int, tuple[list[bool], list[float], list[Any]]] = {}
         self._connection_index: _ConnectionIndex | None = None
@@ -846,7 +849,7 @@ class _StructuralReader:
         axes = self._axes(ex, ref, roll)
 
         # section
-        offset = np.zeros(3)
+        offset = _NO_OFFSET
         if profile is None:
             if self.defaults is None or self.defaults.section is None:
                 raise self.fail(member, "no profile (IfcMaterialProfileSetUsage or profile properties) and no default section given")
@@ -887,6 +890,29 @@ class _StructuralReader:
         # ends, offsets
         conn_i, conn_j = (c for _, c in ends["conns"])
         node_i, node_j = self.node_xyz[conn_i.id()], self.node_xyz[conn_j.id()]
+        if p_i is node_i and p_j is node_j and offset is _NO_OFFSET:
+            # the common case: both ends are their connections' own vertex points, no eccentricity: what
+            # the general branch below gives, without its small-array arithmetic
+            off_i = off_j = _NO_OFFSET
+            start = node_i + _NO_OFFSET
+            length = chord
+        else:
+            off_i, off_j, start, length = self._end_offsets(member, ends, node_i, node_j, offset, chord)
+
+        self.builder.add_member(
+            mid, self.node_ids[conn_i.id()], self.node_ids[conn_j.id()], section, material,
+            ref=tuple(ref.tolist()) if ref is not None else None, roll=roll, truss=truss,
+            release_i=releases[0], release_j=releases[1], offset_i=tuple(off_i.tolist()), offset_j=tuple(off_j.tolist()),
+            source=str(member.get_argument(_GLOBAL_ID)), label=label)
+        self.member_info[member.id()] = {"id": mid, "start": start, "axes": axes, "length": length}
+        phys = self._physical(member)
+        if phys is not None:
+            self.physical[mid] = str(phys.GlobalId)
+
+    def _end_offsets(self, member: Entity, ends: dict, node_i: Vec3, node_j: Vec3, offset: Vec3,
+                     chord: float) -> tuple[Vec3, Vec3, Vec3, float]:
+        """(offset_i, offset_j, start, length) of a member whose ends lie off its nodes or off its axis (m)."""
+        p_i, p_j = ends["points"]
         d_i, d_j = p_i - node_i, p_j - node_j
         off_i = d_i + offset
         off_j = d_j + offset
@@ -901,16 +927,7 @@ class _StructuralReader:
         length = float(np.linalg.norm((node_j + off_j) - start))
         if length <= tol:
             raise self.fail(member, "zero length")
-
-        self.builder.add_member(
-            mid, self.node_ids[conn_i.id()], self.node_ids[conn_j.id()], section, material,
-            ref=tuple(ref.tolist()) if ref is not None else None, roll=roll, truss=truss,
-            release_i=releases[0], release_j=releases[1], offset_i=tuple(off_i.tolist()), offset_j=tuple(off_j.tolist()),
-            source=str(member.get_argument(_GLOBAL_ID)), label=label)
-        self.member_info[member.id()] = {"id": mid, "start": start, "axes": axes, "length": length}
-        phys = self._physical(member)
-        if phys is not None:
-            self.physical[mid] = str(phys.GlobalId)
+        return off_i, off_j, start, length
 
     def _associations(self, rel_type: str) -> dict[int, list[Entity]]:
         """Element id -> the ``rel_type`` associations naming it, from one pass over the relations."""
@@ -1028,12 +1045,25 @@ class _StructuralReader:
     def _cardinal_offset(self, member, profile, cardinal, props_si, axes) -> np.ndarray:
         """Global offset of the centroidal axis from the reference line for an eccentric insertion."""
         if cardinal is None or cardinal == 10:
-            return np.zeros(3)
+            return _NO_OFFSET
         if axes is None:
-            return np.zeros(3)
-        c = np.array([props_si.cy, props_si.cz])
+            return _NO_OFFSET
         if cardinal in (15, 16, 17, 18, 19):
             self.warn(member, f"CardinalPoint {cardinal} refers to the shear centre: the centroid is used in its place")
+        key = (profile.id(), cardinal, id(props_si))  # props_si: cached per profile and usage, kept alive
+        d = self._cardinal_shifts.get(key)
+        if d is None:
+            d = self._cardinal_shift(member, profile, cardinal, props_si)
+            self._cardinal_shifts[key] = d
+        if np.linalg.norm(d) <= 1e-12:
+            return _NO_OFFSET
+        offset = d[0] * axes[1] + d[1] * axes[2]
+        self.warn(member, f"eccentric insertion (CardinalPoint {cardinal}): centroidal axis offset by y = {d[0]:.6g} m, z = {d[1]:.6g} m from the reference line (rigid offsets at both ends)")
+        return offset
+
+    def _cardinal_shift(self, member, profile, cardinal, props_si) -> np.ndarray:
+        """(2,) centroid relative to the reference line (y, z) = (xp, yp) in m, for a CardinalPoint."""
+        c = np.array([props_si.cy, props_si.cz])
         lo, hi = self._profile_box(profile)
         mid = 0.5 * (lo + hi)
         table = {
@@ -1046,12 +1076,9 @@ class _StructuralReader:
         if cardinal not in table:
             raise self.fail(member, f"CardinalPoint {cardinal} is not one of 1..19")
         point = np.array(table[cardinal])
-        d = c - point  # centroid relative to the reference line, in (y, z) = (xp, yp)
-        if np.linalg.norm(d) <= 1e-12:
-            return np.zeros(3)
-        offset = d[0] * axes[1] + d[1] * axes[2]
-        self.warn(member, f"eccentric insertion (CardinalPoint {cardinal}): centroidal axis offset by y = {d[0]:.6g} m, z = {d[1]:.6g} m from the reference line (rigid offsets at both ends)")
-        return offset
+        d: np.ndarray = c - point  # centroid relative to the reference line, in (y, z) = (xp, yp)
+        d.flags.writeable = False
+        return d
 
     def _profile_box(self, profile: Entity) -> tuple[npt.NDArray[np.float64], npt.NDArray[np.float64]]:
         """Bounding box (m) of the profile in its underlying x, y axes, from ifcopenshell's triangulation (cached)."""
