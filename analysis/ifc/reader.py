@@ -189,6 +189,22 @@ class IfcModel:
     plane: bool = False  # the analysis model declares in-plane 2D loading (IN_PLANE_LOADING_2D)
 
 
+@dataclass(frozen=True, slots=True)
+class _ActionKind:
+    """Facts about an action class: its kind and the positions of two attributes (None: not in the schema)."""
+
+    point: bool  # an IfcStructuralPointAction
+    curve: bool  # an IfcStructuralCurveAction (IFC2X3: IfcStructuralLinearAction)
+    varying: bool  # an IFC2X3 IfcStructuralLinearActionVarying
+    projected: int | None  # ProjectedOrTrue
+    predefined: int | None  # PredefinedType
+
+
+def _argument(entity: Entity, index: int | None) -> Any:
+    """The attribute at ``index`` (see `_attribute_index`), None where the class has no such attribute."""
+    return None if index is None else entity.get_argument(index)
+
+
 class _ImpliedConnection:
     """Stands in for an IfcRelConnectsStructuralMember that the file leaves out (a rigid joint)."""
 
@@ -471,6 +487,7 @@ class _StructuralReader:
         self._conditions: dict[int, tuple[list[bool], list[float], list[Any]]] = {}
         self._connection_index: _ConnectionIndex | None = None
         self._member_relations: dict[int, list[tuple[Entity, Entity]]] | None = None
+        self._action_kinds: dict[str, _ActionKind] = {}
         self._activity_items: dict[int, Any] | None = None
         self._physical_links: tuple[dict[int, Any], dict[int, Any]] | None = None
         self._material_links: dict[int, list[Any]] | None = None
@@ -1334,7 +1351,8 @@ class _StructuralReader:
         src = str(action.get_argument(_GLOBAL_ID))
         if load is None:
             return []
-        if action.is_a("IfcStructuralPointAction"):
+        kinds = self._action_kind(action)
+        if kinds.point:
             if not load.is_a("IfcStructuralLoadSingleForce"):
                 self.warn(action, f"load {load.is_a()} on a curve member is not supported: ignored")
                 return []
@@ -1357,15 +1375,15 @@ class _StructuralReader:
                 if M[k]:
                     out.append(PointLoad(mid, a, float(M[k]), pos, axes=axes_name, moment=True, source=src))
             return out
-        if not action.is_a("IfcStructuralCurveAction") and not action.is_a("IfcStructuralLinearAction"):
+        if not kinds.curve:
             self.warn(action, f"{action.is_a()} on a curve member is not supported: ignored")
             return []
-        if action.is_a("IfcStructuralLinearActionVarying"):
+        if kinds.varying:
             raise self.fail(action, "IFC2X3 varying linear actions are not supported")
-        projected = str(getattr(action, "ProjectedOrTrue", None) or "TRUE_LENGTH") == "PROJECTED_LENGTH"
+        projected = str(_argument(action, kinds.projected) or "TRUE_LENGTH") == "PROJECTED_LENGTH"
         if projected and local:
             raise self.fail(action, "PROJECTED_LENGTH with LOCAL_COORDS is not valid (IFC rule ProjectedIsGlobal)")
-        kind = str(getattr(action, "PredefinedType", None) or "CONST")
+        kind = str(_argument(action, kinds.predefined) or "CONST")
         extent = self._action_extent(action, member, info)
         samples = self._curve_samples(action, load, kind, extent)
         out = []
@@ -1380,6 +1398,19 @@ class _StructuralReader:
                     out.append(LineLoad(mid, a, float(w0[k]), float(w1[k]), start=float(max(s0, 0.0)), end=float(min(s1, L)),
                                         axes=axes_name, projected=projected, source=src))
         return out
+
+    def _action_kind(self, action: Entity) -> _ActionKind:
+        """What `_member_action` asks of an action's class, found once per class."""
+        cls = action.is_a()
+        found = self._action_kinds.get(cls)
+        if found is None:
+            found = self._action_kinds[cls] = _ActionKind(
+                point=bool(action.is_a("IfcStructuralPointAction")),
+                curve=bool(action.is_a("IfcStructuralCurveAction") or action.is_a("IfcStructuralLinearAction")),
+                varying=bool(action.is_a("IfcStructuralLinearActionVarying")),
+                projected=_attribute_index(self.f, cls, "ProjectedOrTrue"),
+                predefined=_attribute_index(self.f, cls, "PredefinedType"))
+        return found
 
     def _linear_force(self, action: Entity, value: Entity) -> Vec3:
         """SI linear-force vector of an IfcStructuralLoadLinearForce (cached per load; do not modify)."""
