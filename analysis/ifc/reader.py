@@ -471,6 +471,7 @@ class _StructuralReader:
         self.shared = self._placement_cache.matrix(shared) if shared is not None else None
         # per-entity look-ups, computed once (profiles, materials, conditions and loads are shared)
         self._vertices: dict[int, Any] = {}
+        self._vertex_ids: dict[int, int | None] = {}
         self._points: dict[int, Vec3] = {}
         self._vertex_world: dict[tuple[int, int], Vec3] = {}
         self._references: dict[tuple[int, int], Vec3] = {}
@@ -629,6 +630,15 @@ class _StructuralReader:
         self._vertices[key] = found
         return found
 
+    def _vertex_id(self, item: Entity) -> int | None:
+        """Entity id of `_vertex_of` (cached per item)."""
+        key = item.id()
+        found = self._vertex_ids.get(key, -1)
+        if found == -1:
+            vertex = self._vertex_of(item)
+            found = self._vertex_ids[key] = vertex.id() if vertex is not None else None
+        return found
+
     def _edge_of(self, member: Entity) -> tuple[Entity, Entity, Entity] | None:
         """(edge, start vertex, end vertex) of an item's topology representation, or None."""
         rep = member.get_argument(_PRODUCT_REPRESENTATION)
@@ -695,12 +705,12 @@ class _StructuralReader:
         # index into point_rels of the relation chosen at each end (None: not yet, -1: implied by position)
         chosen: list[int | None] = [None, None]
         conns: list[Entity | None] = [None, None]
+        vertex_ids = [self._vertex_id(conn) for _, conn in point_rels]
         for k, v in enumerate((v_start, v_end)):
             # 1. the same vertex entity; 2. the eccentricity's vertex on the member; 3. the point within tolerance
             vid = v.id()
             for n, (r, conn) in enumerate(point_rels):
-                cv = self._vertex_of(conn)
-                if cv is not None and cv.id() == vid:
+                if vertex_ids[n] == vid:
                     chosen[k], conns[k] = n, conn
                     break
             if chosen[k] is None:
@@ -746,7 +756,7 @@ class _StructuralReader:
         if extra:
             names = ", ".join(entity_label(conn) for conn in extra)
             raise self.fail(member, f"connected to point connections between its ends ({names}): split the member at them")
-        if chord <= 1e-9 * max(1.0, float(np.abs(p[0]).max())):
+        if chord <= 1e-9 * max(1.0, max(map(abs, p[0].tolist()))):  # the largest |coordinate| of end i
             raise self.fail(member, "zero length (edge start and end at the same point)")
         return {"points": p, "rels": rels, "conns": [(rels[0], conn_i), (rels[1], conn_j)], "frame": frame,
                 "chord": chord}
