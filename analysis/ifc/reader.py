@@ -483,12 +483,13 @@ class _StructuralReader:
         self._profiles: dict[tuple[int, ...], tuple[Entity | None, int | None, Entity | None]] = {}
         self._sections: dict[tuple[int, int | None], tuple[Section, SectionProperties, list[str]]] = {}
         self._boxes: dict[int, tuple[np.ndarray, np.ndarray]] = {}
-        self._cardinal_shifts: dict[tuple[int, int, int], np.ndarray] = {}
+        self._cardinal_shifts: dict[tuple[int, int, int], tuple[np.ndarray, bool]] = {}  # (shift, negligible)
         self._line_forces: dict[int, np.ndarray] = {}
         self._conditions: dict[int, tuple[list[bool], list[float], list[Any]]] = {}
         self._connection_index: _ConnectionIndex | None = None
         self._member_relations: dict[int, list[tuple[Entity, Entity]]] | None = None
         self._action_kinds: dict[str, _ActionKind] = {}
+        self._group_contents: dict[int, list[tuple[Entity, float]]] = {}
         self._activity_items: dict[int, Any] | None = None
         self._physical_links: tuple[dict[int, Any], dict[int, Any]] | None = None
         self._material_links: dict[int, list[Any]] | None = None
@@ -1078,11 +1079,12 @@ class _StructuralReader:
         if cardinal in (15, 16, 17, 18, 19):
             self.warn(member, f"CardinalPoint {cardinal} refers to the shear centre: the centroid is used in its place")
         key = (profile.id(), cardinal, id(props_si))  # props_si: cached per profile and usage, kept alive
-        d = self._cardinal_shifts.get(key)
-        if d is None:
-            d = self._cardinal_shift(member, profile, cardinal, props_si)
-            self._cardinal_shifts[key] = d
-        if np.linalg.norm(d) <= 1e-12:
+        found = self._cardinal_shifts.get(key)
+        if found is None:
+            shift = self._cardinal_shift(member, profile, cardinal, props_si)
+            found = self._cardinal_shifts[key] = (shift, bool(np.linalg.norm(shift) <= 1e-12))
+        d, centred = found
+        if centred:
             return _NO_OFFSET
         offset = d[0] * axes[1] + d[1] * axes[2]
         self.warn(member, f"eccentric insertion (CardinalPoint {cardinal}): centroidal axis offset by y = {d[0]:.6g} m, z = {d[1]:.6g} m from the reference line (rigid offsets at both ends)")
@@ -1174,12 +1176,16 @@ class _StructuralReader:
         return str(getattr(group, "PredefinedType", None) or "NOTDEFINED")
 
     def _contents(self, group):
-        """(related object, factor of its assignment) pairs of a group."""
+        """(related object, factor of its assignment) pairs of a group (cached per group; do not modify)."""
+        found = self._group_contents.get(group.id())
+        if found is not None:
+            return found
         out = []
         for rel in _as_list(getattr(group, "IsGroupedBy", None)):
             factor = float(rel.Factor) if rel.is_a("IfcRelAssignsToGroupByFactor") and rel.Factor is not None else 1.0
             for obj in rel.RelatedObjects or ():
                 out.append((obj, factor))
+        self._group_contents[group.id()] = out
         return out
 
     def _coefficient(self, group) -> float:
