@@ -463,6 +463,7 @@ class _StructuralReader:
         self.defaults = defaults
         self.is2x3 = ifc_file.schema == "IFC2X3"
         self._axis_index = None if self.is2x3 else _attribute_index(ifc_file, "IfcStructuralCurveMember", "Axis")
+        self._condition_index = _attribute_index(ifc_file, "IfcStructuralPointConnection", "AppliedCondition")
         self.diagnostics: list[Diagnostic] = []
         self.notes: list[str] = []
         self.physical: dict[str, str] = {}
@@ -570,7 +571,7 @@ class _StructuralReader:
         b = FrameBuilder(name=str(self.model.Name or self.model.GlobalId))
         self.builder = b
         for c in conn_list:
-            b.add_node(self.node_ids[c.id()], self.node_xyz[c.id()].tolist(), source=str(c.GlobalId), label=entity_label(c))
+            b.add_node(self.node_ids[c.id()], self.node_xyz[c.id()].tolist(), source=str(c.get_argument(_GLOBAL_ID)), label=entity_label(c))
             self._support(c)
         self.cases = self._load_structure()
         need_density = any(any(v != 0 for v in case["self_weight"]) for case in self.cases.values())
@@ -588,19 +589,32 @@ class _StructuralReader:
     def _items(self):
         members, connections = [], []
         seen = set()
+        kinds: dict[str, str] = {}  # class name -> what it is to the frame, found once per class
         for rel in _as_list(getattr(self.model, "IsGroupedBy", None)):
             for obj in rel.RelatedObjects or ():
-                if obj.id() in seen:
+                oid = obj.id()
+                if oid in seen:
                     continue
-                seen.add(obj.id())
-                if obj.is_a("IfcStructuralCurveMember"):
-                    if obj.is_a("IfcStructuralCurveMemberVarying"):
-                        self.warn(obj, "varying curve member read with the section at its start")
+                seen.add(oid)
+                cls = obj.is_a()
+                kind = kinds.get(cls)
+                if kind is None:
+                    if obj.is_a("IfcStructuralCurveMember"):
+                        kind = "varying" if obj.is_a("IfcStructuralCurveMemberVarying") else "member"
+                    elif obj.is_a("IfcStructuralPointConnection"):
+                        kind = "connection"
+                    else:
+                        kind = "item" if obj.is_a("IfcStructuralItem") else "other"
+                    kinds[cls] = kind
+                if kind == "member":
                     members.append(obj)
-                elif obj.is_a("IfcStructuralPointConnection"):
+                elif kind == "varying":
+                    self.warn(obj, "varying curve member read with the section at its start")
+                    members.append(obj)
+                elif kind == "connection":
                     connections.append(obj)
-                elif obj.is_a("IfcStructuralItem"):
-                    self.warn(obj, f"{obj.is_a()} is not supported by a frame analysis: ignored")
+                elif kind == "item":
+                    self.warn(obj, f"{cls} is not supported by a frame analysis: ignored")
         return members, connections
 
     def _connection_point(self, conn: Entity) -> Vec3:
@@ -820,7 +834,7 @@ class _StructuralReader:
         return fixed, springs, raw_values
 
     def _support(self, conn) -> None:
-        cond = getattr(conn, "AppliedCondition", None)
+        cond = _argument(conn, self._condition_index)
         if cond is None:
             return
         fixed, springs, _ = self._condition_flags(cond, conn, "support condition")
