@@ -133,7 +133,7 @@ class Results:
         loading = cr.loads.loading(k, L)
         f_i = cr.end_forces[k, 0]
         d = cr.end_displacements[k]
-        C = self._compliance(k)
+        C = _compliances(self, np.array([k]))[0]
         breaks = loading.breakpoints(L)
         base = np.unique(np.concatenate([np.linspace(0.0, L, n_st), breaks]))
         extra = _extreme_points(loading, f_i, d, C, breaks, L)
@@ -152,17 +152,6 @@ class Results:
                 stations, forces = stations[order], forces[order]
         defl = _deflections(loading, f_i, d, C, stations, L)
         return MemberDiagram(stations=stations, forces=forces, deflections=defl)
-
-    def _compliance(self, k: int) -> np.ndarray:
-        f = self.frame
-        shear = self.options.shear
-
-        def inv(x):
-            return 1.0 / x if x > 0 else 0.0
-
-        return np.array([inv(f.E[k] * f.A[k]), inv(f.G[k] * f.Avy[k]) if shear else 0.0,
-                         inv(f.G[k] * f.Avz[k]) if shear else 0.0, inv(f.G[k] * f.J[k]),
-                         0.0 if f.truss[k] else inv(f.E[k] * f.Iy[k]), 0.0 if f.truss[k] else inv(f.E[k] * f.Iz[k])])
 
     # ------------------------------------------------------------------ envelopes
     def envelopes(self) -> dict[str, dict[str, list[float]]]:
@@ -282,7 +271,7 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int)
     f = cr.end_forces[ks, 0]  # (g,6)
     q = cr.loads.uniform[ks]  # (g,3)
     d = cr.end_displacements[ks]  # (g,12)
-    C = np.stack([res._compliance(int(k)) for k in ks]) if ks.size < 64 else _compliances(res, ks)
+    C = _compliances(res, ks)
     g = ks.size
     # polynomial coefficients (constant, s, s²) of the six actions
     P = np.zeros((g, 6, 3))
@@ -350,15 +339,13 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int)
 
 
 def _compliances(res: "Results", ks: np.ndarray) -> np.ndarray:
+    """Compliances of members ``ks`` for their deflection lines: axial bars stay straight."""
+    from .stiffness.elements import compliances
+
     f = res.frame
     shear = res.options.shear
-
-    def inv(x):
-        with np.errstate(divide="ignore"):
-            return np.where(x > 0, 1.0 / np.where(x > 0, x, 1.0), 0.0)
-
-    C = np.stack([inv(f.E[ks] * f.A[ks]), inv(f.G[ks] * f.Avy[ks]) * shear, inv(f.G[ks] * f.Avz[ks]) * shear,
-                  inv(f.G[ks] * f.J[ks]), inv(f.E[ks] * f.Iy[ks]), inv(f.E[ks] * f.Iz[ks])], axis=1)
+    C = compliances(f.E[ks], f.G[ks], f.A[ks], f.Iy[ks], f.Iz[ks], f.J[ks],
+                    f.Avy[ks] if shear else None, f.Avz[ks] if shear else None)
     C[f.truss[ks], 4:6] = 0.0
     return C
 

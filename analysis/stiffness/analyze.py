@@ -19,7 +19,7 @@ import scipy.sparse as sp
 from ..errors import Diagnostic, UnstableStructureError
 from ..model import DOF_NAMES, AnalysisOptions, Frame, member_axes, member_lengths
 from .dofs import DofSystem, build_dofs
-from .elements import condense, end_transformation, local_stiffness
+from .elements import compliances, condense, end_transformation, local_stiffness
 from .loads import CaseLoads, case_loads, generic_fixed_end_forces, uniform_fixed_end_forces
 from .solvers import SingularStiffness, factorize
 
@@ -45,9 +45,10 @@ class Assembly:
         Iz = np.where(frame.truss, stand_in, frame.Iz)
         J = np.where(frame.truss, stand_in, frame.J)
         G = np.where(frame.truss & ~(frame.G > 0), frame.E, frame.G)
-        self.k = local_stiffness(self.L, frame.E, G, frame.A, Iy, Iz, J,
-                                 frame.Avy if shear else None, frame.Avz if shear else None)
-        self.compliance = self._compliances(shear)
+        Avy, Avz = (frame.Avy, frame.Avz) if shear else (None, None)
+        self.k = local_stiffness(self.L, frame.E, G, frame.A, Iy, Iz, J, Avy, Avz)
+        # the same constants as the matrix, so fixed-end forces of bars under transverse loads exist
+        self.compliance = compliances(frame.E, G, frame.A, Iy, Iz, J, Avy, Avz)
         self.released = dofs.condensed.reshape(m, 12)
         self.kc, _, self._recover = condense(self.k, np.zeros((m, 12, 0)), self.released)
         self.N6 = 6 * n
@@ -56,19 +57,6 @@ class Assembly:
         self.n_ext = self.N6 + dofs.n_hinges
         self.x_ext = self._x_to_ext()
         self.K_full = self._assemble()
-
-    def _compliances(self, shear: bool) -> np.ndarray:
-        f = self.frame
-        with np.errstate(divide="ignore"):
-            C = np.stack([
-                1.0 / (f.E * f.A),
-                np.where((f.Avy > 0) & shear, 1.0 / (f.G * np.where(f.Avy > 0, f.Avy, 1.0)), 0.0),
-                np.where((f.Avz > 0) & shear, 1.0 / (f.G * np.where(f.Avz > 0, f.Avz, 1.0)), 0.0),
-                np.where(f.J > 0, 1.0 / (f.G * np.where(f.J > 0, f.J, 1.0)), 0.0),
-                np.where(f.Iy > 0, 1.0 / (f.E * np.where(f.Iy > 0, f.Iy, 1.0)), 0.0),
-                np.where(f.Iz > 0, 1.0 / (f.E * np.where(f.Iz > 0, f.Iz, 1.0)), 0.0),
-            ], axis=1)
-        return C
 
     def _x_to_ext(self) -> np.ndarray:
         """ext index (0..6n-1 joint components, 6n.. own end rotations) of every unknown x."""

@@ -13,10 +13,28 @@ from __future__ import annotations
 import numpy as np
 
 __all__ = [
+    "compliances",
     "local_stiffness",
     "end_transformation",
     "condense",
 ]
+
+
+def compliances(E, G, A, Iy, Iz, J, Avy=None, Avz=None) -> np.ndarray:
+    """Compliances ``(m,6)`` per unit length: 1/EA, 1/GAvy, 1/GAvz, 1/GJ, 1/EIy, 1/EIz.
+
+    A zero or missing property (no shear area, a bar without bending
+    constants) gives a zero compliance: rigid in that action.
+    """
+
+    def inv(x):
+        x = np.asarray(x, float)
+        with np.errstate(divide="ignore"):
+            return np.where(x > 0, 1.0 / np.where(x > 0, x, 1.0), 0.0)
+
+    zero = np.zeros_like(np.asarray(A, float))
+    return np.stack([inv(E * A), inv(G * Avy) if Avy is not None else zero,
+                     inv(G * Avz) if Avz is not None else zero, inv(G * J), inv(E * Iy), inv(E * Iz)], axis=1)
 
 
 def local_stiffness(L, E, G, A, Iy, Iz, J, Avy=None, Avz=None):

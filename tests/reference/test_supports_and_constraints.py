@@ -7,7 +7,7 @@ import sympy as sy
 from numpy.testing import assert_allclose
 
 from analysis import (AnalysisOptions, Diaphragm, FrameBuilder, LineLoad, LoadCase, Material, ModelError, NodalLoad,
-                      RigidBody, Section, Settlement, UnstableStructureError, analyze)
+                      PointLoad, RigidBody, Section, Settlement, UnstableStructureError, analyze)
 
 E = 210e9
 SEC = Section("S", A=1e-2, Iy=2e-4, Iz=6e-5, J=1e-5)
@@ -246,3 +246,19 @@ def test_skew_member_hinged_alone_at_a_joint_is_not_a_mechanism():
     dg = r.diagram("P", "AN")
     assert_allclose(dg["My"][-1], 0.0, atol=1e-6)
     assert_allclose(dg["Mz"][-1], 0.0, atol=1e-6)
+
+
+def test_point_load_on_an_axial_bar_without_bending_constants():
+    # a bar given only its area carries a transverse load as a simply supported span: its ends take
+    # P b / L and P a / L (statics, common practice, no source)
+    b = FrameBuilder()
+    b.add_node("A", (0, 0, 0), support="pinned")
+    b.add_node("B", (4, 0, 0), support="uy uz")
+    b.add_node("C", (2, 0, 2))
+    bar = Section("bar", A=1e-3)
+    for mid, i, j in (("AB", "A", "B"), ("AC", "A", "C"), ("CB", "C", "B")):
+        b.add_member(mid, i, j, bar, MAT, truss=True)
+    b.add_case(LoadCase("p", member=(PointLoad("AB", "z", -1000.0, 1.0),)))
+    r = analyze(b.build(), AnalysisOptions(plane=True))
+    assert_allclose(r.cases["p"].reactions[[0, 1], 2], [750.0, 250.0], rtol=1e-10)
+    assert r.cases["p"].equilibrium_residual < 1e-12
