@@ -50,12 +50,13 @@ class Assembly:
         # the same constants as the matrix, so fixed-end forces of bars under transverse loads exist
         self.compliance = compliances(frame.E, G, frame.A, Iy, Iz, J, Avy, Avz)
         self.released = dofs.condensed.reshape(m, 12)
-        self.kc, _, self._recover = condense(self.k, np.zeros((m, 12, 0)), self.released)
+        self.kc, self.condense_loads, self._recover = condense(self.k, self.released)
         self.N6 = 6 * n
         self.hinge_slots = dofs.hinge_dof.reshape(m, 12)  # x index or -1
         self.n_joint_x = dofs.n_x - dofs.n_hinges
         self.n_ext = self.N6 + dofs.n_hinges
         self.x_ext = self._x_to_ext()
+        self._element_map: tuple[np.ndarray, np.ndarray] | None = None
         self.K_full = self._assemble()
 
     def _x_to_ext(self) -> np.ndarray:
@@ -71,7 +72,12 @@ class Assembly:
         return x_ext
 
     def element_map(self):
-        """(A (m,12,w), idx (m,w)): local end displacements = A @ ext values at idx."""
+        """(A (m,12,w), idx (m,w)): local end displacements = A @ ext values at idx (built once)."""
+        if self._element_map is None:
+            self._element_map = self._build_element_map()
+        return self._element_map
+
+    def _build_element_map(self):
         m = self.frame.n_members
         i, j = self.frame.members[:, 0].astype(np.int64), self.frame.members[:, 1].astype(np.int64)
         comp = np.arange(6)
@@ -257,7 +263,7 @@ def _load_vectors(asm: Assembly, cases, loads: list[CaseLoads], diagnostics):
         for k, loading in ld.generic.items():
             fef[k, :, c] += generic_fixed_end_forces(loading, asm.L[k], asm.compliance[k], asm.options.shear)
     # truss members: only axial terms of the fixed-end forces stay after condensation
-    _, fef_c, _ = condense(asm.k, fef, asm.released)
+    fef_c = asm.condense_loads(fef)
     A, idx = asm.element_map()
     F_ext = np.zeros((asm.n_ext, nc))
     contrib = -np.swapaxes(A, 1, 2) @ fef_c  # (m,w,nc)

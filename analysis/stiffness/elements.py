@@ -121,29 +121,28 @@ def end_transformation(R, offsets):
     return T
 
 
-def condense(k, fef, released):
+def condense(k, released):
     """Static condensation of released end actions.
 
     Parameters
     ----------
     k : (m,12,12) local stiffness.
-    fef : (m,12,c) fixed-end forces for c load columns (may be c = 0).
     released : (m,12) bool, end actions that are zero.
 
     Returns
     -------
     k_c : (m,12,12) with released rows/columns zero.
-    fef_c : (m,12,c) condensed fixed-end forces.
+    condense_loads : callable(fef (m,12,c)) -> (m,12,c) condensed fixed-end forces.
     recover : callable(d (m,12,c) local end displacements without the
         released components, fef) -> (m,12,c) full local end displacements.
 
     Notes
     -----
     ``k* = k_rr - k_rc k_cc⁻¹ k_cr``, ``f* = f_r - k_rc k_cc⁻¹ f_c``; members
-    are grouped by release pattern so each group is one batched solve.
+    are grouped by release pattern so each group is one batched solve, and
+    the groups are kept for the loads and the recovery.
     """
     k_c = k.copy()
-    fef_c = fef.copy()
     patterns, inverse = np.unique(released, axis=0, return_inverse=True)
     inverse = np.asarray(inverse).reshape(-1)
     groups = []
@@ -160,13 +159,19 @@ def condense(k, fef, released):
         kc = np.zeros_like(kk)
         kc[:, r[:, None], r] = kk[:, r[:, None], r] - np.swapaxes(kcr, 1, 2) @ X
         k_c[rows] = kc
-        if fef.shape[2]:
+        groups.append((rows, c, r, kcc, kcr))
+
+    def condense_loads(fef):
+        fef_c = fef.copy()
+        if not fef.shape[2]:
+            return fef_c
+        for rows, c, r, kcc, kcr in groups:
             ff = fef[rows]
             y = np.linalg.solve(kcc, ff[:, c, :])  # kcc⁻¹ f_c
             out = np.zeros_like(ff)
             out[:, r, :] = ff[:, r, :] - np.swapaxes(kcr, 1, 2) @ y
             fef_c[rows] = out
-        groups.append((rows, c, r, kcc, kcr))
+        return fef_c
 
     def recover(d, fef_full):
         d = d.copy()
@@ -177,4 +182,4 @@ def condense(k, fef, released):
             d[rows[:, None], c[None, :], :] = -np.linalg.solve(kcc, rhs)
         return d
 
-    return k_c, fef_c, recover
+    return k_c, condense_loads, recover
