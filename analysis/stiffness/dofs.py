@@ -250,28 +250,36 @@ def _end_rotation_rows(R: np.ndarray, rel: np.ndarray, member: int, end: int) ->
     return [R[member, a] for a in range(3) if not rel[member, end, 3 + a]]
 
 
-def _unattached_rotations(frame, R, rel, restrained, act_mask) -> list[tuple[int, int]]:
-    """Joint rotation components with no member end, spring or support attached."""
+def _loose_joints(frame, rel):
+    """Joints no member end holds in every rotation, outside rigid groups, and the ends at each joint.
+
+    Returns the releases with the torsion of axial bars released at both
+    ends (a bar holds no joint rotation), the candidate joints, and
+    ``{joint: [(member, end), ...]}``.
+    """
     n = frame.n_nodes
     rel = rel.copy()
-    rel[frame.truss, :, 3] = True  # a truss bar carries no torsion: it holds no joint rotation
+    rel[frame.truss, :, 3] = True
     full = ~rel[:, :, 3:6].any(axis=2)  # (m,2) ends attached in all three rotations
-    attached = np.zeros(n, bool)
-    np.logical_or.at(attached, frame.members[:, 0], full[:, 0])
-    np.logical_or.at(attached, frame.members[:, 1], full[:, 1])
-    attached |= np.zeros(n, bool)
-    in_group = np.zeros(n, bool)
+    held = np.zeros(n, bool)
+    np.logical_or.at(held, frame.members[:, 0], full[:, 0])
+    np.logical_or.at(held, frame.members[:, 1], full[:, 1])
     for group in (*frame.rigid_bodies, *frame.diaphragms):
         for node in group.nodes:
-            in_group[frame.node_index(node)] = True
-    out: list[tuple[int, int]] = []
-    candidates = np.flatnonzero(~attached & ~in_group)
-    if candidates.size == 0:
-        return out
+            held[frame.node_index(node)] = True
+    candidates = np.flatnonzero(~held)
     ends_at: dict[int, list[tuple[int, int]]] = {}
-    for k, (i, j) in enumerate(frame.members):
-        for end, node in ((0, int(i)), (1, int(j))):
-            ends_at.setdefault(node, []).append((k, end))
+    if candidates.size:
+        for k, (i, j) in enumerate(frame.members):
+            for end, node in ((0, int(i)), (1, int(j))):
+                ends_at.setdefault(node, []).append((k, end))
+    return rel, candidates, ends_at
+
+
+def _unattached_rotations(frame, R, rel, restrained, act_mask) -> list[tuple[int, int]]:
+    """Joint rotation components with no member end, spring or support attached."""
+    rel, candidates, ends_at = _loose_joints(frame, rel)
+    out: list[tuple[int, int]] = []
     rot_active = [c for c in range(3, 6) if act_mask[c]]
     for node in candidates:
         dirs = []
@@ -342,21 +350,10 @@ def _skew_unattached(frame, R, rel, restrained, act_mask, axis_aligned) -> list[
     rot_active = [c for c in range(3, 6) if act_mask[c]]
     if len(rot_active) < 3:  # a plane analysis has one rotation: the axis check is exact
         return []
-    full = ~rel[:, :, 3:6].any(axis=2)
-    attached = np.zeros(frame.n_nodes, bool)
-    np.logical_or.at(attached, frame.members[:, 0], full[:, 0])
-    np.logical_or.at(attached, frame.members[:, 1], full[:, 1])
-    for group in (*frame.rigid_bodies, *frame.diaphragms):
-        for node in group.nodes:
-            attached[frame.node_index(node)] = True
-    candidates = np.flatnonzero(~attached)
+    rel, candidates, ends_at = _loose_joints(frame, rel)
     if candidates.size == 0:
         return []
     dropped = {(n, c) for n, c in axis_aligned}
-    ends_at: dict[int, list[tuple[int, int]]] = {}
-    for k, (i, j) in enumerate(frame.members):
-        ends_at.setdefault(int(i), []).append((k, 0))
-        ends_at.setdefault(int(j), []).append((k, 1))
     out = []
     for node in candidates:
         free_c = [c for c in rot_active if not restrained[node, c] and (int(node), c) not in dropped]
