@@ -16,6 +16,7 @@ __all__ = [
     "ModelError",
     "Diagnostic",
     "entity_label",
+    "entity_global_id",
 ]
 
 
@@ -63,11 +64,32 @@ class Diagnostic:
         return f"{self.level}: {self.message}"
 
 
-def entity_label(entity) -> str:
-    """``#412 IfcBeam 'B-12'`` for an ifcopenshell entity (name omitted when empty)."""
+def entity_label(entity, global_id: bool = True) -> str:
+    """``#412 IfcBeam 'B-12' (GlobalId 2ccDLznxfJAhKiXoPKukxj)`` for an ifcopenshell entity.
+
+    The name is omitted when empty, the GlobalId where the entity has none
+    (or ``global_id`` is false, e.g. where the message gives it already).
+    """
     try:
         name = getattr(entity, "Name", None)
     except Exception:  # entity without a Name attribute
         name = None
     label = f"#{entity.id()} {entity.is_a()}"
-    return f"{label} '{name}'" if name else label
+    if name:
+        label = f"{label} '{name}'"
+    if global_id:
+        gid = entity_global_id(entity)
+        if gid:
+            label = f"{label} (GlobalId {gid})"
+    return label
+
+
+def entity_global_id(entity) -> str | None:
+    """The GlobalId of an IfcRoot entity, None for other entities (profiles, points, units)."""
+    try:
+        if not entity.is_a("IfcRoot"):
+            return None
+        gid = entity[0]
+    except Exception:  # not an ifcopenshell entity, or an unreadable attribute
+        return None
+    return str(gid) if gid else None

@@ -3,16 +3,46 @@
 Every output (results IFC, JSON, report, sample copies) is written to a
 temporary file in the destination folder and moved into place with one
 ``os.replace``, which is atomic on the same file system.
+
+The outputs of one run form a set that is kept all-or-nothing: inside
+``with output_set() as outputs: ...`` every `atomic_write` only stages its
+file (writes the temporary); ``outputs.commit()`` then moves them all into
+place, and on any failure (or when the block is left without a commit) the
+staged temporaries are removed and targets already replaced are restored
+from hard-link backups.
+
+A target that exists and is not a regular file (``/dev/null``, a terminal,
+a named pipe) is never replaced: the staged bytes are copied into it as a
+stream when the set is committed.
+
+Temporary names carry the process id (``.plumbframe-<pid>-XXXX<suffix>``), so
+a later run can tell the leftovers of a killed run (`remove_stale_temporaries`)
+from the live temporaries of a run going on at the same time.
 """
 from __future__ import annotations
 
+import contextlib
+import contextvars
+import errno
+import glob
 import os
+import re
+import shutil
+import signal
+import stat
 import tempfile
-from typing import Callable
+import time
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass, field
 
 from .errors import AnalysisError
 
-__all__ = ["atomic_write", "atomic_text"]
+__all__ = ["atomic_write", "atomic_text", "output_set", "OutputSet", "remove_stale_temporaries", "is_special_file"]
+
+_PREFIX = ".plumbframe-"
+_STALE_AGE = 60.0  # seconds: a leftover younger than this is never touched (another host may be writing it)
+_LEGACY_AGE = 24 * 3600.0  # names without a process id (older versions): removed when older than a day
+_NAME = re.compile(r"^\.plumbframe-(?:(\d+)-)?[A-Za-z0-9_]{6,}")
 
 
 def _public_mode(path: str) -> None:
@@ -22,30 +52,227 @@ def _public_mode(path: str) -> None:
     os.chmod(path, 0o666 & ~mask)
 
 
+def is_special_file(path: str) -> bool:
+    """True when ``path`` exists and is neither a regular file nor a folder (a device, pipe or socket)."""
+    try:
+        mode = os.stat(path).st_mode
+    except OSError:
+        return False
+    return not (stat.S_ISREG(mode) or stat.S_ISDIR(mode))
+
+
+def _remove(path: str) -> None:
+    with contextlib.suppress(OSError):
+        os.remove(path)
+
+
+def _remove_library_temporaries(tmp: str) -> None:
+    """ifcopenshell's ``file.write`` writes ``<tmp>.NNNN.tmp`` and renames it: remove what a failure left."""
+    for leftover in glob.glob(glob.escape(tmp) + ".*.tmp"):
+        _remove(leftover)
+
+
+def _reason(exc: BaseException, folder: str) -> str:
+    if isinstance(exc, OSError):
+        return exc.strerror or str(exc)
+    text = str(exc) or type(exc).__name__
+    with contextlib.suppress(OSError):
+        if shutil.disk_usage(folder).free < 1 << 20:
+            text += "; the disk is full"
+    return text
+
+
+@dataclass
+class _Staged:
+    target: str  # where the file goes (symbolic links resolved)
+    shown: str  # the path as the user gave it
+    tmp: str
+    special: bool  # stream into an existing non-regular file instead of replacing it
+
+
+@dataclass
+class OutputSet:
+    """Files staged by `atomic_write` while this set is active; see `output_set`."""
+
+    staged: list[_Staged] = field(default_factory=list)
+    committed: list[str] = field(default_factory=list)
+
+    def stage(self, path: str, write: Callable[[str], None], suffix: str) -> str:
+        target = os.path.realpath(path) if os.path.islink(path) else path
+        special = is_special_file(target)
+        if any(os.path.abspath(s.target) == os.path.abspath(target) for s in self.staged) and not special:
+            raise AnalysisError(f"{path}: named for two outputs of one run; give each output its own file")
+        folder = tempfile.gettempdir() if special else os.path.dirname(os.path.abspath(target))
+        tmp = _write_temporary(path, folder, write, suffix)
+        self.staged.append(_Staged(target, path, tmp, special))
+        return path
+
+    def commit(self) -> list[str]:
+        """Move every staged file into place (streams first); all or nothing. Returns the paths written."""
+        blocked = _block_signals()
+        try:
+            for s in self.staged:
+                if s.special:
+                    _stream_into(s.tmp, s.target, s.shown)
+                    _remove(s.tmp)
+                    self.committed.append(s.shown)
+            self._replace_all([s for s in self.staged if not s.special])
+        finally:
+            self.discard()
+            _unblock_signals(blocked)
+        return list(self.committed)
+
+    def _replace_all(self, files: list[_Staged]) -> None:
+        done: list[tuple[_Staged, str | None]] = []
+        try:
+            for s in files:
+                backup = _backup(s.target)
+                try:
+                    _public_mode(s.tmp)
+                    os.replace(s.tmp, s.target)
+                except OSError as exc:
+                    if backup:
+                        _remove(backup)
+                    raise AnalysisError(f"{s.shown}: cannot be written ({exc.strerror or exc})") from None
+                done.append((s, backup))
+        except BaseException:
+            for s, backup in reversed(done):  # put back what was there before
+                if backup:
+                    with contextlib.suppress(OSError):
+                        os.replace(backup, s.target)
+                else:
+                    _remove(s.target)
+            raise
+        for s, backup in done:
+            if backup:
+                _remove(backup)
+            self.committed.append(s.shown)
+
+    def discard(self) -> None:
+        """Remove every staged temporary that was not committed."""
+        for s in self.staged:
+            _remove(s.tmp)
+            _remove_library_temporaries(s.tmp)
+        self.staged.clear()
+
+
+_ACTIVE: contextvars.ContextVar[OutputSet | None] = contextvars.ContextVar("plumbframe_output_set", default=None)
+
+
+@contextlib.contextmanager
+def output_set() -> Iterator[OutputSet]:
+    """Collect the outputs of one run; commit them together with ``.commit()``.
+
+    Leaving the block without a commit (an error, an interrupt) removes the
+    staged temporaries, so no output of the run appears.
+    """
+    outputs = OutputSet()
+    token = _ACTIVE.set(outputs)
+    try:
+        yield outputs
+    finally:
+        _ACTIVE.reset(token)
+        outputs.discard()
+
+
+def _write_temporary(path: str, folder: str, write: Callable[[str], None], suffix: str) -> str:
+    try:
+        fd, tmp = tempfile.mkstemp(dir=folder, prefix=f"{_PREFIX}{os.getpid()}-", suffix=suffix)
+    except OSError as exc:
+        raise AnalysisError(f"{path}: cannot write in {folder} ({exc.strerror or exc})") from None
+    os.close(fd)
+    ok = False
+    try:
+        write(tmp)
+        ok = True
+    except AnalysisError:
+        raise
+    except (OSError, RuntimeError) as exc:  # ifcopenshell reports its write failures as RuntimeError
+        raise AnalysisError(f"{path}: cannot be written ({_reason(exc, folder)})") from None
+    except NotImplementedError as exc:
+        raise AnalysisError(f"{path}: {exc}") from None
+    finally:
+        if not ok:
+            _remove(tmp)
+            _remove_library_temporaries(tmp)
+    return tmp
+
+
+def _backup(target: str) -> str | None:
+    """A hard link to the current ``target`` (None when there is none or links are impossible)."""
+    if not os.path.isfile(target):
+        return None
+    folder = os.path.dirname(os.path.abspath(target))
+    for _ in range(5):
+        name = os.path.join(folder, f"{_PREFIX}{os.getpid()}-{os.urandom(4).hex()}.bak")
+        try:
+            os.link(target, name)
+            return name
+        except FileExistsError:
+            continue
+        except OSError:
+            return None
+    return None
+
+
+def _stream_into(tmp: str, target: str, shown: str) -> None:
+    """Copy ``tmp`` into an existing device, pipe or socket path."""
+    try:
+        mode = os.stat(target).st_mode
+        if stat.S_ISFIFO(mode):
+            try:  # a pipe nobody reads would block for ever
+                fd = os.open(target, os.O_WRONLY | os.O_NONBLOCK)
+            except OSError as exc:
+                if exc.errno == errno.ENXIO:
+                    raise AnalysisError(f"{shown}: a named pipe that no process is reading") from None
+                raise
+            os.set_blocking(fd, True)
+        elif stat.S_ISSOCK(mode):
+            raise AnalysisError(f"{shown}: is a socket, not a file")
+        else:
+            fd = os.open(target, os.O_WRONLY)
+        with open(fd, "wb") as out, open(tmp, "rb") as src:
+            shutil.copyfileobj(src, out, 1 << 20)
+    except OSError as exc:
+        raise AnalysisError(f"{shown}: cannot be written ({exc.strerror or exc})") from None
+
+
+def _block_signals() -> bool:
+    """Hold SIGINT/SIGTERM while the renames run (they take milliseconds); True if blocked."""
+    if not hasattr(signal, "pthread_sigmask"):
+        return False
+    try:
+        signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGINT, signal.SIGTERM})
+    except (OSError, ValueError):
+        return False
+    return True
+
+
+def _unblock_signals(blocked: bool) -> None:
+    if blocked:
+        signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGINT, signal.SIGTERM})
+
+
 def atomic_write(path: str | os.PathLike[str], write: Callable[[str], None], suffix: str = ".tmp") -> str:
     """Call ``write(tmp_path)`` and move the result to ``path``; nothing is left behind on failure.
+
+    Inside an active `output_set` the file is only staged; the set's
+    ``commit()`` moves it into place with the others.
 
     Raises
     ------
     AnalysisError
-        The folder cannot be written or the file cannot be replaced.
+        The folder cannot be written, the writer fails (also ifcopenshell's
+        ``RuntimeError``), the path is already an output of this run, or the
+        file cannot be replaced.
     """
     path = os.fspath(path)
-    folder = os.path.dirname(os.path.abspath(path))
-    try:
-        fd, tmp = tempfile.mkstemp(dir=folder, prefix=".plumbframe-", suffix=suffix)
-    except OSError as exc:
-        raise AnalysisError(f"{path}: cannot write in {folder} ({exc.strerror or exc})") from None
-    os.close(fd)
-    try:
-        write(tmp)
-        _public_mode(tmp)
-        os.replace(tmp, path)
-    except OSError as exc:
-        raise AnalysisError(f"{path}: cannot be written ({exc.strerror or exc})") from None
-    finally:
-        if os.path.exists(tmp):
-            os.remove(tmp)
+    active = _ACTIVE.get()
+    if active is not None:
+        return active.stage(path, write, suffix)
+    with output_set() as outputs:
+        outputs.stage(path, write, suffix)
+        outputs.commit()
     return path
 
 
@@ -57,3 +284,53 @@ def atomic_text(path: str | os.PathLike[str], text: str, suffix: str = ".tmp") -
             fh.write(text)
 
     return atomic_write(path, write, suffix)
+
+
+def _alive(pid: int) -> bool:
+    try:
+        os.kill(pid, 0)
+    except ProcessLookupError:
+        return False
+    except OSError:  # exists but belongs to someone else
+        return True
+    return True
+
+
+def remove_stale_temporaries(folders, now: float | None = None) -> list[str]:
+    """Remove temporaries of our own naming that a killed run left in ``folders``; returns their paths.
+
+    A file counts as stale when the process named in it no longer runs (and
+    it is older than a minute), or, for names without a process id, when it
+    is older than a day.
+    """
+    now = time.time() if now is None else now
+    removed: list[str] = []
+    for folder in dict.fromkeys(os.path.abspath(f) for f in folders):
+        try:
+            names = os.listdir(folder)
+        except OSError:
+            continue
+        for name in names:
+            m = _NAME.match(name)
+            if m is None:
+                continue
+            path = os.path.join(folder, name)
+            try:
+                st = os.lstat(path)
+            except OSError:
+                continue
+            if not stat.S_ISREG(st.st_mode):
+                continue
+            age = now - st.st_mtime
+            pid = int(m.group(1)) if m.group(1) else None
+            if pid is not None:
+                stale = age > _STALE_AGE and pid != os.getpid() and not _alive(pid)
+            else:
+                stale = age > _LEGACY_AGE
+            if stale:
+                try:
+                    os.remove(path)
+                except OSError:
+                    continue
+                removed.append(path)
+    return removed
