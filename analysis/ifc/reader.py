@@ -187,6 +187,7 @@ class IfcModel:
     notes: list[str] = field(default_factory=list)
     physical: dict[str, str] = field(default_factory=dict)
     plane: bool = False  # the analysis model declares in-plane 2D loading (IN_PLANE_LOADING_2D)
+    source_stamp: Any = None  # analysis.ifc.source.SourceStamp of the bytes read (the writer checks it)
 
 
 @dataclass(frozen=True, slots=True)
@@ -279,7 +280,8 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
     path = os.fspath(path)
     if isinstance(defaults, Mapping):
         defaults = ReaderDefaults(**defaults)
-    ifc_file = _open(path)
+    source = _open(path)
+    ifc_file = source.file
     from ..units import unit_scales
 
     scales = unit_scales(ifc_file)
@@ -303,51 +305,32 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
             ifc_file, scales=scales, merge_tolerance=merge_tolerance, support_level=support_level,
             defaults=defaults, area_loads=area_loads)
         physical = {mid: src for mid, src in zip(frame.member_ids, frame.member_sources) if src}
-        return IfcModel(frame=frame, diagnostics=list(diagnostics), route="physical", schema=schema,
-                        analysis_models=[], path=path, units=scales, notes=notes + list(derive_notes), physical=physical)
+        return IfcModel(frame=frame, diagnostics=source.diagnostics + list(diagnostics), route="physical", schema=schema,
+                        analysis_models=[], path=path, units=scales, notes=notes + list(derive_notes), physical=physical,
+                        source_stamp=source.stamp)
 
     chosen = _choose_model(models, model, path)
     if len(models) > 1:
         notes.append(f"The file holds {len(models)} structural analysis models ("
-                     + ", ".join(f"'{n}' {g}" for n, g in listed) + f"); read {entity_label(chosen)} ({chosen.GlobalId}).")
+                     + ", ".join(f"'{n}' {g}" for n, g in listed) + f"); read {entity_label(chosen)}.")
     else:
-        notes.append(f"Read the structural analysis model {entity_label(chosen)} ({chosen.GlobalId}).")
+        notes.append(f"Read the structural analysis model {entity_label(chosen)}.")
     reader = _StructuralReader(ifc_file, chosen, scales, defaults)
     frame = reader.read()
     plane = str(getattr(chosen, "PredefinedType", None) or "") == "IN_PLANE_LOADING_2D"
     if plane:
         notes.append(f"{entity_label(chosen)} declares in-plane 2D loading: analysed as a plane frame in its own "
                      "plane unless a space analysis is asked for.")
-    return IfcModel(frame=frame, diagnostics=reader.diagnostics, route="structural", schema=schema,
+    return IfcModel(frame=frame, diagnostics=source.diagnostics + reader.diagnostics, route="structural", schema=schema,
                     analysis_models=listed, path=path, units=scales, notes=notes + reader.notes,
-                    physical=reader.physical, plane=plane)
+                    physical=reader.physical, plane=plane, source_stamp=source.stamp)
 
 
 def _open(path: str):
-    if not os.path.exists(path):
-        raise IfcInputError(f"{path}: file does not exist")
-    if os.path.isdir(path):
-        raise IfcInputError(f"{path}: is a folder, not an IFC file")
-    import ifcopenshell
+    """The opened source (`analysis.ifc.source.open_source`): file, stamp and the parser's findings."""
+    from .source import open_source
 
-    try:
-        with open(path, "rb") as fh:
-            head = fh.read(4096)
-    except OSError as exc:
-        raise IfcInputError(f"{path}: cannot be read ({exc.strerror or exc})") from None
-    text = head.lstrip(b"\xef\xbb\xbf").lstrip()
-    is_step = text.startswith(b"ISO-10303-21")
-    is_zip = head.startswith(b"PK")
-    is_xml = text.startswith(b"<") and b"ifc" in head.lower()
-    if not (is_step or is_zip or is_xml):
-        raise IfcInputError(f"{path}: not an IFC file (no ISO-10303-21 header)")
-    try:
-        ifc_file = ifcopenshell.open(path)
-    except Exception as exc:  # ifcopenshell raises several types for unreadable files
-        raise IfcInputError(f"{path}: not a readable IFC file ({exc})") from None
-    if ifc_file.schema not in ("IFC2X3", "IFC4", "IFC4X3", "IFC4X3_ADD2", "IFC4X1", "IFC4X2") and not ifc_file.schema.startswith("IFC4"):
-        raise IfcInputError(f"{path}: schema {ifc_file.schema} is not supported (IFC2X3, IFC4 or IFC4X3)")
-    return ifc_file
+    return open_source(path)
 
 
 def _choose_model(models, wanted: str | None, path: str):

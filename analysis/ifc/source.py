@@ -101,7 +101,7 @@ def check_regular(path: str) -> os.stat_result:
     try:
         st = os.stat(path)
     except FileNotFoundError:
-        raise IfcInputError(f"{path}: no such file") from None
+        raise IfcInputError(f"{path}: file does not exist") from None
     except OSError as exc:
         raise IfcInputError(f"{path}: cannot be read ({exc.strerror or exc})") from None
     kind = _kind_of(st.st_mode)

@@ -154,8 +154,6 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
     IfcInputError
         The source cannot be opened, or an entity the frame refers to is missing.
     """
-    import ifcopenshell
-
     say = progress or (lambda step: None)
     source_path, out_path = os.fspath(source_path), os.fspath(out_path)
     if not os.path.isfile(source_path):
@@ -163,15 +161,21 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
     if _same_file(source_path, out_path) and not overwrite:
         raise AnalysisError(f"{out_path}: refusing to overwrite the input file (pass overwrite=True to allow it)")
     folder = os.path.dirname(os.path.abspath(out_path))
-    if not os.path.isdir(folder):
-        raise AnalysisError(f"{out_path}: the folder {folder} does not exist")
-    if not os.access(folder, os.W_OK):
-        raise AnalysisError(f"{out_path}: the folder {folder} is not writable")
+    from ..fileio import is_special_file
+
+    if not is_special_file(out_path):  # a device or pipe is written as a stream, not replaced
+        if not os.path.isdir(folder):
+            raise AnalysisError(f"{out_path}: the folder {folder} does not exist")
+        if not os.access(folder, os.W_OK):
+            raise AnalysisError(f"{out_path}: the folder {folder} is not writable")
     say("opening the source")
-    try:
-        f = ifcopenshell.open(source_path)
-    except Exception as exc:  # ifcopenshell raises several types for unreadable files
-        raise IfcInputError(f"{source_path}: cannot be read as IFC ({exc})") from None
+    from .source import open_source, verify_unchanged
+
+    source = open_source(source_path, checks=False)
+    f = source.file
+    read_stamp = getattr(model, "source_stamp", None)
+    if read_stamp is not None:  # the file may have been saved again since it was read and analysed
+        verify_unchanged(source_path, read_stamp, source.stamp)
     w = _Writer(f, model, results, indeterminacy, date or _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0))
     say("removing earlier results")
     w.removed = remove_earlier_results(f, keep_derived=getattr(model, "route", "structural") == "structural")
