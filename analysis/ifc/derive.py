@@ -6,6 +6,22 @@ into a `Frame`, for files that carry no structural analysis model.
 
 What is derived, and by which rule (each rule is also reported in the notes)
 -----------------------------------------------------------------------------
+Selection
+    `analysis.ifc.selection`: by default the beams, columns and members
+    whose ``LoadBearing`` (``Pset_BeamCommon``/``ColumnCommon``/
+    ``MemberCommon``, occurrence or type) is not false, less the
+    predefined types that are not frame members (``MULLION``,
+    ``STRINGER``, ``STIFFENING_RIB`` members, ``CORNICE`` beams,
+    ``PILASTER`` columns) and the parts of railings, stairs, ramps, curtain
+    walls, windows, doors, shading devices and furniture; ``select`` /
+    ``exclude`` selector queries say otherwise.
+Left out, not aborted
+    A selected element that cannot become a member (no usable axis or
+    body, zero length or shorter than the tolerance, an exact duplicate of
+    another element) and every element of a group of members that touches
+    no supported node are left out: each is reported (entity, GlobalId,
+    reason) in the diagnostics and counted in the notes. With ``strict``
+    they are one error naming every one of them.
 Axis
     From the element's ``Axis`` representation (an ``IfcPolyline``,
     ``IfcIndexedPolyCurve`` or a trimmed ``IfcLine``: its first and last
@@ -39,16 +55,42 @@ Nodes
     at a column end where one takes part, so column lines stay straight).
     A member is split where another member's end lands on its span
     (perpendicular distance within the tolerance). An end that touches
-    nothing but lies within half the section size (plus the tolerance) of
-    another member's node or centre line is snapped to that node (or to a
-    new node on that centre line) and keeps its true position through a
-    rigid offset (``Frame.offsets``); each such end is reported.
+    nothing but lies within the joint's snap distance of another member's
+    node or centre line is snapped to that node (or to a node on that
+    centre line) and keeps its true position through a rigid offset
+    (``Frame.offsets``); each such end is reported. The snap distance
+    follows the sections meeting there: half the larger section size
+    (bounding-box depth or width) of the two members, plus the tolerance,
+    so a beam stopping at a column face or a brace stopping at a gusset
+    plate reaches the axis it frames into. Ends of several members landing
+    within the tolerance of one point of a centre line (beams framing into
+    a column from both sides) share one node there.
+Members on one line
+    Two or more elements that end up joining the same two nodes
+    (back-to-back angles, double studs, paired mullions, twin stringers)
+    become one analytical member with the summed section: E·A, E·I and
+    G·J added (no composite action is assumed; a stiffer built-up section
+    needs its own profile in the file), the density weighted so the weight
+    is the sum of theirs, the axis on their stiffness-weighted mean line
+    through the end offsets; each merge is reported. Elements of the same
+    class and section lying on the same line within the tolerance are the
+    same element twice: the second is left out as a duplicate.
 Supports
-    Every node at the support level (``support_level`` in m; default the
-    lowest column bottom) and every column bottom standing on an
-    ``IfcFooting`` (connected by ``IfcRelConnectsElements``, or within the
-    tolerance of the footing's top face) gets a support, 'fixed' unless
-    ``defaults.support == 'pinned'``.
+    ``support_level`` (m) given: every node at that level, 'fixed' unless
+    ``defaults.support == 'pinned'``. ``supports`` (selector queries with
+    'fixed' or 'pinned') given: the lowest end(s) of each frame element the
+    query finds, and every member end bearing on any other element it finds.
+    Otherwise, the documented default: (a) every node at the lowest column
+    bottom ('fixed' unless ``defaults.support``); (b) every member end
+    bearing on an ``IfcWall``, ``IfcSlab``, ``IfcFooting`` or ``IfcPile``
+    below it — the underside of its section (half its vertical extent below
+    the centroid) within the tolerance of an upward-facing face of that
+    element's body (``ifcopenshell.geom``), or a column connected to a
+    footing by ``IfcRelConnectsElements``: column bottoms as in (a), beam
+    and member ends pinned; (c) when (a) and (b) find nothing (a roof grid,
+    a truss or a deck without bearings in the file), the nodes at the
+    model's lowest elevation, pinned. Which rule supported how many nodes
+    is reported.
 End releases
     The file's declared connections come first:
     ``IfcRelConnectsWithRealizingElements.ConnectionType`` labels meaning a
@@ -58,8 +100,16 @@ End releases
     the documented defaults: beam to column rigid (``defaults.beam_column``
     'rigid' | 'pinned'); a beam end framing into another beam's span with
     no column there pinned, My and Mz released (``defaults.secondary_beams``
-    'pinned' | 'rigid'); every ``IfcMember`` a pin-ended axial bar, truss
-    (``defaults.members`` 'truss' | 'frame').
+    'pinned' | 'rigid'). ``IfcMember`` elements (``defaults.members``
+    'auto' | 'truss' | 'frame', default 'auto'): with 'auto', a member is a
+    pin-ended axial bar (truss) when it is a diagonal between two joints: both
+    ends meet another element or a support, nothing lands on its span, and
+    no other element continues it in line at either end; a member of a
+    framing type (``STUD``, ``PLATE``, ``POST``, ``PURLIN``, ``RAFTER``,
+    ``COLLAR``, ``CHORD``, ``MULLION``, ``STRINGER``, ``ARCH_SEGMENT`` or a
+    user-defined type naming a joist, stud, plate, rafter, purlin, post,
+    transom, girt or nogging), and every other member, is a frame member with
+    rigid ends. The choice and its reason are reported per element.
 Sections and materials
     Through `analysis.ifc.materials` and `analysis.ifc.sections` (a body's
     swept profile when the element has no profile usage), converted with
@@ -97,8 +147,9 @@ import numpy.typing as npt
 from ..errors import Diagnostic, IfcInputError, entity_label
 from ..model import Frame, LineLoad, LoadCase
 from .placement import PlacementCache, axis_placement_matrix, transformation_operator_matrix
+from .selection import LeftOut, left_out_message, parse_supports, reason_kind, select_frame_elements
 
-__all__ = ["derive_frame", "ELEMENT_TYPES", "CONNECTION_WORDS"]
+__all__ = ["derive_frame", "derive_frame_details", "Derivation", "ELEMENT_TYPES", "CONNECTION_WORDS"]
 
 logger = logging.getLogger(__name__)
 
@@ -174,6 +225,7 @@ class _Element:
     axis_raw: tuple | None = None  # (p0, p1, plane (3,3) or None) from 'Axis'
     body: tuple | None = None  # (M (4,4) local, depth vector, profile)
     note: str = ""
+    left_out: str | None = None  # the reason, once `_Deriver._leave_out` has set it aside
 
 
 def _floats(values: Iterable[float]) -> npt.NDArray[np.float64]:
@@ -455,6 +507,55 @@ def _points_near_segments(tree, A: np.ndarray, B: np.ndarray, radius: np.ndarray
     return seg[keep], pt[keep], t[keep], dist[keep]
 
 
+def _same_node_pairs(members: np.ndarray) -> list[list[int]]:
+    """Groups (in segment order) of segments joining the same two nodes, either way round."""
+    if len(members) < 2:
+        return []
+    keys = np.sort(members, axis=1)
+    _, inverse, counts = np.unique(keys, axis=0, return_inverse=True, return_counts=True)
+    inverse = inverse.ravel()
+    if not (counts > 1).any():
+        return []
+    groups: dict[int, list[int]] = defaultdict(list)
+    for s in np.flatnonzero(counts[inverse] > 1).tolist():
+        groups[int(inverse[s])].append(s)
+    return sorted(groups.values())
+
+
+#: IfcMember predefined types (and words of user-defined types) that frame (rigid-ended) or brace (bars).
+_FRAMING_TYPES = ("STUD", "PLATE", "POST", "PURLIN", "RAFTER", "COLLAR", "CHORD", "MULLION", "STRINGER",
+                  "ARCH_SEGMENT", "STIFFENING_RIB")
+_FRAMING_WORDS = ("joist", "stud", "plate", "rafter", "purlin", "post", "transom", "girt", "nogging", "noggin",
+                  "chord", "mullion", "lintel", "header", "sill", "rail")
+_BRACING_TYPES = ("BRACE", "STRUT", "TIEBAR", "SUSPENDER", "STAY_CABLE", "SUSPENSION_CABLE", "STRUCTURALCABLE")
+_BRACING_WORDS = ("brace", "bracing", "strut", "diagonal", "tie")
+
+
+def _member_role(entity) -> tuple[str, str] | None:
+    """('frame' | 'bar', the type named) from an IfcMember's predefined type, or None when it says neither."""
+    import ifcopenshell.util.element as ue
+
+    try:
+        pt = ue.get_predefined_type(entity)
+    except Exception:  # no predefined type attribute and no type object
+        return None
+    if not pt:
+        return None
+    text = str(pt)
+    up = text.upper()
+    if up in _FRAMING_TYPES:
+        return "frame", up
+    if up in _BRACING_TYPES:
+        return "bar", up
+    low = text.lower()
+    words = set("".join(ch if ch.isalpha() else " " for ch in low).split())
+    if any(w in words or any(x.startswith(w) for x in words) for w in _FRAMING_WORDS):
+        return "frame", repr(text)
+    if any(w in words for w in _BRACING_WORDS):
+        return "bar", repr(text)
+    return None
+
+
 def _connection_fixity(label: str | None) -> str | None:
     if not label:
         return None
@@ -466,8 +567,37 @@ def _connection_fixity(label: str | None) -> str | None:
 
 
 # --------------------------------------------------------------------------- main entry
+@dataclass
+class Derivation:
+    """What `derive_frame_details` returns: the frame and everything said about deriving it."""
+
+    frame: Frame
+    diagnostics: list[Diagnostic]
+    notes: list[str]
+    left_out: list[LeftOut]
+
+
+def derive_frame_details(ifc_file, *, scales=None, merge_tolerance: float = 0.01, support_level: float | None = None,
+                         defaults: Any = None, area_loads: Sequence[tuple] | None = None, select: str | None = None,
+                         exclude: str | None = None, supports: Sequence[str] = (), strict: bool = False,
+                         members: str | None = None) -> Derivation:
+    """`derive_frame`, also returning the elements left out (`analysis.ifc.selection.LeftOut`).
+
+    ``select``/``exclude`` are selector queries (`analysis.ifc.selection`),
+    ``supports`` a sequence of ``"QUERY[:fixed|pinned]"`` texts, ``strict``
+    turns every element left out into one `IfcInputError` naming them all,
+    ``members`` ('auto' | 'truss' | 'frame') overrides ``defaults.members``.
+    The other parameters are those of `derive_frame`.
+    """
+    d = _Deriver(ifc_file, scales, merge_tolerance, support_level, defaults, area_loads,
+                 select=select, exclude=exclude, support_queries=tuple(supports), strict=strict, members=members)
+    frame, diagnostics, notes = d.run()
+    return Derivation(frame, diagnostics, notes, list(d.left_out))
+
+
 def derive_frame(ifc_file, *, scales=None, merge_tolerance: float = 0.01, support_level: float | None = None,
-                 defaults: Any = None, area_loads: Sequence[tuple] | None = None,
+                 defaults: Any = None, area_loads: Sequence[tuple] | None = None, select: str | None = None,
+                 exclude: str | None = None, supports: Sequence[str] = (), strict: bool = False,
                  ) -> tuple[Frame, list[Diagnostic], list[str]]:
     """Derive the analytical frame of a file's physical beams, columns and members.
 
@@ -486,27 +616,38 @@ def derive_frame(ifc_file, *, scales=None, merge_tolerance: float = 0.01, suppor
     defaults : mapping or object, optional
         ``support`` ('fixed' | 'pinned'), ``beam_column`` ('rigid' |
         'pinned'), ``secondary_beams`` ('pinned' | 'rigid'), ``members``
-        ('truss' | 'frame'), the material defaults ``E``, ``G``,
+        ('auto' | 'truss' | 'frame'), the material defaults ``E``, ``G``,
         ``poisson``, ``density`` (SI) and ``section`` (a `Section`) used
         where the file gives none (e.g. `analysis.ifc.reader.ReaderDefaults`).
     area_loads : sequence of (storey, case, pressure), optional
         Storey name (or elevation in m), load case name and pressure in Pa
         (downwards) spread over that floor's beams (module docstring).
+    select, exclude : str, optional
+        Selector queries (ifcopenshell syntax) replacing the default
+        selection / removing elements from it (`analysis.ifc.selection`).
+    supports : sequence of str
+        ``"QUERY[:fixed|pinned]"``: the elements whose lowest ends are
+        supported (module docstring, Supports); replaces the default rule.
+    strict : bool
+        Every element left out (module docstring) is an error instead.
 
     Returns
     -------
     (Frame, list[Diagnostic], list[str])
-        The frame in SI units, per-element findings, and plain-language notes
-        on what was derived and which defaults were applied.
+        The frame in SI units, per-element findings (each element left out is
+        a warning), and plain-language notes on what was derived and which
+        defaults were applied.
 
     Raises
     ------
     IfcInputError
-        An element without a usable axis or body, of zero length, with an
-        unknown profile or without material (and no default); an unknown
-        storey in ``area_loads``. The message names the entity.
+        No element can become a member; with ``strict`` any element left
+        out; an element with an unknown profile or without material (and no
+        default); an invalid selector query; an unknown storey in
+        ``area_loads``. The message names the entity.
     """
-    return _Deriver(ifc_file, scales, merge_tolerance, support_level, defaults, area_loads).run()
+    return _Deriver(ifc_file, scales, merge_tolerance, support_level, defaults, area_loads, select=select,
+                    exclude=exclude, support_queries=tuple(supports), strict=strict).run()
 
 
 _EYE4 = np.eye(4)
@@ -521,8 +662,14 @@ class _Deriver:
     support_level: float | None
     defaults: Any
     area_loads: Sequence[tuple] | None
+    select: str | None = None
+    exclude: str | None = None
+    support_queries: tuple[str, ...] = ()
+    strict: bool = False
+    members: str | None = None
     diagnostics: list[Diagnostic] = field(default_factory=list)
     notes: list[str] = field(default_factory=list)
+    left_out: list[LeftOut] = field(default_factory=list)
 
     def __post_init__(self) -> None:
         if self.scales is None:
@@ -534,7 +681,9 @@ class _Deriver:
         self.support_kind = _option(self.defaults, "support", "fixed", ("fixed", "pinned"))
         self.beam_column = _option(self.defaults, "beam_column", "rigid", ("rigid", "pinned"))
         self.secondary = _option(self.defaults, "secondary_beams", "pinned", ("pinned", "rigid"))
-        self.members_as = _option(self.defaults, "members", "truss", ("truss", "frame"))
+        self.members_as = _option({"members": self.members} if self.members else self.defaults, "members", "auto",
+                                  ("auto", "truss", "frame"))
+        self.support_specs = [parse_supports(s, self.support_kind) for s in self.support_queries]
         self.placements = PlacementCache()
         self._card_cache: dict = {}
 
@@ -542,32 +691,95 @@ class _Deriver:
     def run(self) -> tuple[Frame, list[Diagnostic], list[str]]:
         elements = self._collect()
         if not elements:
-            raise IfcInputError("the file has no IfcBeam, IfcColumn or IfcMember elements (and no structural analysis model)")
+            if self.select:
+                raise IfcInputError(f"--select {self.select!r} finds no element to derive the frame from")
+            raise IfcInputError("the file has no load-bearing IfcBeam, IfcColumn or IfcMember elements to derive the frame "
+                                "from (and no structural analysis model)" + (f" ({self.notes[-1]})" if self.notes else ""))
         self._geometry(elements)
+        elements = self._keep(elements)
         self._properties(elements)
-        frame = self._topology(elements)
+        elements = self._keep(elements)
+        frame = None
+        while frame is None:
+            if not elements:
+                self._report_left_out()
+                raise IfcInputError("no element can become a member of the analytical frame: "
+                                    + "; ".join(str(x) for x in self.left_out[:_LIST_LIMIT])
+                                    + (f" and {len(self.left_out) - _LIST_LIMIT} more" if len(self.left_out) > _LIST_LIMIT else ""),
+                                    self.left_out[0].entity_id if self.left_out else None)
+            mark = (len(self.notes), len(self.diagnostics))
+            self._mid_tree = None
+            frame = self._topology(elements)
+            if frame is None:  # elements were left out: derive the topology again without them
+                del self.notes[mark[0]:]
+                del self.diagnostics[mark[1]:]
+                elements = self._keep(elements)
+        self._report_left_out()
         return frame, self.diagnostics, self.notes
+
+    # ------------------------------------------------------------------ left out
+    def _leave_out(self, el: _Element, reason: str) -> None:
+        """Set ``el`` aside: it cannot become a member (``reason`` starts with its kind, e.g. "no usable body: …").
+
+        Any step may call this; `run` drops the element (`_keep`) after the
+        step, and `_report_left_out` reports it (or, with ``strict``, raises).
+        """
+        if el.left_out is None:
+            el.left_out = reason
+            self.left_out.append(LeftOut(el.eid, el.cls, el.name, el.gid, reason))
+
+    def _keep(self, elements: list[_Element]) -> list[_Element]:
+        """``elements`` without those left out, and the per-element arrays kept on self filtered alike."""
+        mask = [el.left_out is None for el in elements]
+        if all(mask):
+            return elements
+        keep = np.flatnonzero(mask)
+        for attr in ("world", "truss"):
+            value = getattr(self, attr, None)
+            if value is not None and len(value) == len(elements):
+                setattr(self, attr, value[keep])
+        for attr in ("sec", "mat"):
+            value = getattr(self, attr, None)
+            if value is not None and len(value) == len(elements):
+                setattr(self, attr, [value[k] for k in keep])
+        return [el for el in elements if el.left_out is None]
+
+    def _report_left_out(self) -> None:
+        if not self.left_out:
+            return
+        if self.strict:
+            first = self.left_out[0]
+            raise IfcInputError(left_out_message(self.left_out), first.entity_id)
+        kinds = Counter(reason_kind(x.reason) for x in self.left_out)
+        self.notes.append(f"Left out of the analytical frame: {len(self.left_out)} elements ("
+                          + ", ".join(f"{v} {k}" for k, v in sorted(kinds.items())) + "); each is listed in the warnings.")
+        for x in self.left_out:
+            self.diagnostics.append(Diagnostic("warning", x.entity_id, f"{x.label} ({x.global_id}): left out — {x.reason}"))
 
     # ------------------------------------------------------------------ elements
     def _collect(self) -> list[_Element]:
         f = self.ifc_file
         elements: list[_Element] = []
+        chosen, notes = select_frame_elements(f, select=self.select, exclude=self.exclude)
+        self.notes.extend(notes)
         seen: set[int] = set()
-        for base in ELEMENT_TYPES:
-            kind = _KIND[base]
-            for e in f.by_type(base):
-                eid = e.id()
-                if eid in seen:
-                    continue
-                seen.add(eid)
-                cls = e.is_a()
-                name = e.get_argument(2) or ""
-                label = f"#{eid} {cls} '{name}'" if name else f"#{eid} {cls}"
-                elements.append(_Element(e, eid, cls, kind, name, e.get_argument(0), label, e.get_argument(5)))
+        for e in chosen:
+            eid = e.id()
+            seen.add(eid)
+            cls = e.is_a()
+            # IfcColumn and IfcPile stand (column), IfcMember (member), every other class is read as a beam
+            kind = next((_KIND[b] for b in ELEMENT_TYPES if e.is_a(b)), "column" if e.is_a("IfcPile") else "beam")
+            name = e.get_argument(2) or ""
+            label = f"#{eid} {cls} '{name}'" if name else f"#{eid} {cls}"
+            placement = getattr(e, "ObjectPlacement", None)
+            elements.append(_Element(e, eid, cls, kind, name, e.get_argument(0), label, placement))
         elements.sort(key=lambda el: el.eid)
+        if not elements:
+            return elements
         # other physical elements are not read: say which
         try:
-            others = Counter(e.is_a() for e in f.by_type("IfcElement") if e.id() not in seen)
+            others = Counter(e.is_a() for e in f.by_type("IfcElement")
+                             if e.id() not in seen and not any(e.is_a(b) for b in ELEMENT_TYPES))
         except RuntimeError:  # schema without IfcElement: nothing to report
             others = Counter()
         skipped = {k: v for k, v in others.items() if not k.startswith("IfcOpening") and k != "IfcFooting"}
@@ -586,12 +798,12 @@ class _Deriver:
             unusable = _read_representation(el)
             if el.axis_raw is None and el.body is None:
                 why = f"its Body is {unusable}, not an extruded solid" if unusable else "it has neither"
-                raise IfcInputError(f"{el.label}: no 'Axis' curve and no 'Body' extrusion to derive the analytical axis from ({why})", el.eid)
+                self._leave_out(el, f"no usable body: no 'Axis' curve and no 'Body' extrusion to derive the analytical axis from ({why})")
         self.world = self.placements.batch([el.placement for el in elements])
 
     # ------------------------------------------------------------------ sections, materials, axes
     def _properties(self, elements: list[_Element]) -> None:
-        from .materials import element_material, element_profile
+        from .materials import element_profile
 
         f, scales = self.ifc_file, self.scales
         assoc: dict[int, Hashable] = {}  # element id -> what decides its material and profile
@@ -613,32 +825,25 @@ class _Deriver:
             for o in rel.RelatedObjects:
                 typed[o.id()] = t
 
-        mat_defaults = _MaterialDefaults(self.defaults) if self.defaults is not None else None
         groups: dict[tuple, tuple] = {}
         sections: dict[tuple, _SectionInfo] = {}
-        mat_cache: dict = {}
         m = len(elements)
         self.sec: list[_SectionInfo] = [None] * m  # type: ignore[list-item]
-        self.mat: list = [None] * m
+        self.mat: list = self._materials(elements, assoc, typed)
         self.truss = np.zeros(m, dtype=bool)
         for k, el in enumerate(elements):
-            truss = el.kind == "member" and self.members_as == "truss"
-            self.truss[k] = truss
+            # a member may become an axial bar ('truss', or 'auto' decided with the topology): no shear modulus needed
+            truss = el.kind == "member" and self.members_as != "frame"
+            self.truss[k] = el.kind == "member" and self.members_as == "truss"
             own = assoc.get(el.eid)
             t = typed.get(el.eid)
             key = (own, t if own is None else None, truss)
             hit = groups.get(key)
             if hit is None:
-                profile, cardinal, usage = element_profile(f, el.entity)
-                material, diags = element_material(f, el.entity, scales, mat_defaults, need_density=False,
-                                                   need_shear=not truss, cache=mat_cache)
-                hit = (profile, cardinal, usage, material, diags, el.label)
+                hit = element_profile(f, el.entity)
                 groups[key] = hit
-                self.diagnostics.extend(diags)
-            else:
-                if hit[4]:
-                    self.diagnostics.extend(Diagnostic(d.level, el.eid, d.message.replace(hit[5], el.label)) for d in hit[4])
-            profile, cardinal, usage, material, _, _ = hit
+            profile, cardinal, usage = hit
+            material = self.mat[k]
             if profile is None:
                 profile = el.body_profile
                 if profile is None:
@@ -659,6 +864,28 @@ class _Deriver:
             self.sec[k] = sec
             self.mat[k] = material
             self._centroid_line(el, sec)
+
+    def _materials(self, elements: list[_Element], assoc: dict[int, Hashable], typed: dict[int, int]) -> list:
+        """Every element's `Material`, or the one report naming every material that stays unknown.
+
+        Elements with the same material association (or type) share the work;
+        see `analysis.ifc.materials.MaterialResolver` for where each value comes from.
+        """
+        from .materials import MaterialResolver
+
+        mat_defaults = _MaterialDefaults(self.defaults) if self.defaults is not None else None
+        resolver = MaterialResolver(self.ifc_file, self.scales, mat_defaults)
+        out = []
+        for el in elements:
+            # a member may become an axial bar ('truss', or 'auto' decided with the topology): no shear modulus needed
+            truss = el.kind == "member" and self.members_as != "frame"
+            own = assoc.get(el.eid)
+            material, diags = resolver.material(el.entity, need_density=False, need_shear=not truss,
+                                                key=(own, typed.get(el.eid) if own is None else None))
+            self.diagnostics.extend(diags)
+            out.append(material)
+        resolver.raise_unknown()
+        return out
 
     @staticmethod
     def _default_section(section) -> _SectionInfo:
@@ -708,7 +935,8 @@ class _Deriver:
             el.yaxis = M[:3, 1].copy()
 
     # ------------------------------------------------------------------ topology
-    def _topology(self, elements: list[_Element]) -> Frame:
+    def _topology(self, elements: list[_Element]) -> Frame | None:
+        """The frame of ``elements``, or None when some were left out (`run` then derives it again without them)."""
         from scipy.spatial import cKDTree
 
         tol = self.tol
@@ -722,13 +950,17 @@ class _Deriver:
         B = (np.einsum("kij,kj->ki", R, p1) + t) * L
         lengths = np.linalg.norm(B - A, axis=1)
         scale = max(float(np.ptp(np.vstack([A, B]), axis=0).max()), 1.0)
-        for k in np.flatnonzero(lengths <= 1e-9 * scale).tolist():
-            raise IfcInputError(f"{elements[k].label}: zero length (its analytical axis starts and ends at the same point)", elements[k].eid)
+        zero = np.flatnonzero(~(lengths > 1e-9 * scale))  # NaN lengths (unresolvable geometry) too
+        for k in zero.tolist():
+            self._leave_out(elements[k], "zero length: its analytical axis starts and ends at the same point")
+        if len(zero):
+            return None
         ref = np.full((m, 3), np.nan)
         has_y = np.array([el.yaxis is not None for el in elements])
         if has_y.any():
             Y = np.array([el.yaxis for el in elements if el.yaxis is not None])
             ref[has_y] = np.einsum("kij,kj->ki", R[has_y], Y)
+        self._world_ref = ref
         ex = (B - A) / lengths[:, None]
         par = np.abs(np.sum(np.nan_to_num(ref) * ex, axis=1)) > (1 - 1e-9) * np.linalg.norm(np.nan_to_num(ref), axis=1)
         ref[has_y & par] = np.nan
@@ -771,7 +1003,10 @@ class _Deriver:
         elem_nodes = np.stack([end_node[:m], end_node[m:]], axis=1)
         same = elem_nodes[:, 0] == elem_nodes[:, 1]
         for k in np.flatnonzero(same).tolist():
-            raise IfcInputError(f"{elements[k].label}: shorter ({lengths[k] * 1000:.3g} mm) than the merge tolerance: both ends merge into one node", elements[k].eid)
+            self._leave_out(elements[k], f"zero length: shorter ({lengths[k] * 1000:.3g} mm) than the merge tolerance, "
+                                         "both ends merge into one node")
+        if same.any():
+            return None
 
         # -- 2. ends landing on other members' spans ----------------------------
         ntree = cKDTree(P)
@@ -813,7 +1048,8 @@ class _Deriver:
                     if c == node or c in elem_nodes[k] or c in moved_away or degree[c] == 0 and not on_span[c]:
                         continue
                     d = float(np.linalg.norm(P[c] - P[node]))
-                    if d <= node_half[c] + tol and (best is None or d < best[0]):
+                    # snap distance at this joint: half the larger section size of the members meeting, plus the tolerance
+                    if d <= max(node_half[c], half[k]) + tol and (best is None or d < best[0]):
                         best = (d, c)
                 target = None
                 if best is not None:
@@ -823,9 +1059,15 @@ class _Deriver:
                     lines = self._nearest_line(A, B, lengths, half, P[node], k, tol)
                     if lines is not None:
                         s, tv, d = lines
-                        new_points.append(A[s] + tv * (B[s] - A[s]))
-                        target = node_count + len(new_points) - 1
-                        landings[s].append((tv, target))
+                        point = A[s] + tv * (B[s] - A[s])
+                        # another end already snapped within the tolerance of this point of that centre line
+                        # (beams framing into a column from both sides): one node for both
+                        target = next((p for _, p in landings[s] if np.linalg.norm(
+                            (P[p] if p < node_count else new_points[p - node_count]) - point) <= tol), None)
+                        if target is None:
+                            new_points.append(point)
+                            target = node_count + len(new_points) - 1
+                            landings[s].append((tv, target))
                 if target is None:
                     continue
                 moved_away.add(int(node))
@@ -850,7 +1092,9 @@ class _Deriver:
                               + _names(sorted({elements[k].label for k, *_ in eccentric})) + ".")
         same = elem_nodes[:, 0] == elem_nodes[:, 1]
         for k in np.flatnonzero(same).tolist():
-            raise IfcInputError(f"{elements[k].label}: both ends join the same node", elements[k].eid)
+            self._leave_out(elements[k], "zero length: both ends join the same node once eccentric ends are joined")
+        if same.any():
+            return None
 
         # -- 4. segments ----------------------------------------------------------
         seg_elem: list[int] = []
@@ -895,8 +1139,11 @@ class _Deriver:
         members = new_index[seg_nodes_a]
         elem_nodes_new = new_index[elem_nodes]
 
-        # -- 7. supports ----------------------------------------------------------
+        # -- 7. supports, loose parts, member idealisation -------------------------
         restraints = self._supports(elements, elem_nodes_new, nodes, A, B)
+        if self._loose_parts(elements, seg_elem_a, members, restraints):
+            return None
+        self._member_idealisation(elements, seg_elem_a, members, restraints, A, B, lengths)
 
         # -- 8. member arrays -----------------------------------------------------
         names = Counter(el.name for el in elements if el.name)
@@ -906,27 +1153,46 @@ class _Deriver:
         for k, (s, ns) in zip(seg_elem, seg_index):
             member_ids.append(base_ids[k] if ns == 1 else f"{base_ids[k]}/{s}")
             member_labels.append(elements[k].label if ns == 1 else f"{elements[k].label} segment {s} of {ns}")
-        pair_keys = np.sort(members, axis=1)
-        _, first, counts = np.unique(pair_keys, axis=0, return_index=True, return_counts=True)
-        if (counts > 1).any():
-            row = pair_keys[first[np.argmax(counts > 1)]]
-            dup = np.flatnonzero((pair_keys == row).all(axis=1))
-            k0 = seg_elem[dup[0]]
-            raise IfcInputError(f"{elements[k0].label}: joins the same two nodes as "
-                                f"{', '.join(member_labels[d] for d in dup[1:])} (duplicate members)", elements[k0].eid)
         secs = [self.sec[k] for k in seg_elem]
         mats = [self.mat[k] for k in seg_elem]
         s_count = len(seg_elem)
         rel = np.zeros((s_count, 2, 6), dtype=bool)
         off = np.zeros((s_count, 2, 3))
-        first_seg = np.array([s == 1 for s, _ in seg_index])
-        last_seg = np.array([s == ns for s, ns in seg_index])
+        first_seg = np.array([s == 1 for s, _ in seg_index], dtype=bool)
+        last_seg = np.array([s == ns for s, ns in seg_index], dtype=bool)
         rel[first_seg, 0] = releases[seg_elem_a[first_seg], 0]
         rel[last_seg, 1] = releases[seg_elem_a[last_seg], 1]
         off[first_seg, 0] = offsets[seg_elem_a[first_seg], 0]
         off[last_seg, 1] = offsets[seg_elem_a[last_seg], 1]
         truss = self.truss[seg_elem_a]
         rel[truss] = False
+        arrays = {
+            "A": _floats(s.A for s in secs), "Iy": _floats(s.Iy for s in secs), "Iz": _floats(s.Iz for s in secs),
+            "J": _floats(s.J for s in secs), "Avy": _floats(s.Avy for s in secs), "Avz": _floats(s.Avz for s in secs),
+            "E": _floats(mt.E for mt in mats), "G": _floats(mt.shear_modulus for mt in mats),
+            "density": _floats(mt.density for mt in mats), "roll": _floats(s.roll for s in secs),
+        }
+        section_names = [s.name for s in secs]
+        material_names = [mt.name for mt in mats]
+        seg_ref = ref[seg_elem_a] if s_count else np.zeros((0, 3))
+
+        # -- 9. elements on one line: duplicates left out, pairs merged ------------
+        groups = _same_node_pairs(members)
+        if groups:
+            if self._duplicates(groups, elements, seg_elem_a, seg_index, A, B):
+                return None
+            keep = self._merge_on_one_line(groups, elements, seg_elem_a, members, arrays, off, truss, member_ids,
+                                           member_labels, section_names, material_names)
+            members, seg_elem_a, rel, off, truss, seg_ref = (members[keep], seg_elem_a[keep], rel[keep], off[keep],
+                                                            truss[keep], seg_ref[keep])
+            arrays = {key: v[keep] for key, v in arrays.items()}
+            seg_elem = [seg_elem[i] for i in np.flatnonzero(keep)]
+            member_ids = [member_ids[i] for i in np.flatnonzero(keep)]
+            member_labels = [member_labels[i] for i in np.flatnonzero(keep)]
+            section_names = [section_names[i] for i in np.flatnonzero(keep)]
+            material_names = [material_names[i] for i in np.flatnonzero(keep)]
+            mats = [mats[i] for i in np.flatnonzero(keep)]
+            s_count = len(seg_elem)
 
         loads = self._loads(elements, seg_elem_a, members, nodes, member_ids, mats)
         frame = Frame(
@@ -934,12 +1200,10 @@ class _Deriver:
             nodes=nodes,
             member_ids=tuple(member_ids),
             members=members.astype(np.int32),
-            A=_floats(s.A for s in secs), Iy=_floats(s.Iy for s in secs), Iz=_floats(s.Iz for s in secs),
-            J=_floats(s.J for s in secs), Avy=_floats(s.Avy for s in secs), Avz=_floats(s.Avz for s in secs),
-            E=_floats(mt.E for mt in mats), G=_floats(mt.shear_modulus for mt in mats),
-            density=_floats(mt.density for mt in mats),
-            ref=ref[seg_elem_a] if s_count else np.zeros((0, 3)),
-            roll=_floats(s.roll for s in secs),
+            A=arrays["A"], Iy=arrays["Iy"], Iz=arrays["Iz"], J=arrays["J"], Avy=arrays["Avy"], Avz=arrays["Avz"],
+            E=arrays["E"], G=arrays["G"], density=arrays["density"],
+            ref=seg_ref,
+            roll=arrays["roll"],
             truss=truss,
             releases=rel,
             offsets=off,
@@ -951,8 +1215,8 @@ class _Deriver:
             member_sources=tuple(elements[k].gid for k in seg_elem),
             node_labels=node_ids,
             member_labels=tuple(member_labels),
-            section_names=tuple(s.name for s in secs),
-            material_names=tuple(mt.name for mt in mats),
+            section_names=tuple(section_names),
+            material_names=tuple(material_names),
             name=self._project_name(),
         )
         self.notes.append(f"Analytical frame: {n} nodes, {s_count} members from {m} elements.")
@@ -976,7 +1240,8 @@ class _Deriver:
         d = B[cand] - A[cand]
         tv = np.clip(np.sum((x - A[cand]) * d, axis=1) / lengths[cand] ** 2, 0.0, 1.0)
         dist = np.linalg.norm(A[cand] + tv[:, None] * d - x, axis=1)
-        ok = (dist <= half[cand] + tol) & (tv * lengths[cand] > tol) & ((1 - tv) * lengths[cand] > tol)
+        # snap distance: half the larger section size of the two members, plus the tolerance
+        ok = (dist <= np.maximum(half[cand], half[k]) + tol) & (tv * lengths[cand] > tol) & ((1 - tv) * lengths[cand] > tol)
         if not ok.any():
             return None
         j = int(np.flatnonzero(ok)[np.argmin(dist[ok])])
@@ -1074,9 +1339,11 @@ class _Deriver:
 
     # ------------------------------------------------------------------ supports
     def _supports(self, elements, elem_nodes, nodes, A, B) -> np.ndarray:
+        """Restraints (n, 6) by the rules of the module docstring (Supports); each rule used is noted."""
         tol = self.tol
         n = len(nodes)
         restraints = np.zeros((n, 6), dtype=bool)
+        comps = {"fixed": slice(0, 6), "pinned": slice(0, 3)}
         cols = [k for k, el in enumerate(elements) if el.kind == "column"]
         bottoms = {}
         for k in cols:
@@ -1084,72 +1351,312 @@ class _Deriver:
             bottoms[k] = int(elem_nodes[k, end])
         if self.support_level is not None:
             level = float(self.support_level)
-            how = f"the support level given ({level:.4g} m)"
-        elif bottoms:
+            at_level = np.flatnonzero(np.abs(nodes[:, 2] - level) <= max(tol, 1e-9))
+            restraints[at_level, comps[self.support_kind]] = True
+            self.notes.append(f"Supports ({self.support_kind}): {len(at_level)} nodes at the support level given ({level:.4g} m).")
+            return restraints
+        if self.support_specs:
+            return self._queried_supports(elements, elem_nodes, nodes, A, B, restraints, comps)
+        parts: list[str] = []
+        # (a) the lowest column bottom
+        if bottoms:
             level = float(min(nodes[v, 2] for v in bottoms.values()))
-            how = f"the lowest column bottom ({level:.4g} m)"
-        else:
+            at_level = np.flatnonzero(np.abs(nodes[:, 2] - level) <= max(tol, 1e-9))
+            restraints[at_level, comps[self.support_kind]] = True
+            parts.append(f"{len(at_level)} nodes at the lowest column bottom ({level:.4g} m), {self.support_kind}")
+        # (b) ends bearing on walls, slabs, footings, piles; columns connected to footings
+        from .bearing import BEARING_CLASSES
+
+        frame_ids = {el.eid for el in elements}
+        bearers = [e for c in BEARING_CLASSES for e in self.ifc_file.by_type(c) if e.id() not in frame_ids]
+        before = restraints.any(axis=1).copy()
+        by_class = self._bearing_supports(elements, elem_nodes, A, B, bearers, restraints, comps, None, bottoms)
+        for k, node in bottoms.items():
+            if self._footing_connected(elements[k]) and not restraints[node].all():
+                restraints[node, comps[self.support_kind]] = True
+                by_class["IfcFooting (connected)"] = by_class.get("IfcFooting (connected)", 0) + 1
+        if by_class:
+            parts.append(f"{int((restraints.any(axis=1) & ~before).sum())} further nodes where member ends bear on "
+                         + ", ".join(f"{v} {c}" for c, v in sorted(by_class.items()))
+                         + f" (column bottoms {self.support_kind}, beam and member ends pinned)")
+        # (c) nothing found: the lowest nodes, pinned
+        if not restraints.any():
             level = float(nodes[:, 2].min())
-            how = f"the lowest node ({level:.4g} m; the model has no columns)"
-        at_level = set(np.flatnonzero(np.abs(nodes[:, 2] - level) <= max(tol, 1e-9)).tolist())
-        on_footing = self._footing_nodes(elements, bottoms, nodes)
-        supported = sorted(at_level | on_footing)
-        comps = slice(0, 6) if self.support_kind == "fixed" else slice(0, 3)
-        restraints[supported, comps] = True
-        extra = on_footing - at_level
-        self.notes.append(
-            f"Supports ({self.support_kind}, the documented default unless changed): {len(at_level)} nodes at {how}"
-            + (f", and {len(extra)} further column bottoms standing on footings" if extra else "")
-            + (f"; {len(on_footing)} column bottoms stand on IfcFooting elements" if on_footing else "") + ".")
-        if not supported:
-            self.notes.append("No node was supported: the frame is free in space.")
+            at_level = np.flatnonzero(np.abs(nodes[:, 2] - level) <= max(tol, 1e-9))
+            restraints[at_level, comps["pinned"]] = True
+            parts.append(f"no column and no member end bearing on a wall, slab, footing or pile: the {len(at_level)} nodes "
+                         f"at the model's lowest elevation ({level:.4g} m), pinned")
+        fixed = restraints.all(axis=1)
+        pinned = restraints.any(axis=1) & ~fixed
+        kinds = " and ".join(k for k, c in (("fixed", fixed), ("pinned", pinned)) if c.any())
+        self.notes.append(f"Supports ({kinds}, the documented default; --supports or a support level say otherwise): "
+                          + "; ".join(parts) + ".")
         return restraints
 
-    def _footing_nodes(self, elements, bottoms: dict[int, int], nodes) -> set[int]:
-        f = self.ifc_file
-        footings = f.by_type("IfcFooting")
-        if not footings or not bottoms:
-            return set()
-        L = self.scales.length
-        index = {el.eid: k for k, el in enumerate(elements)}
-        fids = {ft.id() for ft in footings}
-        found: set[int] = set()
-        for rel in f.by_type("IfcRelConnectsElements"):
-            a, b = rel.RelatingElement, rel.RelatedElement
-            if a is None or b is None:
-                continue
-            for x, y in ((a, b), (b, a)):
-                if x.id() in fids and y.id() in index and index[y.id()] in bottoms:
-                    found.add(bottoms[index[y.id()]])
-        # geometry: the top face of the footing's extrusion
-        tops = []
-        W = self.placements.batch([ft.ObjectPlacement for ft in footings])
-        for ft, M in zip(footings, W):
-            el = _Element(ft, ft.id(), ft.is_a(), "footing", "", "", "", None)
-            if _read_representation(el) is not None or el.body is None:
-                continue
-            Mb, d, profile = el.body
-            Mw = M @ Mb
-            base = Mw[:3, 3] * L
-            top = base + Mw[:3, :3] @ d * L
-            try:
-                from .sections import section_properties
+    def _queried_supports(self, elements, elem_nodes, nodes, A, B, restraints, comps) -> np.ndarray:
+        from .selection import _query
 
-                box, _ = _profile_box(profile, section_properties(profile))
-            except Exception:  # a footing profile we cannot size: its placement point only
-                box = (0.0, 0.0, 0.0, 0.0)
-            corners = np.array([[box[0], box[2], 0], [box[1], box[2], 0], [box[1], box[3], 0], [box[0], box[3], 0]])
-            upper = top if top[2] >= base[2] else base
-            shift = upper - base
-            pts = (corners @ Mw[:3, :3].T) * L + base + shift
-            tops.append((float(upper[2]), pts[:, :2].min(axis=0), pts[:, :2].max(axis=0)))
-        for k, node in bottoms.items():
-            x = nodes[node]
-            for ztop, lo, hi in tops:
-                if abs(x[2] - ztop) <= self.tol and np.all(x[:2] >= lo - self.tol) and np.all(x[:2] <= hi + self.tol):
-                    found.add(node)
-                    break
+        index = {el.eid: k for k, el in enumerate(elements)}
+        parts = []
+        for query, kind in self.support_specs:
+            found = _query(self.ifc_file, query, "--supports")
+            if not found:
+                raise IfcInputError(f"--supports {query!r}: the query finds no element")
+            own = [index[e.id()] for e in found if e.id() in index]
+            others = [e for e in found if e.id() not in index]
+            count = 0
+            for k in own:
+                za, zb = A[k, 2], B[k, 2]
+                ends = (0, 1) if abs(za - zb) <= self.tol else ((0,) if za < zb else (1,))
+                for e_ in ends:
+                    restraints[int(elem_nodes[k, e_]), comps[kind]] = True
+                    count += 1
+            by_class = self._bearing_supports(elements, elem_nodes, A, B, others, restraints, comps, kind, {}) if others else {}
+            parts.append(f"--supports {query!r} ({kind}): {count} lowest ends of {len(own)} frame elements"
+                         + (", and member ends bearing on " + ", ".join(f"{v} {c}" for c, v in sorted(by_class.items()))
+                            if by_class else (f"; {len(others)} other elements found, no member end bears on them" if others else "")))
+        self.notes.append("Supports as asked: " + "; ".join(parts) + ".")
+        return restraints
+
+    def _underside(self, k: int, A, B) -> float:
+        """Depth (m) of element k's section underside below its centroid line (0 for a vertical member)."""
+        sec = self.sec[k]
+        d = B[k] - A[k]
+        L = float(np.linalg.norm(d))
+        ex = d / L if L > 0 else np.array([1.0, 0.0, 0.0])
+        if abs(ex[2]) > 1 - 1e-6:
+            return 0.0
+        box = np.array(sec.box, dtype=float)
+        if not np.any(box):
+            return 0.5 * sec.size
+        ref = self._world_ref[k]
+        if ref is None or not np.all(np.isfinite(ref)):
+            ref = np.array([0.0, 0.0, 1.0])
+        ez = ref - (ref @ ex) * ex
+        nz = float(np.linalg.norm(ez))
+        if nz < 1e-9:
+            return 0.5 * sec.size
+        ez = ez / nz
+        ey = np.cross(ez, ex)
+        L_f = self.scales.length
+        c = sec.centroid
+        xs = (box[[0, 1, 1, 0]] - c[0]) * L_f
+        ys = (box[[2, 2, 3, 3]] - c[1]) * L_f
+        zc = xs * ey[2] + ys * ez[2]
+        return float(max(0.0, -zc.min()))
+
+    def _bearing_supports(self, elements, elem_nodes, A, B, bearers, restraints, comps, kind, bottoms) -> dict[str, int]:
+        """Support the member ends bearing on ``bearers``; returns counts per bearing class."""
+        if not bearers:
+            return {}
+        from .bearing import bearing_hits, body_triangles
+
+        tris = body_triangles(self.ifc_file, bearers)
+        if not tris:
+            return {}
+        m = len(elements)
+        L = np.linalg.norm(B - A, axis=1)
+        ends = [(k, e_) for k in range(m) for e_ in (0, 1)]
+        pts = np.empty((len(ends), 2, 3))
+        below = np.empty(len(ends))
+        for i, (k, e_) in enumerate(ends):
+            p, q = (A[k], B[k]) if e_ == 0 else (B[k], A[k])
+            inward = (q - p) / L[k]
+            pts[i, 0] = p
+            pts[i, 1] = p + inward * min(self.tol, 0.25 * L[k])  # an end flush with a face still bears
+            below[i] = self._underside(k, A, B)
+        hit = bearing_hits(tris, pts, below, self.tol)
+        cls_of = {e.id(): e for e in bearers}
+        counts: dict[str, int] = {}
+        bottom_nodes = set(bottoms.values())
+        for i in np.flatnonzero(hit >= 0).tolist():
+            k, e_ = ends[i]
+            node = int(elem_nodes[k, e_])
+            if kind is not None:
+                how = kind
+            else:
+                how = self.support_kind if (elements[k].kind == "column" and node in bottom_nodes) else "pinned"
+            if how == "pinned" and restraints[node, :3].all():
+                continue
+            restraints[node, comps[how]] = True
+            bearer = cls_of[int(hit[i])]
+            base = next((c for c in ("IfcWall", "IfcSlab", "IfcFooting", "IfcPile") if bearer.is_a(c)), bearer.is_a())
+            counts[base] = counts.get(base, 0) + 1
+            self.diagnostics.append(Diagnostic("info", elements[k].eid, f"{elements[k].label} {'start' if e_ == 0 else 'end'} "
+                                               f"bears on {entity_label(bearer)}: supported ({how})"))
+        return counts
+
+    def _footing_connected(self, el: _Element) -> bool:
+        if getattr(self, "_footing_links", None) is None:
+            links: set[int] = set()
+            fids = {ft.id() for ft in self.ifc_file.by_type("IfcFooting")}
+            if fids:
+                for rel in self.ifc_file.by_type("IfcRelConnectsElements"):
+                    a, b = rel.RelatingElement, rel.RelatedElement
+                    if a is None or b is None:
+                        continue
+                    if a.id() in fids:
+                        links.add(b.id())
+                    if b.id() in fids:
+                        links.add(a.id())
+            self._footing_links = links
+        return el.eid in self._footing_links
+
+    # ------------------------------------------------------------------ loose parts, member idealisation, pairs
+    def _loose_parts(self, elements, seg_elem, members, restraints) -> bool:
+        """Leave out every element of a connected group with no supported node; True if any was."""
+        from scipy.sparse import coo_array
+        from scipy.sparse.csgraph import connected_components
+
+        n = len(restraints)
+        supported = restraints.any(axis=1)
+        if not supported.any():  # nothing to measure loose parts against: the analysis reports the mechanism
+            self.notes.append("No node was supported: the frame is free in space (name the supports with "
+                              "--supports QUERY[:fixed|pinned] or a support level).")
+            return False
+        g = coo_array((np.ones(len(members)), (members[:, 0], members[:, 1])), shape=(n, n))
+        ncomp, label = connected_components(g, directed=False)
+        if ncomp == 1:
+            return False
+        held = np.zeros(ncomp, dtype=bool)
+        held[label[supported]] = True
+        loose_seg = ~held[label[members[:, 0]]]
+        if not loose_seg.any():
+            return False
+        loose_elems = sorted(set(seg_elem[loose_seg].tolist()))
+        sizes = Counter(int(label[members[s, 0]]) for s in np.flatnonzero(loose_seg))
+        group_of = {int(seg_elem[s]): int(label[members[s, 0]]) for s in np.flatnonzero(loose_seg)}
+        for k in loose_elems:
+            size = sizes[group_of[k]]
+            self._leave_out(elements[k], "connected to no support: " + (
+                "a loose element touching no supported node" if size == 1 else
+                f"part of a group of {size} members touching no supported node"))
+        return True
+
+    def _member_idealisation(self, elements, seg_elem, members, restraints, A, B, lengths) -> None:
+        """Decide per IfcMember: pin-ended axial bar or frame member (module docstring, End releases)."""
+        idx = [k for k, el in enumerate(elements) if el.kind == "member"]
+        if not idx:
+            return
+        if self.members_as != "auto":
+            self.truss[idx] = self.members_as == "truss"
+            what = "pin-ended axial bars (truss)" if self.members_as == "truss" else "frame members (rigid ends)"
+            for k in idx:
+                self.diagnostics.append(Diagnostic("info", elements[k].eid, f"{elements[k].label}: {what} (--members {self.members_as})"))
+            return
+        at_node: dict[int, set[int]] = defaultdict(set)
+        n_seg = Counter(seg_elem.tolist())
+        for s in range(len(members)):
+            at_node[int(members[s, 0])].add(int(seg_elem[s]))
+            at_node[int(members[s, 1])].add(int(seg_elem[s]))
+        ends_of: dict[int, list[int]] = defaultdict(list)
+        for s in range(len(members)):
+            ends_of[int(seg_elem[s])] += [int(members[s, 0]), int(members[s, 1])]
+        ex = (B - A) / lengths[:, None]
+        cos_inline = math.cos(math.radians(5.0))
+        bars: list[str] = []
+        frames: list[str] = []
+        for k in idx:
+            el = elements[k]
+            word = _member_role(el.entity)
+            if word is not None and word[0] == "frame":
+                why = f"a {word[1]} (framing member)"
+                bar = False
+            elif n_seg[k] > 1:
+                why = f"continuous through {n_seg[k] - 1} joint(s) along its span"
+                bar = False
+            else:
+                nodes_k = ends_of[k]
+                first, last = nodes_k[0], nodes_k[-1]
+                free = [v for v in (first, last) if not (at_node[v] - {k}) and not restraints[v].any()]
+                inline = None
+                for v in (first, last):
+                    for j in at_node[v] - {k}:
+                        if abs(float(ex[j] @ ex[k])) > cos_inline:
+                            inline = (v, j)
+                            break
+                    if inline:
+                        break
+                if free:
+                    why, bar = "an end meets no other element (not a bar between two joints)", False
+                elif inline is not None:
+                    why, bar = f"continued in line by {elements[inline[1]].label}", False
+                else:
+                    why, bar = "a diagonal between two joints" + (f" ({word[1]})" if word is not None else ""), True
+            self.truss[k] = bar
+            (bars if bar else frames).append(el.label)
+            self.diagnostics.append(Diagnostic("info", el.eid, f"{el.label}: {'pin-ended axial bar (truss)' if bar else 'frame member (rigid ends)'}: {why}"))
+        self.notes.append(f"IfcMember idealisation (--members auto): {len(bars)} pin-ended axial bars (diagonals between two "
+                          f"joints), {len(frames)} frame members (framing types, continuous or free-ended members); "
+                          "the reason per element is in the diagnostics.")
+
+    def _duplicates(self, groups, elements, seg_elem, seg_index, A, B) -> bool:
+        """Leave out elements that repeat another element (same class, section and line); True if any."""
+        found = False
+        for g in groups:
+            k0 = int(seg_elem[g[0]])
+            for s in g[1:]:
+                k = int(seg_elem[s])
+                if k == k0 or elements[k].left_out is not None:
+                    continue
+                if seg_index[s][1] != 1 or seg_index[g[0]][1] != 1 or elements[k].cls != elements[k0].cls:
+                    continue
+                if self.sec[k].name != self.sec[k0].name or not math.isclose(self.sec[k].A, self.sec[k0].A, rel_tol=1e-6):
+                    continue
+                same = max(np.linalg.norm(A[k] - A[k0]), np.linalg.norm(B[k] - B[k0]))
+                flip = max(np.linalg.norm(A[k] - B[k0]), np.linalg.norm(B[k] - A[k0]))
+                if min(same, flip) <= self.tol:
+                    self._leave_out(elements[k], f"duplicate: the same class, section and line as {elements[k0].label}")
+                    found = True
         return found
+
+    def _merge_on_one_line(self, groups, elements, seg_elem, members, arrays, off, truss, member_ids, member_labels,
+                           section_names, material_names) -> np.ndarray:
+        """Merge the segments joining the same two nodes into the first of each group; returns the keep mask."""
+        keep = np.ones(len(members), dtype=bool)
+        merged = []
+        for g in groups:
+            f0 = g[0]
+            E0, G0 = arrays["E"][f0], arrays["G"][f0]
+            EA = GJ = EIy = EIz = EAvy = EAvz = mass = 0.0
+            off_sum = np.zeros((2, 3))
+            for s in g:
+                flip = members[s, 0] != members[f0, 0]
+                E, G = arrays["E"][s], arrays["G"][s]
+                EA += E * arrays["A"][s]
+                EIy += E * arrays["Iy"][s]
+                EIz += E * arrays["Iz"][s]
+                GJ += G * arrays["J"][s]
+                EAvy += G * arrays["Avy"][s]
+                EAvz += G * arrays["Avz"][s]
+                mass += arrays["density"][s] * arrays["A"][s]
+                o = off[s, ::-1] if flip else off[s]
+                off_sum += E * arrays["A"][s] * o
+            A_sum = EA / E0
+            arrays["A"][f0], arrays["Iy"][f0], arrays["Iz"][f0] = A_sum, EIy / E0, EIz / E0
+            arrays["J"][f0], arrays["Avy"][f0], arrays["Avz"][f0] = GJ / G0, EAvy / G0, EAvz / G0
+            arrays["density"][f0] = mass / A_sum if A_sum > 0 else 0.0
+            off[f0] = off_sum / EA if EA > 0 else off[f0]
+            truss[f0] = bool(all(truss[s] for s in g))
+            others = [member_labels[s] for s in g[1:]]
+            names = list(dict.fromkeys(section_names[s] for s in g))
+            section_names[f0] = " + ".join(section_names[s] for s in g) if len(names) > 1 or len(g) > 1 else section_names[f0]
+            mats = list(dict.fromkeys(material_names[s] for s in g))
+            material_names[f0] = " + ".join(mats) if len(mats) > 1 else material_names[f0]
+            member_labels[f0] = member_labels[f0] + " merged with " + ", ".join(others)
+            keep[g[1:]] = False
+            merged.append(member_ids[f0])
+            text = (f"on one line with {', '.join(others)}: merged into one analytical member {member_ids[f0]!r} with the "
+                    "summed section (E·A, E·I, G·J added, no composite action assumed)")
+            for s in g:
+                k = int(seg_elem[s])
+                self.diagnostics.append(Diagnostic("info", elements[k].eid, f"{elements[k].label}: " + (
+                    text if s == f0 else f"on one line with {member_labels[f0].split(' merged with ')[0]}: merged into "
+                    f"the analytical member {member_ids[f0]!r} with the summed section")))
+        self.notes.append(f"{len(groups)} groups of elements on one line (joining the same two nodes: paired angles, double "
+                          f"studs, twin members) were each merged into one analytical member with the summed section: "
+                          + _names(merged) + ".")
+        return keep
 
     # ------------------------------------------------------------------ loads
     def _loads(self, elements, seg_elem, members, nodes, member_ids, mats) -> tuple[LoadCase, ...]:

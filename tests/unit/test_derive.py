@@ -174,6 +174,12 @@ def portal(schema="IFC4", mm=False, beam_end=(6.0, 0.0, 4.0), **kw):
     return m
 
 
+def re_match(pattern, text):
+    import re
+
+    return re.search(pattern, text) is not None
+
+
 def node_at(frame, xyz, atol=1e-9):
     d = np.linalg.norm(frame.nodes - np.asarray(xyz, float), axis=1)
     k = int(np.argmin(d))
@@ -408,16 +414,23 @@ def test_structural_load_groups_without_model_are_ignored_with_a_note():
 def test_missing_axis_and_body():
     m = portal()
     m.element("IfcBeam", "Ghost", (0, 0, 2), (6, 0, 2), BEAM, axis=False, body=False)
-    with pytest.raises(IfcInputError, match=r"#\d+ IfcBeam 'Ghost': no 'Axis'"):
-        m.derive()
+    fr, diags, notes = m.derive()  # left out, not aborted
+    assert set(fr.member_ids) == {"C1", "C2", "B1"}
+    assert any(re_match(r"#\d+ IfcBeam 'Ghost' \(.+\): left out — no usable body: no 'Axis'", d.message) for d in diags)
+    assert any("Left out of the analytical frame: 1 elements (1 no usable body)" in n for n in notes)
+    with pytest.raises(IfcInputError, match=r"#\d+ IfcBeam 'Ghost'.*no 'Axis'"):
+        m.derive(strict=True)
 
 
 def test_zero_length_element():
     m = portal()
     e = m.element("IfcBeam", "Dot", (0, 0, 2), (1, 0, 2), BEAM, body=False)
     e.Representation.Representations[0].Items[0].Points = [m.pt((0, 0, 0)), m.pt((0, 0, 0))]
-    with pytest.raises(IfcInputError, match=r"#\d+ IfcBeam 'Dot': zero length"):
-        m.derive()
+    fr, diags, _ = m.derive()
+    assert "Dot" not in fr.member_ids and fr.n_members == 3
+    assert any("'Dot'" in d.message and "left out — zero length" in d.message for d in diags)
+    with pytest.raises(IfcInputError, match=r"#\d+ IfcBeam 'Dot'.*zero length"):
+        m.derive(strict=True)
 
 
 def test_unknown_profile():

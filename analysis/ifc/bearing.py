@@ -1,0 +1,115 @@
+"""Member ends that bear on other elements (walls, slabs, footings, piles) below them.
+
+`bearing_hits` answers, for points at member ends, whether an upward-facing
+face of one of the given elements' bodies lies directly below the underside
+of the member's section there, within a tolerance. The bodies come from
+``ifcopenshell.geom`` (triangulated, world coordinates, metres); the test is
+a vertical ray from each point against those triangles (barycentric
+coordinates in plan, common practice, no source).
+"""
+from __future__ import annotations
+
+import logging
+import os
+from typing import Any, Sequence
+
+import numpy as np
+import numpy.typing as npt
+
+__all__ = ["bearing_hits", "body_triangles", "BEARING_CLASSES"]
+
+logger = logging.getLogger(__name__)
+
+#: elements a member end can bear on when the file declares no supports.
+BEARING_CLASSES = ("IfcWall", "IfcSlab", "IfcFooting", "IfcPile")
+
+_UP = 0.2  # a face counts as upward-facing when its normal's z component exceeds this
+
+
+def body_triangles(ifc_file, entities: Sequence[Any]) -> dict[int, npt.NDArray[np.float64]]:
+    """Entity id -> upward-facing triangles ``(t, 3, 3)`` of its body, world coordinates in m.
+
+    Elements whose geometry cannot be built are skipped (logged).
+    """
+    import ifcopenshell.geom
+
+    out: dict[int, npt.NDArray[np.float64]] = {}
+    if not entities:
+        return out
+    settings = ifcopenshell.geom.settings()
+    settings.set("use-world-coords", True)
+    threads = max(1, min(4, os.cpu_count() or 1))
+    try:
+        it = ifcopenshell.geom.iterator(settings, ifc_file, threads, include=list(entities))
+        ok = bool(it.initialize())
+    except Exception as exc:  # geometry kernel refused the whole set: nothing bears
+        logger.warning("bearing elements: no geometry (%s)", exc)
+        return out
+    while ok:
+        shape = it.get()
+        geo = shape.geometry
+        v = np.asarray(geo.verts, dtype=float).reshape(-1, 3)
+        f = np.asarray(geo.faces, dtype=np.int64).reshape(-1, 3)
+        if len(f):
+            tri = v[f]
+            nrm = np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0])
+            norm = np.linalg.norm(nrm, axis=1)
+            up = (norm > 0) & (nrm[:, 2] > _UP * np.maximum(norm, 1e-300))
+            if up.any():
+                out[int(shape.id)] = tri[up]
+        ok = bool(it.next())
+    return out
+
+
+def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDArray[np.float64],
+                 below: npt.NDArray[np.float64], tol: float) -> npt.NDArray[np.int64]:
+    """For each point, the id of the element it bears on, or -1.
+
+    Parameters
+    ----------
+    triangles : dict
+        From `body_triangles`.
+    points : (q, s, 3) float
+        ``s`` sample points (m) per member end (e.g. the end and a point just
+        inside it), all with the same underside depth.
+    below : (q,) float
+        Depth (m) of the section's underside below the points.
+    tol : float
+        The gap (m) allowed between the underside and the face, either way.
+    """
+    q = len(points)
+    hit = np.full(q, -1, dtype=np.int64)
+    if q == 0 or not triangles:
+        return hit
+    pts = points.reshape(-1, 3)
+    owner = np.repeat(np.arange(q), points.shape[1])
+    under = pts[:, 2] - np.repeat(below, points.shape[1])
+    best = np.full(q, np.inf)
+    for eid, tri in triangles.items():
+        lo, hi = tri.reshape(-1, 3).min(axis=0), tri.reshape(-1, 3).max(axis=0)
+        cand = np.flatnonzero((pts[:, 0] >= lo[0] - tol) & (pts[:, 0] <= hi[0] + tol) & (pts[:, 1] >= lo[1] - tol)
+                              & (pts[:, 1] <= hi[1] + tol) & (under >= lo[2] - tol) & (under <= hi[2] + tol))
+        if len(cand) == 0:
+            continue
+        a, b, c = tri[:, 0], tri[:, 1], tri[:, 2]
+        # barycentric coordinates of the plan point in each triangle's plan projection
+        v0, v1 = (b - a)[:, :2], (c - a)[:, :2]
+        den = v0[:, 0] * v1[:, 1] - v1[:, 0] * v0[:, 1]
+        okd = np.abs(den) > 1e-18
+        for chunk in np.array_split(cand, max(1, len(cand) * len(tri) // 2_000_000 + 1)):
+            w = pts[chunk, None, :2] - a[None, :, :2]
+            with np.errstate(divide="ignore", invalid="ignore"):
+                u = (w[..., 0] * v1[None, :, 1] - v1[None, :, 0] * w[..., 1]) / den[None, :]
+                t = (v0[None, :, 0] * w[..., 1] - w[..., 0] * v0[None, :, 1]) / den[None, :]
+            eps = 1e-9
+            inside = okd[None, :] & (u >= -eps) & (t >= -eps) & (u + t <= 1 + eps)
+            z = a[None, :, 2] + u * (b - a)[None, :, 2] + t * (c - a)[None, :, 2]
+            gap = under[chunk, None] - z
+            good = inside & (np.abs(gap) <= tol)
+            gapabs = np.where(good, np.abs(gap), np.inf).min(axis=1)
+            for i, g in zip(chunk, gapabs):
+                o = owner[i]
+                if g < best[o]:
+                    best[o] = g
+                    hit[o] = eid
+    return hit
