@@ -61,6 +61,7 @@ commands:
   check     counts, stability and mechanisms of the analytical model
   analyze   analyse every load case and combination; write results back into a copy of the IFC
   sample    write one of the bundled sample models
+  batch     analyse many models at once (on Dask where installed); a summary table and index page
 
 examples:
   plumbframe sample workshop_portal -o portal.ifc
@@ -179,6 +180,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--overwrite-input", action="store_true",
                    help="allow -o to name the input file itself (it is never overwritten otherwise)")
     _add_common(p)
+    analyze_parser = p
 
     p = sub.add_parser("sample", formatter_class=fmt, epilog=_SAMPLE_EPILOG, help="write a bundled sample model",
                        description="Write one of the bundled sample IFC models.")
@@ -188,6 +190,10 @@ def build_parser() -> argparse.ArgumentParser:
     v = p.add_mutually_exclusive_group()
     v.add_argument("-q", "--quiet", action="store_true", help="print only errors")
     v.add_argument("-v", "--verbose", action="store_true", help="show tracebacks")
+
+    from .batch import add_batch_parser
+
+    add_batch_parser(sub, analyze_parser)  # takes every analyze option, so add it last
     return parser
 
 
@@ -218,6 +224,10 @@ def _run(args, con) -> int:
             return _check(args, con)
         if args.command in ("analyze", "analyse"):
             return _analyze(args, con)
+        if args.command == "batch":
+            from .batch import batch
+
+            return batch(args, con)
         return _sample(args, con)
     except UnstableStructureError as exc:
         _print_unstable(con, exc)
@@ -568,6 +578,7 @@ def _analyze(args, con) -> int:
     model = _read(args, con)
     options = _options(args, model)
     ind = _indeterminacy(model.frame, options, con)
+    _keep(args, model=model, ind=ind)
     try:
         t0 = time.perf_counter()
         results = analyze(model.frame, options, progress=con.progress)
@@ -578,6 +589,7 @@ def _analyze(args, con) -> int:
     if results.options.plane and not options.plane:
         # the engine fell back to the frame's own plane (a mechanism only out of it): count the same way
         ind = _indeterminacy(model.frame, results.options, con)
+    _keep(args, results=results, ind=ind)
     d = _ind_dict(ind)
     if d and d.get("mechanisms", 0) > 0:  # the counts see a mechanism the solver did not trip over
         _print_unstable(con, UnstableStructureError("; ".join(d.get("notes", [])) or "mechanism found by the counts"),
@@ -601,6 +613,13 @@ def _analyze(args, con) -> int:
         outputs.append(("report", args.report))
     con.say(summary_table(model, results, ind, outputs))
     return EXIT_OK
+
+
+def _keep(args, **values) -> None:
+    """Hand the run's objects to a caller that asked for them in ``args.keep`` (``batch`` builds its rows)."""
+    keep = getattr(args, "keep", None)
+    if keep is not None:
+        keep.update(values)
 
 
 def _sample(args, con) -> int:
