@@ -214,7 +214,15 @@ def _declared_scale(ifc_file, assignment, via_project: bool, unit_type: str) -> 
     if not units:
         return None
     if len(units) > 1:
-        logger.warning("%d units of type %s are assigned; the first one is used", len(units), unit_type)
+        scales = [_unit_scale_alone(u) for u in units]
+        if any(not math.isclose(x, scales[0], rel_tol=1e-9) for x in scales):
+            from .errors import UnitError
+
+            listed = " and ".join(f"{_unit_label(u)} ({x:g} in SI)" for u, x in zip(units, scales))
+            raise UnitError(f"{len(units)} units of type {unit_type} are assigned: {listed}; the file is ambiguous: "
+                            "keep one of them", units[1].id())
+        logger.warning("%d units of type %s are assigned (#%s, all the same); the first one is used",
+                       len(units), unit_type, ", #".join(str(u.id()) for u in units))
     unit = units[0]
     if via_project and len(units) == 1:
         scale = float(ifc_unit.calculate_unit_scale(ifc_file, unit_type))
@@ -230,8 +238,43 @@ def _declared_scale(ifc_file, assignment, via_project: bool, unit_type: str) -> 
     if not math.isfinite(scale) or scale <= 0.0:
         from .errors import UnitError
 
-        raise UnitError(f"#{unit.id()} {unit.is_a()}: unit of type {unit_type} has scale {scale!r}", unit.id())
+        raise UnitError(f"{_unit_label(unit)}: unit of type {unit_type} has scale {scale!r}", unit.id())
+    low, high, what = _PLAUSIBLE.get(unit_type, (1e-15, 1e15, ""))
+    if not low <= scale <= high:
+        from .errors import UnitError
+
+        raise UnitError(f"{_unit_label(unit)}: a {unit_type} of {scale:g} in SI units is not plausible"
+                        + (f" ({what})" if what else "") + "; check the unit's prefix or conversion factor", unit.id())
     return scale
+
+
+# Plausible SI scales of the base units of a building model (common practice, no source): outside these
+# ranges a unit is a mistake (an EXA prefix, a conversion factor off by powers of ten), not a real choice.
+_PLAUSIBLE = {
+    "LENGTHUNIT": (1e-6, 1e4, "length units from micrometre to 10 km"),
+    "FORCEUNIT": (1e-3, 1e9, "force units from millinewton to giganewton"),
+    "MASSUNIT": (1e-6, 1e6, "mass units from milligram to kilotonne"),
+    "TIMEUNIT": (1e-6, 1e9, "time units from microsecond to decades"),
+    "PLANEANGLEUNIT": (1e-6, 10.0, "angle units from microradian to a turn"),
+}
+
+
+def _unit_label(unit) -> str:
+    """``#8 IfcSIUnit MILLI METRE`` / ``#333 IfcConversionBasedUnit 'inch'``."""
+    if unit.is_a("IfcSIUnit"):
+        prefix = f"{unit.Prefix} " if getattr(unit, "Prefix", None) else ""
+        return f"#{unit.id()} IfcSIUnit {prefix}{unit.Name}"
+    name = getattr(unit, "Name", None)
+    return f"#{unit.id()} {unit.is_a()}" + (f" '{name}'" if name else "")
+
+
+def _unit_scale_alone(unit) -> float:
+    import ifcopenshell.util.unit as ifc_unit
+
+    try:
+        return float(ifc_unit.get_unit_scale(unit)) * 1e-3 ** _gram_exponent(unit)
+    except Exception:  # an unreadable unit: it cannot agree with another
+        return math.nan
 
 
 def unit_scales(ifc_file: "ifcopenshell.file") -> UnitScales:
@@ -291,10 +334,11 @@ def unit_scales(ifc_file: "ifcopenshell.file") -> UnitScales:
         unit_type = UNIT_TYPES[name]
         scale = _declared_scale(ifc_file, assignment, via_project, unit_type)
         if scale is None:
-            logger.warning(
+            logger.warning(  # the reader lists these in its notes: the CLI summary leaves them out
                 "%s is not declared in the file: derived from the base units as %.6g",
                 unit_type,
                 scale_from_base,
+                extra={"plumbframe_noted": True},
             )
             scale = scale_from_base
             derived.append(unit_type)

@@ -101,7 +101,7 @@ def check_regular(path: str) -> os.stat_result:
     try:
         st = os.stat(path)
     except FileNotFoundError:
-        raise IfcInputError(f"{path}: file does not exist") from None
+        raise IfcInputError(f"{path}: no such file (it does not exist)") from None
     except OSError as exc:
         raise IfcInputError(f"{path}: cannot be read ({exc.strerror or exc})") from None
     kind = _kind_of(st.st_mode)
@@ -328,9 +328,9 @@ def _findings(path: str, parse_path: str, shift: int, f, log: list) -> tuple[lis
                 attr = f.by_id(owner).attribute_name(index)
             except Exception:  # unknown owner or index
                 attr = f"attribute {index + 1}"
-            line = f" (line {_line_and_entity(parse_path, offset)[0]})" if offset is not None else ""
+            at = f" (line {_line_and_entity(parse_path, offset)[0]})" if offset is not None else ""
             groups["dangling"].append((owner, f"{label(owner)}: {attr} refers to #{target}, which is not in the "
-                                              f"file{line}; the reference is left out"))
+                                              f"file{at}; the reference is left out"))
             continue
         m = re.match(r"Expected (\d+) attribute values, found (\d+) for instance #(\d+)", message)
         if m:
