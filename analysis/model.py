@@ -219,6 +219,13 @@ class AnalysisOptions:
         Include shear deformation where sections give shear areas.
     solver
         'auto', 'cholmod', 'pardiso' or 'superlu'.
+    second_order, buckling, modes, mass, subdivisions
+        Beyond first order (see `analysis.stiffness.extended`): every case
+        and combination to second order (P-Δ and P-δ); the ``buckling``
+        lowest elastic critical load factors per combination; the ``modes``
+        lowest natural modes with the members' own mass plus, per
+        ``(case name, factor)`` in ``mass``, that case's gravity loads / g;
+        members are split into ``subdivisions`` pieces for these analyses.
     """
 
     plane: bool | None = None
@@ -227,8 +234,18 @@ class AnalysisOptions:
     shear: bool = False
     solver: str = "auto"
     stations: int = 11
+    second_order: bool = False
+    buckling: int = 0
+    modes: int = 0
+    mass: tuple[tuple[str, float], ...] = ()
+    subdivisions: int = 8
 
     def __post_init__(self) -> None:
+        if self.buckling < 0 or self.modes < 0:
+            raise ValueError(f"buckling and modes must be counts >= 0, got {self.buckling} and {self.modes}")
+        if self.subdivisions < 1:
+            raise ValueError(f"subdivisions must be at least 1, got {self.subdivisions}")
+        object.__setattr__(self, "mass", tuple((str(n), float(f)) for n, f in self.mass))
         if self.solver not in ("auto", "cholmod", "pardiso", "superlu"):
             raise ValueError(f"solver {self.solver!r} is not one of auto, cholmod, pardiso, superlu")
         if self.stations < 2:

@@ -9,8 +9,9 @@ positive-face rule (see `analysis.stiffness.elements`): N > 0 tension.
 from __future__ import annotations
 
 import math
+from collections.abc import Callable
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
@@ -39,6 +40,8 @@ class CaseResult:
     loads: CaseLoads
     factors: tuple[tuple[str, float], ...] = ()
     equilibrium_residual: float = math.nan
+    # second order: the IFC members' diagrams come from their subdivided solution (n_stations -> diagrams)
+    diagrams: Callable[[int], list[MemberDiagram]] | None = field(default=None, repr=False)
 
     @classmethod
     def combine(cls, name: str, parts: list[tuple["CaseResult", float]], frame: Frame) -> "CaseResult":
@@ -89,6 +92,12 @@ class Results:
     n_unknowns: int = 0
     timings: dict = field(default_factory=dict)
     _diagram_cache: dict = field(default_factory=dict, repr=False)
+    # beyond first order (analysis.stiffness.extended; JSON keys in analysis.stiffness.extended_json)
+    theory: str = "first-order"
+    first_order_cases: dict[str, CaseResult] | None = None
+    buckling: dict | None = None
+    modes: list | None = None
+    mass: Any = None
 
     # ------------------------------------------------------------------ basics
     @property
@@ -117,6 +126,8 @@ class Results:
 
     def _case_diagrams(self, cr: CaseResult, n_st: int) -> list[MemberDiagram]:
         """All members of one case: batched closed forms where loads are uniform, quadrature elsewhere."""
+        if cr.diagrams is not None:
+            return cr.diagrams(n_st)
         m = self.frame.n_members
         out: list[MemberDiagram | None] = [None] * m
         generic = [k for k, ld in cr.loads.generic.items() if not ld.empty]
@@ -227,6 +238,8 @@ class Results:
         if include_cases:
             doc["cases"] = {name: self._case_dict(cr, comps) for name, cr in self.cases.items()}
             doc["envelopes"] = self.envelopes()
+        from .stiffness.extended_json import extended_keys
+        doc.update(extended_keys(self))
         return doc
 
     def _reported_components(self) -> list[int]:

@@ -156,6 +156,14 @@ def analyze(frame: Frame, options: AnalysisOptions | None = None, *, progress=No
     warning in the diagnostics; ``plane=False`` insists on the space frame.
     """
     options = options or AnalysisOptions()
+    if options.second_order or options.buckling or options.modes:
+        from .extended import extended_analysis
+
+        first = dataclasses.replace(options, second_order=False, buckling=0, modes=0)
+        res = analyze(frame, first, progress=progress)
+        res.options = dataclasses.replace(res.options, second_order=options.second_order, buckling=options.buckling,
+                                          modes=options.modes, mass=options.mass, subdivisions=options.subdivisions)
+        return extended_analysis(res, progress)
     if options.plane is None:
         try:
             return _analyze(frame, options, progress)
@@ -178,7 +186,8 @@ def analyze(frame: Frame, options: AnalysisOptions | None = None, *, progress=No
     return _analyze(frame, options, progress)
 
 
-def _analyze(frame: Frame, options: AnalysisOptions, progress=None):
+def _analyze(frame: Frame, options: AnalysisOptions, progress=None, keep: dict | None = None):
+    """The analysis proper; ``keep``, when given, receives the assembly and the factor for reuse."""
     from ..results import CaseResult, Results
 
     say = progress or (lambda step: None)
@@ -207,6 +216,8 @@ def _analyze(frame: Frame, options: AnalysisOptions, progress=None):
         raise UnstableStructureError(
             f"the structure is unstable ({count} independent mechanism{'s' if count != 1 else ''}): " + "; ".join(texts),
             mechanisms=tuple(texts)) from None
+    if keep is not None:
+        keep.update(dofs=dofs, asm=asm, Kxx=Kxx, Kq=Kq, springs=springs, factor=factor)
     say("solving")
     xe = asm.x_ext
     nc = len(cases)
