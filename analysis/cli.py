@@ -16,7 +16,10 @@ import os
 import sys
 import time
 import traceback
+import warnings
 from typing import TYPE_CHECKING, Any, Sequence
+
+from . import cli_checks as _checks
 
 if TYPE_CHECKING:
     from .model import FloatArray
@@ -82,11 +85,22 @@ class _Console:
         self.tty = bool(getattr(self.err, "isatty", lambda: False)()) and not quiet
         self._step_started: float | None = None
         self._last = ""
+        self.out_failed = False
+        self.written: list[str] = []  # outputs in place (for the message after an interrupt)
 
     def say(self, text: str = "") -> None:
-        if not self.quiet:
+        if not self.quiet and not self.out_failed:
             self._clear()
-            print(text, file=self.out)
+            try:
+                print(text, file=self.out)
+                self.out.flush()
+            except (BrokenPipeError, OSError, ValueError) as exc:  # stdout closed (| head) or full (> /dev/full)
+                self.out_failed = True
+                _checks.quiet_stdout_errors(self.out)
+                if not isinstance(exc, BrokenPipeError):
+                    reason = getattr(exc, "strerror", None) or str(exc)
+                    done = f"; written: {', '.join(self.written)}" if self.written else ""
+                    self.warn(f"the summary could not be printed on standard output ({reason}){done}")
 
     def info(self, text: str) -> None:
         if self.verbose:
@@ -132,8 +146,10 @@ def _add_common(p: argparse.ArgumentParser) -> None:
     g = p.add_argument_group("reading the model")
     g.add_argument("--model", metavar="NAME", help="which IfcStructuralAnalysisModel to use (name or GlobalId) "
                    "when the file holds several")
-    g.add_argument("--merge-tolerance", type=float, default=0.01, metavar="M",
+    g.add_argument("--merge-tolerance", type=_checks.nonnegative_length, default=0.01, metavar="M",
                    help="distance in metres within which physical member ends are joined (default 0.01)")
+    g.add_argument("--materials", metavar="FILE.toml", help="material map: IFC material names (exact or glob), "
+                   "IFC classes and elements without material to grades or values (format in the README)")
     g = p.add_argument_group("idealisation (whole model; a per-member property can override)")
     g.add_argument("--inextensible", action="store_true", help="members axially rigid")
     g.add_argument("--condense-pinned", action="store_true", help="reduce rotations at pinned ends out of the unknowns")
@@ -224,7 +240,13 @@ def main(argv: Sequence[str] | None = None) -> int:
     con = _Console(quiet=args.quiet, verbose=args.verbose)
     restore = _setup_logging(args.verbose, args.quiet)
     try:
-        return _run(args, con)
+        with _checks.terminate_as_interrupt(), warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always")  # numpy's RuntimeWarnings would leak source lines: kept for --verbose
+            code = _run(args, con)
+        if args.verbose:
+            for w in caught:
+                con.info(f"python warning: {w.category.__name__}: {w.message} ({w.filename}:{w.lineno})")
+        return code
     finally:
         restore()
 
@@ -250,9 +272,19 @@ def _run(args, con) -> int:
             traceback.print_exc(file=con.err)
         con.error(str(exc))
         return EXIT_BAD_INPUT
-    except KeyboardInterrupt:
-        con.error("interrupted; nothing was written")
-        return 130
+    except KeyboardInterrupt as exc:
+        what = "terminated" if isinstance(exc, _checks.Terminated) else "interrupted"
+        if con.written:
+            con.error(f"{what} after writing {', '.join(con.written)}")
+        else:
+            con.error(f"{what}; nothing was written")
+        return 143 if isinstance(exc, _checks.Terminated) else 130
+    except (FloatingPointError, OverflowError) as exc:
+        if args.verbose:
+            traceback.print_exc(file=con.err)
+        con.error(f"numbers of the model are out of range ({exc}); check the magnitudes of coordinates, loads, "
+                  "moduli and units")
+        return EXIT_BAD_INPUT
     except Exception as exc:  # a bug: say so plainly
         if args.verbose:
             traceback.print_exc(file=con.err)
@@ -266,17 +298,40 @@ def _setup_logging(verbose: bool, quiet: bool):
     saved = (logger.level, logger.propagate)
     handler = logging.StreamHandler(sys.stderr)
     handler.setFormatter(logging.Formatter("%(levelname)s: %(message)s"))
+    handler.setLevel(logging.INFO if verbose else logging.ERROR)
     logger.addHandler(handler)
     logger.propagate = False
-    # engine warnings are gathered as diagnostics and summarised; log lines only with --verbose
-    logger.setLevel(logging.INFO if verbose else logging.ERROR)
+    # engine warnings are gathered and summarised (also those only logged); log lines only with --verbose
+    logger.setLevel(logging.INFO if verbose else logging.WARNING)
+    _LOGGED.clear()
+    collector = _Collector()
+    logger.addHandler(collector)
 
     def restore() -> None:
         logger.removeHandler(handler)
+        logger.removeHandler(collector)
         logger.setLevel(saved[0])
         logger.propagate = saved[1]
 
     return restore
+
+
+_LOGGED: list[str] = []  # warnings the engine logged during this run (the summary lists them)
+
+
+class _Collector(logging.Handler):
+    def __init__(self) -> None:
+        super().__init__(logging.WARNING)
+
+    def emit(self, record: logging.LogRecord) -> None:
+        if getattr(record, "plumbframe_noted", False):  # reported elsewhere (the reader's notes)
+            return
+        try:
+            text = record.getMessage()
+        except Exception:  # a malformed log call must not end the run
+            return
+        if text not in _LOGGED:
+            _LOGGED.append(text)
 
 
 # --------------------------------------------------------------------------- shared steps
@@ -296,11 +351,9 @@ def _options(args, model=None):
 
 def _check_input(path: str) -> None:
     from .errors import AnalysisError
+    from .ifc.source import check_regular
 
-    if not os.path.exists(path):
-        raise AnalysisError(f"{path}: no such file")
-    if os.path.isdir(path):
-        raise AnalysisError(f"{path}: is a folder, not an IFC file")
+    check_regular(path)  # exists, and is a regular file (a pipe or device is refused, never opened)
     if not os.access(path, os.R_OK):
         raise AnalysisError(f"{path}: cannot be read (permission denied)")
 
@@ -308,9 +361,15 @@ def _check_input(path: str) -> None:
 def _check_output(path: str, input_path: str, what: str, allow_input: bool = False) -> None:
     from .errors import AnalysisError
 
+    from .fileio import is_special_file
+
     folder = os.path.dirname(os.path.abspath(path))
     if os.path.isdir(path):
         raise AnalysisError(f"{path}: the {what} path is a folder")
+    if is_special_file(path):  # a device or pipe: written as a stream, never replaced
+        if not os.access(path, os.W_OK):
+            raise AnalysisError(f"{path}: the {what} is a device or pipe that is not writable")
+        return
     if not os.path.isdir(folder):
         raise AnalysisError(f"{path}: the folder {folder} for the {what} does not exist")
     if not os.access(folder, os.W_OK):
@@ -423,9 +482,13 @@ def check_document(frame, ind: dict | None, options=None) -> dict:
 
 
 def _diagnostic_lines(model, results=None, limit: int = 6) -> list[str]:
+    from .errors import Diagnostic
+
     diags = list(getattr(model, "diagnostics", None) or ())
     if results is not None:
         diags += list(results.diagnostics)
+    known = {d.message for d in diags}
+    diags += [Diagnostic("warning", None, text) for text in _LOGGED if text not in known]
     warnings = [d for d in diags if getattr(d, "level", "warning") in ("warning", "error")]
     lines = [f"  {d.level}: {d.message}" for d in warnings[:limit]]
     if len(warnings) > limit:
@@ -597,11 +660,19 @@ def _analyze(args, con) -> int:
     out = args.output or default_output(args.input)
     _check_input(args.input)
     _check_output(out, args.input, "IFC output", allow_input=args.overwrite_input)
+    _checks.check_ifc_output_format(out)
     for path, what in ((args.json, "JSON file"), (args.report, "report")):
         if path:
             _check_output(path, args.input, what)
+    _checks.check_distinct_outputs([("IFC output", out), ("JSON file", args.json), ("report", args.report)])
+    _checks.check_solver(args.solver)
+    _remove_stale([out, args.json, args.report], con)
     model = _read(args, con)
     options = _options(args, model)
+    if args.json:
+        _checks.check_json_memory(args.json, model.frame.n_members,
+                                  len(model.frame.load_cases) + len(model.frame.combinations),
+                                  getattr(options, "stations", 11), model.frame.n_nodes)
     ind = _indeterminacy(model.frame, options, con)
     _keep(args, model=model, ind=ind)
     try:
@@ -621,21 +692,24 @@ def _analyze(args, con) -> int:
                         ind)
         return EXIT_UNSTABLE
     outputs = []
+    from .fileio import output_set
     from .ifc.writer import write_results
 
-    con.progress("writing the IFC")
-    write_results(args.input, out, model, results, ind, overwrite=args.overwrite_input, progress=con.progress)
-    outputs.append(("IFC", out))
-    if args.json:
-        con.progress("writing JSON")
-        _write_json(args.json, results.to_dict(indeterminacy=d))
-        outputs.append(("JSON", args.json))
-    if args.report:
-        from .report import write_report
+    with output_set() as staged:  # all outputs or none: each is staged, then all are moved into place
+        con.progress("writing the IFC")
+        write_results(args.input, out, model, results, ind, overwrite=args.overwrite_input, progress=con.progress)
+        outputs.append(("IFC", out))
+        if args.json:
+            con.progress("writing JSON")
+            _write_json(args.json, results.to_dict(indeterminacy=d))
+            outputs.append(("JSON", args.json))
+        if args.report:
+            from .report import write_report
 
-        con.progress("writing the report")
-        write_report(args.report, model, results, ind)
-        outputs.append(("report", args.report))
+            con.progress("writing the report")
+            write_report(args.report, model, results, ind)
+            outputs.append(("report", args.report))
+        con.written = staged.commit()
     con.say(summary_table(model, results, ind, outputs))
     return EXIT_OK
 
@@ -645,6 +719,17 @@ def _keep(args, **values) -> None:
     keep = getattr(args, "keep", None)
     if keep is not None:
         keep.update(values)
+
+
+def _remove_stale(paths, con) -> None:
+    """Remove temporaries that a killed earlier run left beside the outputs, and say so."""
+    from .fileio import remove_stale_temporaries
+
+    folders = [os.path.dirname(os.path.abspath(p)) for p in paths if p]
+    removed = remove_stale_temporaries(folders)
+    if removed:
+        con.warn(f"removed {len(removed)} temporary file(s) left by an interrupted earlier run: "
+                 + ", ".join(removed[:5]) + (" ..." if len(removed) > 5 else ""))
 
 
 def _sample(args, con) -> int:
