@@ -17,10 +17,10 @@ Eigenproblem ``K_q φ = ω² M_q φ`` on the subdivided frame, as
 factorisation (see `stability.largest_generalized`).
 
 Effective modal mass in world direction d: ``(φᵀ M r_d)² / (φᵀ M φ)`` with
-``r_d`` the rigid translation of every free component in d (constraints
-move rigidly with it); ratios are to the total mass. Masses on supported
-components never move, so over all modes the ratios sum to the free part of
-the mass only.
+``r_d`` the rigid translation of every joint in d, supports included (the
+ground motion); ratios are to the total mass. Point masses on supported
+joints never move, so over all modes the ratios sum to less than 1 by the
+mass the supports hold.
 """
 from __future__ import annotations
 
@@ -62,6 +62,7 @@ class MassModel:
     total: float
     sources: tuple[str, ...]
     by_source: tuple[float, ...]
+    influence: tuple[np.ndarray, ...] = ()  # (n_q,) per world axis: Tᵀ (M r_d) restricted to the unknowns
 
 
 def mass_model(model: RefinedModel, mass_cases: tuple[tuple[str, float], ...] = ()) -> MassModel:
@@ -119,8 +120,15 @@ def mass_model(model: RefinedModel, mass_cases: tuple[tuple[str, float], ...] = 
         diag[idx] = np.repeat(nodal_mass, 3)
         M_ext = sp.csr_array(M_ext + sp.diags_array(diag))
     Mxx = model.ext_to_x(M_ext)
+    # effective loads of a unit ground acceleration along each world axis: every joint (supports
+    # included) translates rigidly, so the mass coupled to the supports counts too
+    influence = []
+    ext = np.arange(asm.n_ext)
+    for d in range(3):
+        r = ((ext < asm.N6) & (ext % 6 == d)).astype(float)
+        influence.append(model.dofs.T.T @ (M_ext @ r)[asm.x_ext])
     return MassModel(Mq=model.x_to_q(Mxx), Mxx=Mxx, total=float(sum(amounts)), sources=tuple(sources),
-                     by_source=tuple(amounts))
+                     by_source=tuple(amounts), influence=tuple(influence))
 
 
 def natural_modes(model: RefinedModel, mass: MassModel, count: int) -> list[NaturalMode]:
@@ -129,13 +137,7 @@ def natural_modes(model: RefinedModel, mass: MassModel, count: int) -> list[Natu
         return []
     mu, V = largest_generalized(mass.Mq, model.Kq, model.factor.solve, count)
     top = float(np.max(np.abs(mu))) if mu.size else 0.0
-    xe = model.asm.x_ext
-    N6 = model.asm.N6
-    T = model.dofs.T
-    influence = []
-    for d in range(3):
-        r = ((xe < N6) & (xe % 6 == d)).astype(float)
-        influence.append(T.T @ (mass.Mxx @ r))
+    influence = mass.influence
     out = []
     for k in range(mu.size):
         if mu[k] <= 1e-12 * max(top, 1e-300):
