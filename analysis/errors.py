@@ -11,6 +11,7 @@ from dataclasses import dataclass
 __all__ = [
     "AnalysisError",
     "IfcInputError",
+    "PlacementError",
     "UnitError",
     "UnstableStructureError",
     "ModelError",
@@ -30,6 +31,15 @@ class AnalysisError(Exception):
 
 class IfcInputError(AnalysisError):
     """The IFC file is missing something the analysis needs, or holds nonsense."""
+
+
+class PlacementError(IfcInputError):
+    """An object placement cannot be resolved (a cycle, an unsupported placement or grid curve).
+
+    ``entity_id`` is the placement at fault; readers that can leave the
+    element out catch this type and report the element with ``str(exc)``
+    as the reason.
+    """
 
 
 class UnitError(AnalysisError):

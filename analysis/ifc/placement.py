@@ -16,18 +16,26 @@ Notes
 The axis construction follows IFC's ``IfcBuildAxes``/``IfcFirstProjAxis``
 rule for ``IfcAxis2Placement3D``: z is ``Axis`` (default global Z); x is
 ``RefDirection`` (default global X) made normal to z; y = z x x.
-``IfcGridPlacement``, ``IfcLinearPlacement`` and anything else falls back to
-``ifcopenshell.util.placement.get_local_placement`` (slow but general).
+``IfcGridPlacement`` (every schema) is resolved from its grid: the
+location is the intersection of the two grid axes (offset as
+IfcVirtualGridIntersection says), in the coordinate system of the IfcGrid
+the axes belong to. ``IfcLinearPlacement`` (IFC4X3) is taken from its
+``CartesianPosition``; one without it is a `PlacementError`, as is a cycle.
 """
 from __future__ import annotations
 
+import math
 from collections.abc import Sequence
 
 import numpy as np
 import numpy.typing as npt
 
+from ..errors import PlacementError
+
 __all__ = [
     "PlacementCache",
+    "grid_placement_matrix",
+    "placement_parent",
     "axis_placement_matrix",
     "axis_placement_matrices",
     "transformation_operator_matrix",
@@ -175,23 +183,55 @@ class PlacementCache:
         self._world: dict[int, FloatArray] = {}
 
     def matrix(self, placement) -> FloatArray:
-        """World matrix ``(4,4)`` of an IfcObjectPlacement (None: identity)."""
+        """World matrix ``(4,4)`` of an IfcObjectPlacement (None: identity).
+
+        The chain of parents is walked without recursion (a chain thousands
+        deep is fine), and a placement that is, through its parents, relative
+        to itself is a `PlacementError` naming the cycle.
+
+        Raises
+        ------
+        PlacementError
+            A cycle, or a placement that cannot be resolved (see `placement_parent`).
+        """
         if placement is None:
             return np.eye(4)
-        pid = placement.id()
-        M = self._world.get(pid)
+        M = self._world.get(placement.id())
         if M is not None:
             return M
-        if placement.is_a("IfcLocalPlacement"):
-            parent = placement.get_argument(0)
-            local = axis_placement_matrix(placement.get_argument(1))
-            M = self.matrix(parent) @ local if parent is not None else local
-        else:  # grid, linear placement ...: the general (slow) path
-            import ifcopenshell.util.placement as ifc_placement
+        chain: list = []
+        on_chain: dict[int, int] = {}
+        p = placement
+        while p is not None and p.id() not in self._world:
+            pid = p.id()
+            if pid in on_chain:
+                loop = chain[on_chain[pid]:] + [p]
+                raise PlacementError(f"{_label(placement)}: its placement chain runs in a circle ("
+                                     + " -> ".join(_label(q) for q in loop) + ")", pid)
+            on_chain[pid] = len(chain)
+            chain.append(p)
+            p = placement_parent(p)
+        for q in reversed(chain):  # from the outermost placement in
+            parent = placement_parent(q)
+            base = self._world[parent.id()] if parent is not None else _EYE
+            self._world[q.id()] = base @ self._local(q)
+        return self._world[placement.id()]
 
-            M = np.asarray(ifc_placement.get_local_placement(placement), dtype=float)
-        self._world[pid] = M
-        return M
+    def _local(self, placement) -> FloatArray:
+        """The matrix of ``placement`` relative to its `placement_parent` (file length units)."""
+        kind = placement.is_a()
+        if kind == "IfcLocalPlacement":
+            return axis_placement_matrix(placement.get_argument(1))
+        if kind == "IfcGridPlacement":
+            return grid_placement_matrix(placement)
+        if kind == "IfcLinearPlacement":
+            cartesian = getattr(placement, "CartesianPosition", None)
+            if cartesian is not None:
+                return axis_placement_matrix(cartesian)
+            raise PlacementError(f"{_label(placement)}: a placement by distance along an alignment without its "
+                                 "CartesianPosition is not supported; export the model with Cartesian positions "
+                                 "(or local placements)", placement.id())
+        raise PlacementError(f"{_label(placement)}: object placements of this kind are not supported", placement.id())
 
     def batch(self, placements: Sequence) -> FloatArray:
         """World matrices ``(k,4,4)`` of many placements (typically one per element)."""
@@ -250,3 +290,131 @@ def world_matrices(placements: Sequence) -> FloatArray:
     (1, 4, 4)
     """
     return PlacementCache().batch(placements)
+
+
+# --------------------------------------------------------------------------- parents and grids
+def _label(entity) -> str:
+    from ..errors import entity_label
+
+    try:
+        return entity_label(entity)
+    except Exception:  # not an entity: the caller's text stays readable
+        return repr(entity)
+
+
+def placement_parent(placement):
+    """The placement ``placement`` is relative to (None: the world).
+
+    IfcLocalPlacement and IfcLinearPlacement: ``PlacementRelTo``;
+    IfcGridPlacement: the placement of the IfcGrid its axes belong to (its
+    location is given in the grid's coordinate system).
+    """
+    kind = placement.is_a()
+    if kind == "IfcGridPlacement":
+        return _grid_of(placement).ObjectPlacement
+    if kind in ("IfcLocalPlacement", "IfcLinearPlacement"):
+        return placement.get_argument(0)
+    return getattr(placement, "PlacementRelTo", None)
+
+
+def _grid_of(placement):
+    intersection = placement.PlacementLocation
+    axes = list(getattr(intersection, "IntersectingAxes", None) or ())
+    for axis in axes:
+        for inverse in ("PartOfU", "PartOfV", "PartOfW"):
+            grids = getattr(axis, inverse, None) or ()
+            for grid in grids:
+                return grid
+    raise PlacementError(f"{_label(placement)}: its grid axes belong to no IfcGrid, so the grid placement has no "
+                         "coordinate system", placement.id())
+
+
+def _axis_line(owner, axis) -> tuple[FloatArray, FloatArray]:
+    """Point and unit tangent ``(2,)`` of a straight grid axis (sense as the axis says)."""
+    curve = axis.AxisCurve
+    pts: list[tuple[float, ...]] = []
+    c = curve
+    if c.is_a("IfcTrimmedCurve"):
+        c = c.BasisCurve
+    if c.is_a("IfcPolyline"):
+        pts = [tuple(p.Coordinates) for p in c.Points]
+        if len(pts) > 2:
+            a, b = np.array(pts[0][:2], dtype=float), np.array(pts[-1][:2], dtype=float)
+            mids = np.array([q[:2] for q in pts[1:-1]], dtype=float)
+            d = b - a
+            n = float(np.linalg.norm(d))
+            off = np.abs((mids - a) @ np.array([-d[1], d[0]])) / max(n, 1e-300)
+            if n == 0 or off.max() > 1e-9 * max(n, 1.0):
+                raise PlacementError(f"{_label(owner)}: grid axis {axis.AxisTag!r} (#{axis.id()}) is a bent "
+                                     "polyline; only straight grid axes are supported", owner.id())
+        if len(pts) < 2:
+            raise PlacementError(f"{_label(owner)}: grid axis {axis.AxisTag!r} (#{axis.id()}) has fewer than two "
+                                 "points", owner.id())
+        a, b = np.array(pts[0][:2], dtype=float), np.array(pts[-1][:2], dtype=float)
+        t = b - a
+        if c is not curve and not getattr(curve, "SenseAgreement", True):
+            t = -t
+    elif c.is_a("IfcLine"):
+        a = np.array(tuple(c.Pnt.Coordinates)[:2], dtype=float)
+        t = np.array(tuple(c.Dir.Orientation.DirectionRatios)[:2], dtype=float)
+        if c is not curve and not getattr(curve, "SenseAgreement", True):
+            t = -t
+    else:
+        raise PlacementError(f"{_label(owner)}: grid axis {axis.AxisTag!r} (#{axis.id()}) is a {c.is_a()}; only "
+                             "straight grid axes (IfcPolyline, IfcLine) are supported", owner.id())
+    n = float(np.linalg.norm(t))
+    if not math.isfinite(n) or n == 0.0:
+        raise PlacementError(f"{_label(owner)}: grid axis {axis.AxisTag!r} (#{axis.id()}) has zero length", owner.id())
+    t = t / n
+    if getattr(axis, "SameSense", True) is False:
+        t = -t
+    return a, t
+
+
+def _intersection(owner, vgi) -> tuple[FloatArray, FloatArray]:
+    """Point ``(3,)`` in grid coordinates and the first axis' tangent ``(2,)`` of an IfcVirtualGridIntersection.
+
+    IFC: OffsetDistances[1] and [2] offset the two axes normal to themselves,
+    positive to the left of the axis' tangent (90 degrees counter-clockwise);
+    [3] lifts the point along the grid's z axis.
+    """
+    axes = list(vgi.IntersectingAxes or ())
+    if len(axes) != 2:
+        raise PlacementError(f"{_label(owner)}: the grid intersection #{vgi.id()} names {len(axes)} axes, not 2",
+                             owner.id())
+    offsets = [float(v) for v in (vgi.OffsetDistances or ())] + [0.0, 0.0, 0.0]
+    (p1, t1), (p2, t2) = _axis_line(owner, axes[0]), _axis_line(owner, axes[1])
+    q1 = p1 + offsets[0] * np.array([-t1[1], t1[0]])
+    q2 = p2 + offsets[1] * np.array([-t2[1], t2[0]])
+    A = np.column_stack([t1, -t2])
+    if abs(float(np.linalg.det(A))) < 1e-12:
+        raise PlacementError(f"{_label(owner)}: grid axes {axes[0].AxisTag!r} and {axes[1].AxisTag!r} are parallel "
+                             "and do not intersect", owner.id())
+    s = np.linalg.solve(A, q2 - q1)
+    xy = q1 + s[0] * t1
+    return np.array([xy[0], xy[1], offsets[2]]), t1
+
+
+def grid_placement_matrix(placement) -> FloatArray:
+    """``(4,4)`` matrix of an IfcGridPlacement in the coordinate system of its IfcGrid.
+
+    x follows PlacementRefDirection: unset, the first axis' tangent; an
+    IfcDirection, that direction; a second IfcVirtualGridIntersection, from
+    the location towards it. z is the grid's z (IFC: the xy plane of the
+    placement is the grid's xy plane).
+    """
+    loc, tangent = _intersection(placement, placement.PlacementLocation)
+    ref = placement.PlacementRefDirection
+    if ref is None:
+        x = np.array([tangent[0], tangent[1], 0.0])
+    elif ref.is_a("IfcDirection"):
+        r = list(ref.DirectionRatios) + [0.0, 0.0]
+        x = np.array([float(r[0]), float(r[1]), 0.0])
+    else:
+        other, _ = _intersection(placement, ref)
+        x = other - loc
+        x[2] = 0.0
+    if float(np.linalg.norm(x)) < 1e-12:
+        raise PlacementError(f"{_label(placement)}: PlacementRefDirection gives no direction in the grid's plane",
+                             placement.id())
+    return _frames_from_axes(loc[None, :], np.array([[0.0, 0.0, 1.0]]), x[None, :])[0]
