@@ -391,7 +391,7 @@ def _read(args, con):
     t0 = time.perf_counter()
     model = read_ifc(args.input, model=args.model, merge_tolerance=args.merge_tolerance,
                      select=args.select, exclude=args.exclude, supports=args.supports, strict=args.strict,
-                     members=args.members)
+                     members=args.members, materials=args.materials)
     con.info(f"read {args.input} in {time.perf_counter() - t0:.2f} s "
              f"(route {getattr(model, 'route', '?')}, schema {getattr(model, 'schema', '?')})")
     return model
@@ -461,7 +461,7 @@ def _write_json(path: str, doc: dict) -> None:
 def check_document(frame, ind: dict | None, options=None) -> dict:
     """The ``plumbframe.results/1`` document without cases (for ``check --json``)."""
     from .model import member_lengths
-    from .results import SCHEMA
+    from .results import SCHEMA, member_properties
 
     lengths: FloatArray | list[float] = member_lengths(frame) if frame.n_members else []
     dof = (ind or {}).get("terms", {}).get("dof_per_joint")
@@ -473,7 +473,8 @@ def check_document(frame, ind: dict | None, options=None) -> dict:
         "nodes": {nid: {"xyz": [float(v) for v in frame.nodes[i]], "source": frame.node_sources[i]}
                   for i, nid in enumerate(frame.node_ids)},
         "members": {mid: {"nodes": [frame.node_ids[frame.members[k, 0]], frame.node_ids[frame.members[k, 1]]],
-                          "length": float(lengths[k]), "source": frame.member_sources[k]}
+                          "length": float(lengths[k]), "source": frame.member_sources[k],
+                          **member_properties(frame, k)}
                     for k, mid in enumerate(frame.member_ids)},
     }
     if ind is not None:

@@ -35,6 +35,7 @@ __all__ = [
     "REACTION_NAMES",
     "ACTION_NAMES",
     "STANDARD_GRAVITY",
+    "SOURCES",
     "Section",
     "Material",
     "NodalLoad",
@@ -60,6 +61,8 @@ DOF_NAMES = ("ux", "uy", "uz", "rx", "ry", "rz")
 REACTION_NAMES = ("fx", "fy", "fz", "mx", "my", "mz")
 ACTION_NAMES = ("N", "Vy", "Vz", "T", "My", "Mz")
 STANDARD_GRAVITY = 9.80665  # m/s2, the conventional value (common practice, no source)
+# Where a member's material or section values came from (Frame.material_sources / section_sources).
+SOURCES = ("file", "grade table", "default", "user map", "body geometry")
 
 _AXIS_INDEX = {"x": 0, "y": 1, "z": 2}
 
@@ -71,6 +74,8 @@ class Section:
 
     ``Iy`` is about local y (bending in the local x-z plane), ``Iz`` about
     local z. ``Avy``/``Avz`` are shear areas; 0 means rigid in shear.
+    ``source`` says where the values came from (`SOURCES`; 'file' for
+    values given with the model, by the IFC file or by the caller).
     """
 
     name: str
@@ -80,17 +85,23 @@ class Section:
     J: float = 0.0
     Avy: float = 0.0
     Avz: float = 0.0
+    source: str = "file"
 
 
 @dataclass(frozen=True, slots=True)
 class Material:
-    """Isotropic linear-elastic material: E, G in Pa, density in kg/m3."""
+    """Isotropic linear-elastic material: E, G in Pa, density in kg/m3.
+
+    ``source`` says where the values came from (`SOURCES`; 'file' for values
+    given with the model, by the IFC file or by the caller).
+    """
 
     name: str
     E: float
     G: float | None = None
     density: float = 0.0
     poisson: float = 0.3
+    source: str = "file"
 
     @property
     def shear_modulus(self) -> float:
@@ -301,6 +312,9 @@ class Frame:
     section_names: tuple[str, ...] = ()
     material_names: tuple[str, ...] = ()
     name: str = ""
+    # where each member's section / material values came from (one of SOURCES; default 'file')
+    section_sources: tuple[str, ...] = ()
+    material_sources: tuple[str, ...] = ()
     _lookups: tuple = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
@@ -340,6 +354,8 @@ class Frame:
             "member_labels": tuple(self.member_ids),
             "section_names": ("",) * m,
             "material_names": ("",) * m,
+            "section_sources": ("file",) * m,
+            "material_sources": ("file",) * m,
         }
         for key, default in defaults.items():
             value = tuple(getattr(self, key)) or default
@@ -740,4 +756,6 @@ class FrameBuilder:
             section_names=tuple(per_member(lambda mm: mm["section"].name)),
             material_names=tuple(per_member(lambda mm: mm["material"].name)),
             name=self.name,
+            section_sources=tuple(per_member(lambda mm: mm["section"].source)),
+            material_sources=tuple(per_member(lambda mm: mm["material"].source)),
         )

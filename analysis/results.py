@@ -22,9 +22,19 @@ from .stiffness.loads import _GAUSS_W, _GAUSS_X, CaseLoads, MemberLoading, inter
 if TYPE_CHECKING:
     from .stiffness.dofs import DofSystem
 
-__all__ = ["CaseResult", "Results", "MemberDiagram", "SCHEMA"]
+__all__ = ["CaseResult", "Results", "MemberDiagram", "SCHEMA", "member_properties"]
 
 SCHEMA = "plumbframe.results/1"
+
+
+def member_properties(frame: Frame, k: int) -> dict:
+    """The ``material`` and ``section`` entries of member ``k`` in the results JSON (SI, with their sources)."""
+    return {
+        "material": {"name": frame.material_names[k], "E": float(frame.E[k]), "G": float(frame.G[k]),
+                     "density": float(frame.density[k]), "source": frame.material_sources[k]},
+        "section": {"name": frame.section_names[k], "A": float(frame.A[k]), "Iy": float(frame.Iy[k]),
+                    "Iz": float(frame.Iz[k]), "J": float(frame.J[k]), "source": frame.section_sources[k]},
+    }
 
 
 @dataclass
@@ -230,7 +240,8 @@ class Results:
             "nodes": {nid: {"xyz": [float(v) for v in frame.nodes[i]], "source": frame.node_sources[i]}
                       for i, nid in enumerate(frame.node_ids)},
             "members": {mid: {"nodes": [frame.node_ids[frame.members[k, 0]], frame.node_ids[frame.members[k, 1]]],
-                              "length": float(self.L[k]), "source": frame.member_sources[k]}
+                              "length": float(self.L[k]), "source": frame.member_sources[k],
+                              **member_properties(frame, k)}
                         for k, mid in enumerate(frame.member_ids)},
         }
         if indeterminacy is not None:

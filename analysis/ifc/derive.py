@@ -361,6 +361,7 @@ class _SectionInfo:
     box: tuple[float, float, float, float]  # xmin, xmax, ymin, ymax (file units)
     symmetric: bool
     size: float  # largest bounding-box dimension, m
+    source: str = "file"  # where the values came from (Frame.section_sources: 'file', 'default', 'body geometry')
 
 
 def _profile_box(profile, props) -> tuple[tuple[float, float, float, float], bool]:
@@ -892,7 +893,7 @@ class _Deriver:
         """A user-given `Section` (SI) as section info: centred, size from the radius of gyration."""
         size = 2.0 * math.sqrt(3.0 * max(section.Iy, section.Iz) / section.A) if section.A > 0 else 0.0
         return _SectionInfo(section.name, section.A, section.Iy, section.Iz, section.J, section.Avy, section.Avz, 0.0,
-                            np.zeros(2), (0.0, 0.0, 0.0, 0.0), True, size)
+                            np.zeros(2), (0.0, 0.0, 0.0, 0.0), True, size, source="default")
 
     def _centroid_line(self, el: _Element, sec: _SectionInfo) -> None:
         """Local (element coordinates, file units) centroid-line ends and profile y direction."""
@@ -1174,6 +1175,7 @@ class _Deriver:
         }
         section_names = [s.name for s in secs]
         material_names = [mt.name for mt in mats]
+        section_sources = [s.source for s in secs]  # Frame.section_sources (a merged member keeps its first's)
         seg_ref = ref[seg_elem_a] if s_count else np.zeros((0, 3))
 
         # -- 9. elements on one line: duplicates left out, pairs merged ------------
@@ -1191,6 +1193,7 @@ class _Deriver:
             member_labels = [member_labels[i] for i in np.flatnonzero(keep)]
             section_names = [section_names[i] for i in np.flatnonzero(keep)]
             material_names = [material_names[i] for i in np.flatnonzero(keep)]
+            section_sources = [section_sources[i] for i in np.flatnonzero(keep)]
             mats = [mats[i] for i in np.flatnonzero(keep)]
             s_count = len(seg_elem)
 
@@ -1217,6 +1220,8 @@ class _Deriver:
             member_labels=tuple(member_labels),
             section_names=tuple(section_names),
             material_names=tuple(material_names),
+            section_sources=tuple(section_sources),
+            material_sources=tuple(mt.source for mt in mats),
             name=self._project_name(),
         )
         self.notes.append(f"Analytical frame: {n} nodes, {s_count} members from {m} elements.")

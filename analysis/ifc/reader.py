@@ -113,6 +113,7 @@ from .placement import PlacementCache
 
 if TYPE_CHECKING:
     from ..units import UnitScales
+    from .material_map import MaterialMap
     from .sections import SectionProperties
 
 __all__ = ["IfcModel", "ReaderDefaults", "read_ifc"]
@@ -164,6 +165,9 @@ class ReaderDefaults:
         Mass density, kg/m3.
     section : Section or None
         Section for members without a profile (m2, m4).
+    materials : analysis.ifc.material_map.MaterialMap or None
+        The user's material map (``--materials FILE.toml``): material names,
+        IFC classes and elements without material to grades or values.
     """
 
     E: float | None = None
@@ -171,6 +175,7 @@ class ReaderDefaults:
     poisson: float | None = None
     density: float | None = None
     section: Section | None = None
+    materials: MaterialMap | None = None
 
 
 @dataclass
@@ -252,7 +257,7 @@ class _ConnectionIndex:
 def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, support_level: float | None = None,
              defaults: ReaderDefaults | Mapping[str, Any] | None = None, area_loads=None, select: str | None = None,
              exclude: str | None = None, supports: Sequence[str] = (), strict: bool = False,
-             members: str | None = None) -> IfcModel:
+             members: str | None = None, materials: Any = None) -> IfcModel:
     """Read an IFC2X3 / IFC4 / IFC4X3 file into an analytical frame (SI units).
 
     Parameters
@@ -275,6 +280,9 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
         whether an element left out is an error, and how ``IfcMember``
         elements are idealised ('auto' | 'truss' | 'frame'); see
         `analysis.ifc.derive.derive_frame_details`.
+    materials : str, os.PathLike or MaterialMap, optional
+        The user's material map (a TOML file, see `analysis.ifc.material_map`):
+        both routes. Replaces ``defaults.materials``.
 
     Returns
     -------
@@ -289,6 +297,14 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
     path = os.fspath(path)
     if isinstance(defaults, Mapping):
         defaults = ReaderDefaults(**defaults)
+    if materials is not None:
+        import dataclasses
+
+        from .material_map import MaterialMap, load_material_map
+
+        if not isinstance(materials, MaterialMap):
+            materials = load_material_map(materials)
+        defaults = dataclasses.replace(defaults or ReaderDefaults(), materials=materials)
     source = _open(path)
     ifc_file = source.file
     from ..units import unit_scales
@@ -571,6 +587,9 @@ class _StructuralReader:
         need_density = any(any(v != 0 for v in case["self_weight"]) for case in self.cases.values())
         self.member_info: dict[int, dict] = {}
         material_cache: dict = {}
+        for m in members:  # every member's material first: one report names every material that stays unknown
+            self._material(m, need_density, str(m.get_argument(_MEMBER_TYPE) or "NOTDEFINED") in _TRUSS_TYPES, material_cache)
+        material_cache["resolver"].raise_unknown()
         for m in members:
             self._member(m, ends[m.id()], need_density, material_cache)
         self._loads()
@@ -889,7 +908,9 @@ class _StructuralReader:
         if profile is None:
             if self.defaults is None or self.defaults.section is None:
                 raise self.fail(member, "no profile (IfcMaterialProfileSetUsage or profile properties) and no default section given")
-            section = self.defaults.section
+            import dataclasses
+
+            section = dataclasses.replace(self.defaults.section, source="default")
             self.warn(member, f"no profile in the file: default section '{section.name}' used")
         else:
             section, props_si, pset = self._section(member, profile, usage)
@@ -1025,18 +1046,26 @@ class _StructuralReader:
         return key
 
     def _material(self, member: Entity, need_density: bool, truss: bool, material_cache: dict[Any, Any]) -> Material:
-        """The member's material (SI); shared between members with the same association unless a default was used."""
-        from .materials import element_material
+        """The member's material (SI), once per member; members with the same association share the work.
 
-        shared = self._shared_key(member)
-        key = None if shared is None else (*shared, need_density, truss)
-        if key is not None and key in self._materials:
-            return self._materials[key]
-        material, diags = element_material(self.f, member, self.s, self.defaults, need_density=need_density,
-                                           need_shear=not truss, cache=material_cache)
+        A material that stays unknown is recorded by the resolver in ``material_cache['resolver']``
+        (its ``raise_unknown`` reports them all); the member then gets a placeholder.
+        """
+        from .materials import MaterialResolver
+
+        done = material_cache.setdefault("members", {})
+        found = done.get(member.id())
+        if found is not None:
+            return found
+        resolver = material_cache.get("resolver")
+        if resolver is None:
+            resolver = material_cache["resolver"] = MaterialResolver(self.f, self.s, self.defaults)
+        material, diags = resolver.material(member, need_density=need_density, need_shear=not truss,
+                                            key=self._shared_key(member))
         self.diagnostics.extend(diags)
-        if key is not None and not diags:
-            self._materials[key] = material
+        if material is None:  # unknown: reported with all the others before the frame is built
+            material = Material("unknown", E=1.0, G=1.0)
+        done[member.id()] = material
         return material
 
     def _profile(self, member: Entity) -> tuple[Entity | None, int | None, Entity | None]:

@@ -446,8 +446,11 @@ def test_unknown_profile():
 def test_missing_material_unless_default():
     m = portal()
     m.element("IfcBeam", "Bare", (0, 0, 2), (6, 0, 2), BEAM, material=False)
-    with pytest.raises(IfcInputError, match=r"#\d+ IfcBeam 'Bare'"):
-        m.derive()
+    # no material at all: the documented default for the class (structural steel S235), with a warning
+    fr, diags, _ = m.derive()
+    k = fr.member_index("Bare")
+    assert (fr.E[k], fr.material_sources[k], fr.material_names[k]) == (210e9, "default", "S235")
+    assert any(d.level == "warning" and "'Bare'" in d.message and "no material" in d.message for d in diags)
     fr, diags, _ = m.derive(defaults={"E": 200e9, "G": 80e9, "density": 7800.0})
     k = fr.member_index("Bare")
     assert fr.E[k] == 200e9
