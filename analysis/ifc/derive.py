@@ -1394,9 +1394,47 @@ class _Deriver:
         fixed = restraints.all(axis=1)
         pinned = restraints.any(axis=1) & ~fixed
         kinds = " and ".join(k for k, c in (("fixed", fixed), ("pinned", pinned)) if c.any())
+        forks = self._fork_supports(elements, elem_nodes, A, B, restraints)
+        if forks:
+            parts.append(f"{forks} pinned bearings of members along a global axis also hold the member's twist "
+                         "(fork supports)")
         self.notes.append(f"Supports ({kinds}, the documented default; --supports or a support level say otherwise): "
                           + "; ".join(parts) + ".")
         return restraints
+
+    @staticmethod
+    def _fork_supports(elements, elem_nodes, A, B, restraints) -> int:
+        """At a pinned node where only horizontal members along one global axis X or Y end, hold their twist.
+
+        A beam resting on a bearing cannot roll over it (a fork support, common practice, no source); without
+        this, a beam pinned at both ends would turn freely about its own axis. Restraints are in world axes,
+        so members off the X and Y directions (by more than about 1 degree) get no fork.
+        """
+        pinned = restraints[:, :3].all(axis=1) & ~restraints[:, 3:].any(axis=1)
+        if not pinned.any():
+            return 0
+        d = B - A
+        d = d / np.linalg.norm(d, axis=1)[:, None]
+        seen: dict[int, set[int]] = defaultdict(set)
+        for k in range(len(elements)):
+            for e_ in (0, 1):
+                v = int(elem_nodes[k, e_])
+                if not pinned[v]:
+                    continue
+                if abs(d[k, 2]) > 0.02:
+                    seen[v].add(-1)  # an inclined or vertical member: no fork here
+                elif abs(d[k, 0]) > 0.9998:
+                    seen[v].add(3)
+                elif abs(d[k, 1]) > 0.9998:
+                    seen[v].add(4)
+                else:
+                    seen[v].add(-1)
+        count = 0
+        for v, axes in seen.items():
+            if len(axes) == 1 and -1 not in axes:
+                restraints[v, next(iter(axes))] = True
+                count += 1
+        return count
 
     def _queried_supports(self, elements, elem_nodes, nodes, A, B, restraints, comps) -> np.ndarray:
         from .selection import _query
@@ -1420,7 +1458,10 @@ class _Deriver:
             parts.append(f"--supports {query!r} ({kind}): {count} lowest ends of {len(own)} frame elements"
                          + (", and member ends bearing on " + ", ".join(f"{v} {c}" for c, v in sorted(by_class.items()))
                             if by_class else (f"; {len(others)} other elements found, no member end bears on them" if others else "")))
-        self.notes.append("Supports as asked: " + "; ".join(parts) + ".")
+        forks = self._fork_supports(elements, elem_nodes, A, B, restraints)
+        self.notes.append("Supports as asked: " + "; ".join(parts)
+                          + (f"; {forks} pinned bearings of members along a global axis also hold their twist (fork "
+                             "supports)" if forks else "") + ".")
         return restraints
 
     def _underside(self, k: int, A, B) -> float:
