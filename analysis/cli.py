@@ -151,7 +151,8 @@ def _add_common(p: argparse.ArgumentParser) -> None:
     g.add_argument("--materials", metavar="FILE.toml", help="material map: IFC material names (exact or glob), "
                    "IFC classes and elements without material to grades or values (format in the README)")
     g = p.add_argument_group("idealisation (whole model; a per-member property can override)")
-    g.add_argument("--inextensible", action="store_true", help="members axially rigid")
+    g.add_argument("--inextensible", action="store_true",
+                   help="every member axially rigid, pin-jointed truss bars included")
     g.add_argument("--condense-pinned", action="store_true", help="reduce rotations at pinned ends out of the unknowns")
     dim = g.add_mutually_exclusive_group()
     dim.add_argument("--plane", action="store_true", help="plane-frame analysis in the frame's own plane "

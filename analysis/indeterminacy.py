@@ -914,6 +914,9 @@ def _notes(terms, parts, kinematic, static, m, st, redundant, descriptions, dofs
         notes.append("reductions: " + "; ".join(red))
     if t["releases"]:
         notes.append(f"releases: {t['releases']} hinged member ends turn on their own (one unknown each)")
+    rigid_note = _rigid_note(dofs.frame, dofs.options)
+    if rigid_note:
+        notes.append(rigid_note)
     if t["redundant_constraints"]:
         notes.append(f"{t['redundant_constraints']} constraints are redundant and not counted:")
         notes += redundant
@@ -930,3 +933,54 @@ def _notes(terms, parts, kinematic, static, m, st, redundant, descriptions, dofs
         if m > len(descriptions):
             notes.append(f"... and {m - len(descriptions)} more mechanisms")
     return notes
+
+
+def _id_list(frame: Frame, members: np.ndarray, limit: int = 10) -> str:
+    ids = [frame.member_ids[k] for k in members[:limit]]
+    more = f" and {members.size - limit} more" if members.size > limit else ""
+    return ", ".join(ids) + more
+
+
+def _kinds(frame: Frame, members: np.ndarray) -> str:
+    bars = int(frame.truss[members].sum())
+    others = int(members.size - bars)
+    words = []
+    if bars:
+        words.append(f"{bars} truss bar{'s' if bars != 1 else ''}")
+    if others:
+        words.append(f"{others} frame member{'s' if others != 1 else ''}")
+    return ", ".join(words)
+
+
+def _rigid_note(frame: Frame, options: AnalysisOptions) -> str | None:
+    """Which members are axially rigid and why: the idealisation, their own property, or neither."""
+    from .stiffness.dofs import axially_rigid
+
+    m = frame.n_members
+    if m == 0:
+        return None
+    rigid = axially_rigid(frame, options)
+    if not (rigid.any() or options.inextensible):
+        return None
+    released = frame.releases[:, :, 0].any(axis=1)
+    own = np.flatnonzero(frame.inextensible & rigid)
+    parts = []
+    if options.inextensible:
+        by_option = np.flatnonzero(rigid & ~frame.inextensible)
+        if by_option.size == m:
+            parts.append(f"every member ({m}: {_kinds(frame, by_option)}) by the inextensible idealisation")
+        elif by_option.size:
+            parts.append(f"{by_option.size} of {m} members ({_kinds(frame, by_option)}) by the inextensible "
+                         f"idealisation")
+        else:
+            parts.append("no member by the inextensible idealisation")
+    if own.size:
+        parts.append(f"{own.size} by its own property ({_id_list(frame, own)})")
+    if options.inextensible:
+        kept = np.flatnonzero(frame.extensible)
+        if kept.size:
+            parts.append(f"kept extensible by their own property: {_id_list(frame, kept)}")
+        free = np.flatnonzero(released & ~frame.extensible)
+        if free.size:
+            parts.append(f"not rigid, their axial force is released: {_id_list(frame, free)}")
+    return "axially rigid: " + "; ".join(parts)

@@ -222,7 +222,15 @@ class AnalysisOptions:
         plane analysis, with a warning, when the frame and all its loads lie
         in one world plane and it is a mechanism only out of that plane.
     inextensible
-        Every frame member (not truss members) is axially rigid.
+        Every member is axially rigid, pin-jointed truss bars included: its
+        length is held by an exact constraint and its axial force is the
+        constraint force. A member's own property overrides this either way
+        (``Frame.inextensible`` keeps it rigid without the option,
+        ``Frame.extensible`` keeps it extensible with it); a member whose
+        axial force is released is never rigid. An all-rigid determinate
+        truss is analysed by equilibrium alone; where rigid members form a
+        redundant set, their forces are the smallest in equilibrium (a
+        warning says so).
     condense_pinned
         Rotations at pinned member ends (end releases and pin-supported
         ends) are condensed out of the unknowns.
@@ -278,6 +286,12 @@ class Frame:
     per-member arrays ``(m,)``, ``ref (m,3)`` (NaN row: default orientation),
     ``releases (m,2,6) bool``, ``offsets (m,2,3)``, ``restraints (n,6) bool``,
     ``springs (n,6)`` (N/m or N*m/rad, 0 = none).
+
+    Axial idealisation per member: ``inextensible`` True keeps the member
+    axially rigid whatever the options say; ``extensible`` True keeps it
+    extensible under ``AnalysisOptions.inextensible`` (both True is an
+    error); both False follow the option. ``extensible`` may be left empty
+    (all False).
     """
 
     node_ids: tuple[str, ...]
@@ -315,10 +329,14 @@ class Frame:
     # where each member's section / material values came from (one of SOURCES; default 'file')
     section_sources: tuple[str, ...] = ()
     material_sources: tuple[str, ...] = ()
+    # members kept extensible under AnalysisOptions.inextensible (empty: none)
+    extensible: BoolArray = field(default_factory=lambda: np.zeros(0, dtype=np.bool_))
     _lookups: tuple = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         n, m = len(self.node_ids), len(self.member_ids)
+        if np.asarray(self.extensible).size == 0:
+            object.__setattr__(self, "extensible", np.zeros(m, dtype=np.bool_))
         specs = {
             "nodes": (np.float64, (n, 3)),
             "members": (np.int32, (m, 2)),
@@ -337,6 +355,7 @@ class Frame:
             "releases": (np.bool_, (m, 2, 6)),
             "offsets": (np.float64, (m, 2, 3)),
             "inextensible": (np.bool_, (m,)),
+            "extensible": (np.bool_, (m,)),
             "restraints": (np.bool_, (n, 6)),
             "springs": (np.float64, (n, 6)),
         }
@@ -441,6 +460,10 @@ class Frame:
                 row = pairs[first[np.argmax(counts > 1)]]
                 dups = [self.member_labels[k] for k in np.flatnonzero((pairs == row).all(axis=1))]
                 raise ModelError(f"members {', '.join(dups)} join the same two nodes (duplicate members)")
+            both = self.inextensible & self.extensible
+            if both.any():
+                k = int(np.argmax(both))
+                raise ModelError(f"member {self.member_labels[k]}: both axially rigid and extensible")
             self._validate_properties()
         if (self.springs < 0).any() or not np.all(np.isfinite(self.springs)):
             k = int(np.argwhere((self.springs < 0) | ~np.isfinite(self.springs))[0, 0])
@@ -675,12 +698,18 @@ class FrameBuilder:
                    ref: Sequence[float] | None = None, roll: float = 0.0, truss: bool = False,
                    release_i: str | Iterable[str] = (), release_j: str | Iterable[str] = (),
                    offset_i: Sequence[float] = (0.0, 0.0, 0.0), offset_j: Sequence[float] = (0.0, 0.0, 0.0),
-                   inextensible: bool = False, source: str | None = None, label: str | None = None) -> str:
+                   inextensible: bool = False, extensible: bool = False, source: str | None = None,
+                   label: str | None = None) -> str:
         """Add a member from ``node_i`` to ``node_j``.
 
         ``release_i``/``release_j`` name released end actions ('My Mz', or
         'pinned' for both bending moments); ``truss=True`` makes an axial-only bar.
+        ``inextensible=True`` makes this member axially rigid in every
+        analysis; ``extensible=True`` keeps it extensible even under
+        ``AnalysisOptions.inextensible``.
         """
+        if inextensible and extensible:
+            raise ModelError(f"member {label or member_id}: both axially rigid and extensible")
         if member_id in self._members:
             raise ModelError(f"member id {member_id!r} is used twice")
         for node_id in (node_i, node_j):
@@ -692,7 +721,7 @@ class FrameBuilder:
             "ends": (node_i, node_j), "section": section, "material": material,
             "ref": tuple(ref) if ref is not None else (math.nan,) * 3, "roll": float(roll), "truss": bool(truss),
             "releases": rel, "offsets": (tuple(offset_i), tuple(offset_j)), "inextensible": bool(inextensible),
-            "source": source, "label": label or member_id,
+            "extensible": bool(extensible), "source": source, "label": label or member_id,
         }
         return member_id
 
@@ -743,6 +772,7 @@ class FrameBuilder:
             releases=np.array(per_member(lambda mm: mm["releases"]), dtype=bool).reshape(-1, 2, 6),
             offsets=np.array(per_member(lambda mm: mm["offsets"]), dtype=float).reshape(-1, 2, 3),
             inextensible=flags(lambda mm: mm["inextensible"]),
+            extensible=flags(lambda mm: mm["extensible"]),
             restraints=np.array([nd["restraint"] for nd in nodes], dtype=bool).reshape(-1, 6),
             springs=np.array([nd["springs"] for nd in nodes], dtype=float).reshape(-1, 6),
             rigid_bodies=tuple(self._rigid),

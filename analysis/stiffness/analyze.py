@@ -18,7 +18,7 @@ import scipy.sparse as sp
 
 from ..errors import Diagnostic, UnstableStructureError
 from ..model import DOF_NAMES, AnalysisOptions, Frame, member_axes, member_lengths
-from .dofs import DofSystem, build_dofs
+from .dofs import DofSystem, axially_rigid, build_dofs
 from .elements import compliances, condense, end_transformation, local_stiffness
 from .loads import CaseLoads, case_loads, generic_fixed_end_forces, uniform_fixed_end_forces
 from .solvers import SingularStiffness, factorize
@@ -251,7 +251,7 @@ def _analyze(frame: Frame, options: AnalysisOptions, progress=None, keep: dict |
     for combo in frame.combinations:
         results[combo.name] = CaseResult.combine(combo.name, [(results[n], f) for n, f in combo.factors], frame)
     timings["total"] = time.perf_counter() - t0
-    if (~frame.truss & frame.inextensible).any() or options.inextensible:
+    if axially_rigid(frame, options).any():
         if dofs.redundant_rows:
             diagnostics.append(Diagnostic("warning", None,
                                           "some axially rigid members form a redundant set: their axial forces are "

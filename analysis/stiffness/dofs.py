@@ -27,7 +27,7 @@ from scipy.sparse.csgraph import connected_components
 from ..errors import ModelError
 from ..model import DOF_NAMES, AnalysisOptions, Diaphragm, Frame, RigidBody, member_axes
 
-__all__ = ["DofSystem", "ConstraintRow", "build_dofs", "plane_of", "in_plane_problem"]
+__all__ = ["DofSystem", "ConstraintRow", "build_dofs", "plane_of", "in_plane_problem", "axially_rigid"]
 
 log = logging.getLogger(__name__)
 
@@ -219,6 +219,24 @@ def build_dofs(frame: Frame, options: AnalysisOptions) -> DofSystem:
                      direct=direct)
 
 
+def axially_rigid(frame: Frame, options: AnalysisOptions) -> np.ndarray:
+    """(m,) True for the members held at constant length by an exact constraint.
+
+    A member is axially rigid when its own property says so
+    (``Frame.inextensible``), or when ``options.inextensible`` asks for it
+    and its own property does not keep it extensible (``Frame.extensible``):
+    the option covers every member, pin-jointed truss bars included. A
+    member whose axial force is released carries no axial force to make
+    rigid, so it never is.
+    """
+    rigid = frame.inextensible.copy()
+    if options.inextensible:
+        rigid |= ~frame.extensible
+    if frame.n_members:
+        rigid &= ~frame.releases[:, :, 0].any(axis=1)
+    return rigid
+
+
 def _active_components(plane_axis: int | None) -> tuple[int, ...]:
     if plane_axis is None:
         return tuple(range(6))
@@ -402,12 +420,8 @@ def _constraint_rows(frame: Frame, R, options: AnalysisOptions, plane_axis, skew
     def cross_matrix(o):
         return np.array([[0, -o[2], o[1]], [o[2], 0, -o[0]], [-o[1], o[0], 0]])
 
-    axial = frame.inextensible.copy()
-    if options.inextensible:
-        axial |= ~frame.truss
+    axial = axially_rigid(frame, options)
     for k in np.flatnonzero(axial):
-        if frame.releases[k, :, 0].any():
-            continue  # an axially released member carries no axial force to make rigid
         i, j = frame.members[k]
         e = R[k, 0]
         coeffs: dict[tuple[int, int], float] = {}
