@@ -101,7 +101,8 @@ class PLUMBFRAME_OT_load_ifc(bpy.types.Operator):
         reader = engine("ifc.reader")
         try:
             model = reader.read_ifc(path, model=None if model_choice in ("AUTO", "") else model_choice,
-                                    merge_tolerance=settings.merge_tolerance)
+                                    merge_tolerance=settings.merge_tolerance,
+                                    materials=bpy.path.abspath(settings.materials_path) if settings.materials_path else None)
         except analysis_error() as exc:
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}

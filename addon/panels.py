@@ -42,6 +42,7 @@ class PLUMBFRAME_PT_model(_Base, bpy.types.Panel):
         layout.prop(settings, "analysis_model")
         col = layout.column(align=True)
         col.prop(settings, "merge_tolerance")
+        col.prop(settings, "materials_path")
         col.prop(settings, "plane")
         col.prop(settings, "inextensible")
         col.prop(settings, "condense_pinned")

@@ -60,6 +60,9 @@ class PLUMBFRAME_PG_settings(bpy.types.PropertyGroup):
                                  items=_model_items)
     merge_tolerance: FloatProperty(name="Merge tolerance", description="Member ends closer than this share one node",
                                    default=0.01, min=0.0, soft_max=0.1, unit="LENGTH", precision=3)
+    materials_path: StringProperty(name="Material map", description="TOML file naming what the IFC materials are "
+                                   "(names or globs to grades or values, a fallback per IFC class, a default for "
+                                   "elements without material)", subtype="FILE_PATH", default="")
     plane: EnumProperty(name="Frame type", description="How the frame is idealised",
                         items=(("AUTO", "Automatic", "Space frame, or a plane frame when the model is one"),
                                ("PLANE", "Plane frame", "Analyse in the frame's own plane (3 unknowns per joint)"),

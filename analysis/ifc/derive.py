@@ -886,6 +886,8 @@ class _Deriver:
             self.diagnostics.extend(diags)
             out.append(material)
         resolver.raise_unknown()
+        if resolver.summary():
+            self.notes.append(resolver.summary())
         return out
 
     @staticmethod

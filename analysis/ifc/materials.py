@@ -482,6 +482,28 @@ def _materials_in(definition) -> list:
     return found
 
 
+def _checked_value(definition, name: str, raw: float, si: float) -> float:
+    """A material value the analysis can use, else IfcInputError naming the material and the value.
+
+    Physical bounds (common practice, no source): E, G > 0; -1 < nu <= 0.5
+    (the bounds for an isotropic solid: G = E / (2 (1 + nu)) and the bulk
+    modulus stay positive); density >= 0.
+    """
+    if not math.isfinite(si):
+        what = "not a number (NaN)" if math.isnan(raw) else ("infinite" if not math.isfinite(raw)
+                                                               else f"{raw!r}, which overflows in SI units")
+        raise IfcInputError(f"{entity_label(definition)}: {name} is {what}", definition.id())
+    if name in ("YoungModulus", "ShearModulus") and si <= 0.0:
+        raise IfcInputError(f"{entity_label(definition)}: {name} {raw:g} is not positive", definition.id())
+    if name == "PoissonRatio" and not -1.0 < si <= 0.5:
+        raise IfcInputError(f"{entity_label(definition)}: PoissonRatio {raw:g} is outside -1 < nu <= 0.5, the range of "
+                            "an isotropic material (at -1 the shear modulus E / (2 (1 + nu)) is infinite)",
+                            definition.id())
+    if name == "MassDensity" and si < 0.0:
+        raise IfcInputError(f"{entity_label(definition)}: MassDensity {raw:g} is negative", definition.id())
+    return si
+
+
 def _properties_of(ifc_file, definition, scales) -> dict[str, float]:
     """SI values of the mechanical properties attached directly to one material definition."""
     values: dict[str, float] = {}
@@ -504,7 +526,7 @@ def _properties_of(ifc_file, definition, scales) -> dict[str, float]:
             scale = 1.0
         else:
             scale = getattr(scales, field_name)
-        values[name] = number * scale
+        values[name] = _checked_value(definition, name, number, number * scale)
 
     if _is_2x3(ifc_file):
         if not definition.is_a("IfcMaterial"):
@@ -570,6 +592,7 @@ class _Resolution:
     material: Material | None
     messages: tuple[tuple[str, str], ...]  # (level, text with {label})
     unknown: tuple[str, str] | None  # (report key = material name, what is missing)
+    summary: str = ""  # for the model's note: "'S235JR' -> grade table S235 (EN 10025-2)"
 
 
 @dataclass
@@ -600,6 +623,17 @@ def _fmt_values(values: dict[str, float]) -> str:
             parts.append(f"{key} = {v / 1e9:.6g} GPa" if key in ("E", "G") else
                          f"density = {v:.6g} kg/m3" if key == "density" else f"nu = {v:.6g}")
     return ", ".join(parts)
+
+
+def _short(p: _Provider) -> str:
+    """A provider in the model's material note."""
+    if p.source == "file":
+        return "file values"
+    if p.source == "user map":
+        return f"user map {p.name}" if p.name and p.name != "user map" else "user map values"
+    if p.source == "grade table":
+        return f"grade table {p.name}"
+    return f"default {p.name}" if p.name and p.name != "default" else "defaults given"
 
 
 def _grade_values(grade: Grade) -> dict[str, float]:
@@ -644,6 +678,7 @@ class MaterialResolver:
         self._values: dict[Any, dict[str, float]] = {}
         self._resolved: dict[Any, _Resolution] = {}
         self._unknown: dict[str, _Unknown] = {}
+        self._counts: dict[str, int] = {}
 
     # -- public
     def material(self, element, *, need_density: bool = True, need_shear: bool = True,
@@ -665,7 +700,17 @@ class MaterialResolver:
         diagnostics = [Diagnostic(level, element.id(), text.replace("{label}", label)) for level, text in found.messages]
         if found.unknown is not None:
             self._record(element, cls, label, *found.unknown)
+        elif found.summary:
+            self._counts[found.summary] = self._counts.get(found.summary, 0) + 1
         return found.material, diagnostics
+
+    def summary(self) -> str:
+        """One note for the model: where the materials came from, with element counts."""
+        if not self._counts:
+            return ""
+        parts = [f"{text} ({n} element{'s' if n != 1 else ''})"
+                 for text, n in sorted(self._counts.items(), key=lambda kv: (-kv[1], kv[0]))]
+        return "Materials: " + "; ".join(parts) + "."
 
     @property
     def unknown(self) -> bool:
@@ -757,7 +802,7 @@ class MaterialResolver:
         match = recognise_grade(name, category)
         if match is not None and match.how == "grade":
             g = match.grade
-            providers.append(_Provider("grade table", _grade_values(g), f"grade {g.name} ({g.standard}, read from '{match.text}')", "info"))
+            providers.append(_Provider("grade table", _grade_values(g), f"grade {g.name} ({g.standard}, read from '{match.text}')", "info", g.name))
         spec = self._class_spec(cls)
         if spec is not None:
             providers.append(self._map_provider(spec[1], f"fallback for {spec[0]}"))  # type: ignore[arg-type]
@@ -768,7 +813,7 @@ class MaterialResolver:
             g = match.grade
             providers.append(_Provider("default", _grade_values(g),
                                        f"the default grade {g.name} ({g.standard}) for the word '{match.text}' (no grade in the name)",
-                                       "warning"))
+                                       "warning", g.name))
         return self._combine(providers, f"{{label}}: material '{name or f'#{mat.id()}'}'", name or f"#{mat.id()}",
                              name, need_density, need_shear)
 
@@ -786,8 +831,8 @@ class MaterialResolver:
             providers.append(caller)
         grade = grade_table()[NO_MATERIAL_DEFAULTS.get(cls, _NO_MATERIAL_FALLBACK)]
         providers.append(_Provider("default", _grade_values(grade),
-                                   f"{grade.name} ({grade.standard}), the documented default for {cls} elements "
-                                   "without material (a material map can name another)", "warning", grade.name))
+                                   f"the documented default for {cls} elements, {grade.name} ({grade.standard}), is used "
+                                   "(a material map can name another)", "warning", grade.name))
         return self._combine(providers, f"{{label}}: {why}", "", "", need_density, need_shear, absent=True)
 
     def _combine(self, providers: list[_Provider], where: str, material_name: str, report_name: str,
@@ -838,7 +883,7 @@ class MaterialResolver:
                 messages.append((p.level, f"{where}: no {', '.join(_VALUE_WORDS[k] for k in keys)} in the file; "
                                  f"default {_fmt_values(shown)} used"))
             elif absent:
-                messages.append((p.level, f"{where}: {p.text} used ({_fmt_values(shown)})"))
+                messages.append((p.level, f"{where}; {p.text}: {_fmt_values(shown)}"))
             else:
                 messages.append((p.level, f"{where}: {_fmt_values(shown)} from {p.text}"))
         bad = [f"{_VALUE_WORDS[k]} = {v!r} is not a valid value" for k, (v, _) in taken.items()
@@ -860,8 +905,11 @@ class MaterialResolver:
         source = taken["E"][1].source
         if absent:
             material_name = taken["E"][1].name or "default"
+        head = "no material" if absent else f"'{material_name}'"
+        used = list({id(v[1]): v[1] for v in taken.values()}.values())
+        summary = head + " -> " + " + ".join(_short(p) for p in used)
         return _Resolution(Material(material_name, E=float(E), G=float(G), density=float(density), poisson=float(nu),
-                                    source=source), tuple(messages), None)
+                                    source=source), tuple(messages), None, summary)
 
 
 def element_material(ifc_file, element, scales, defaults=None, *, need_density: bool = True,

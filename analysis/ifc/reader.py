@@ -590,6 +590,8 @@ class _StructuralReader:
         for m in members:  # every member's material first: one report names every material that stays unknown
             self._material(m, need_density, str(m.get_argument(_MEMBER_TYPE) or "NOTDEFINED") in _TRUSS_TYPES, material_cache)
         material_cache["resolver"].raise_unknown()
+        if material_cache["resolver"].summary():
+            self.notes.append(material_cache["resolver"].summary())
         for m in members:
             self._member(m, ends[m.id()], need_density, material_cache)
         self._loads()
