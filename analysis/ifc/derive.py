@@ -224,6 +224,8 @@ class _Element:
     body_profile: Any = None
     axis_raw: tuple | None = None  # (p0, p1, plane (3,3) or None) from 'Axis'
     body: tuple | None = None  # (M (4,4) local, depth vector, profile)
+    shape: Any = None  # analysis.ifc.bodies.BodyAxis when the line or section comes from the body's geometry
+    shape_line: tuple | None = None  # (p0, p1, z or None) of `shape` in element coordinates, file units
     note: str = ""
     left_out: str | None = None  # the reason, once `_Deriver._leave_out` has set it aside
 
@@ -687,6 +689,7 @@ class _Deriver:
         self.support_specs = [parse_supports(s, self.support_kind) for s in self.support_queries]
         self.placements = PlacementCache()
         self._card_cache: dict = {}
+        self._profile_sizes: dict[int, float] = {}  # extruded profile id -> largest extent (file units)
 
     # ------------------------------------------------------------------ run
     def run(self) -> tuple[Frame, list[Diagnostic], list[str]]:
@@ -795,12 +798,110 @@ class _Deriver:
 
     # ------------------------------------------------------------------ geometry
     def _geometry(self, elements: list[_Element]) -> None:
+        unusable: dict[int, str] = {}
         for el in elements:
-            unusable = _read_representation(el)
-            if el.axis_raw is None and el.body is None:
-                why = f"its Body is {unusable}, not an extruded solid" if unusable else "it has neither"
-                self._leave_out(el, f"no usable body: no 'Axis' curve and no 'Body' extrusion to derive the analytical axis from ({why})")
+            kind = _read_representation(el)
+            if kind is not None:
+                unusable[el.eid] = kind
         self.world = self.placements.batch([el.placement for el in elements])
+        failed = self._body_geometry(elements, unusable)
+        for el in elements:
+            if el.axis_raw is None and el.body is None and el.shape is None:
+                kind = unusable.get(el.eid)
+                why = (f"its Body ({kind}) gives none: {failed[el.eid]}" if el.eid in failed
+                       else f"its Body is {kind}" if kind else "it has neither")
+                self._leave_out(el, f"no usable body: no 'Axis' curve and no body to derive the analytical axis from ({why})")
+
+    def _body_geometry(self, elements: list[_Element], unusable: dict[int, str]) -> dict[int, str]:
+        """Axis and section from the body's geometry (`analysis.ifc.bodies`), in one kernel pass.
+
+        For elements whose body is not an extruded solid, and for those whose
+        axis (``Axis`` curve or extrusion) is shorter than their section depth
+        (suspect: a body extruded across the member), which are reported.
+        Sets ``el.shape`` and ``el.shape_line``; returns the reasons of the
+        elements the kernel gave nothing for.
+        """
+        from .bodies import body_axes
+
+        L = self.scales.length
+        need: list[int] = []
+        suspect: dict[int, str] = {}
+        for k, el in enumerate(elements):
+            if el.left_out is not None:
+                continue
+            if el.body is None and el.eid in unusable and unusable[el.eid] != "an empty body":
+                need.append(k)
+                continue
+            short = self._suspect_length(el)
+            if short is not None:
+                need.append(k)
+                suspect[k] = short
+        if not need:
+            return {}
+        axes, failed = body_axes(self.ifc_file, [elements[k].entity for k in need])
+        for k in need:
+            el = elements[k]
+            shape = axes.get(el.eid)
+            if shape is None:
+                if k in suspect:
+                    self.diagnostics.append(Diagnostic("warning", el.eid, f"{el.label}: {suspect[k]}; its body's geometry "
+                                                       f"cannot replace it ({failed.get(el.eid, 'no result')}): it is kept"))
+                continue
+            if k not in suspect and el.axis_raw is not None:
+                a, b = el.axis_raw
+                length = float(np.linalg.norm(np.asarray(b) - np.asarray(a))) * L
+                if length < max(shape.depth, shape.width):
+                    suspect[k] = (f"its 'Axis' is {length * 1000:.4g} mm long, shorter than its section depth "
+                                  f"({max(shape.depth, shape.width) * 1000:.4g} mm): suspect")
+            if k in suspect:
+                self.diagnostics.append(Diagnostic(
+                    "warning", el.eid, f"{el.label}: {suspect[k]}; the axis is taken from the body's principal direction "
+                    f"instead ({shape.length * 1000:.5g} mm long)"))
+                el.axis_raw = None
+                el.body = None
+                el.body_profile = None  # the extruded profile is not the member's section
+            el.shape = shape
+            W = self.world[k]
+            Rinv = np.linalg.inv(W[:3, :3])
+            p0 = Rinv @ (shape.start / L - W[:3, 3])
+            p1 = Rinv @ (shape.end / L - W[:3, 3])
+            z = None
+            if shape.z is not None:
+                z = Rinv @ shape.z
+                z /= np.linalg.norm(z)
+            el.shape_line = (p0, p1, z)
+            if shape.notes:
+                el.note = (el.note + "; " if el.note else "") + "; ".join(shape.notes)
+        if axes:
+            self.notes.append(f"Axes and sections of {len(axes)} elements derived from their body geometry (principal "
+                              "direction of the body, section cut at mid-length).")
+        return failed
+
+    def _suspect_length(self, el: _Element) -> str | None:
+        """Why the element's axis (Axis curve or body extrusion) is suspect: shorter than its extruded profile's size."""
+        if el.body is None or el.body_profile is None:
+            return None
+        profile = el.body_profile
+        size = self._profile_sizes.get(profile.id())
+        if size is None:
+            from .sections import section_properties
+
+            try:
+                box, _ = _profile_box(profile, section_properties(profile, angle_scale=self.scales.angle))
+                size = max(box[1] - box[0], box[3] - box[2])
+            except (IfcInputError, TypeError, ValueError, AttributeError):  # a profile we cannot size: no check
+                size = 0.0
+            self._profile_sizes[profile.id()] = size
+        if el.axis_raw is not None:
+            a, b = el.axis_raw
+            length, what = float(np.linalg.norm(np.asarray(b) - np.asarray(a))), "'Axis'"
+        else:
+            length, what = float(np.linalg.norm(el.body[1])), "body extrusion"
+        if not 0 < size or length >= size:
+            return None
+        L = self.scales.length
+        return (f"its {what} is {length * L * 1000:.4g} mm long, shorter than its section depth ({size * L * 1000:.4g} mm): "
+                "suspect (a body extruded across the member?)")
 
     # ------------------------------------------------------------------ sections, materials, axes
     def _properties(self, elements: list[_Element]) -> None:
@@ -847,6 +948,10 @@ class _Deriver:
             material = self.mat[k]
             if profile is None:
                 profile = el.body_profile
+                if profile is None and el.shape is not None:
+                    self.sec[k] = self._body_section(el, typed.get(el.eid))
+                    self._centroid_line(el, self.sec[k])
+                    continue
                 if profile is None:
                     default_section = _option(self.defaults, "section", None)
                     if default_section is None:
@@ -897,8 +1002,49 @@ class _Deriver:
         return _SectionInfo(section.name, section.A, section.Iy, section.Iz, section.J, section.Avy, section.Avz, 0.0,
                             np.zeros(2), (0.0, 0.0, 0.0, 0.0), True, size, source="default")
 
+    def _body_section(self, el: _Element, type_id: int | None) -> _SectionInfo:
+        """The section cut from the element's body (`analysis.ifc.bodies`), named after its type where it has one."""
+        shape = el.shape
+        name = ""
+        if type_id is not None:
+            name = self.ifc_file.by_id(type_id).Name or ""
+        name = name or getattr(el.entity, "ObjectType", None) or "body section"
+        half_w, half_d = 0.5 * shape.width / self.scales.length, 0.5 * shape.depth / self.scales.length
+        return _SectionInfo(str(name), shape.A, shape.Iy, shape.Iz, shape.J, shape.Avy, shape.Avz, 0.0, np.zeros(2),
+                            (-half_w, half_w, -half_d, half_d), False, max(shape.depth, shape.width), source="body geometry")
+
+    def _body_line(self, el: _Element) -> None:
+        """Centroid line from the body's geometry; an ``Axis`` curve along it keeps its ends, projected onto it."""
+        line = el.shape_line
+        if line is None:  # only called for elements with a body line
+            raise ValueError(f"{el.label}: no body line")
+        p0, p1, z = line
+        el.yaxis = None if z is None else z.copy()
+        if el.axis_raw is None:
+            el.source = "Body geometry"
+            el.p0, el.p1 = p0, p1
+            return
+        a, b = (np.asarray(x, dtype=float) for x in el.axis_raw)
+        d = (p1 - p0) / np.linalg.norm(p1 - p0)
+        da = (b - a) / np.linalg.norm(b - a)
+        el.source = "Axis"
+        if abs(float(d @ da)) < math.cos(math.radians(2.0)):
+            el.p0, el.p1 = a, b
+            el.note = (el.note + "; " if el.note else "") + (
+                f"its 'Axis' is {math.degrees(math.acos(min(1.0, abs(float(d @ da))))):.3g}° off the body's principal "
+                "direction: the Axis is used as it is")
+            return
+        el.p0, el.p1 = p0 + ((a - p0) @ d) * d, p0 + ((b - p0) @ d) * d
+        shift = float(np.linalg.norm(el.p0 - a)) * self.scales.length
+        if shift > 1e-6:
+            el.note = (el.note + "; " if el.note else "") + \
+                f"its 'Axis' is moved {shift * 1000:.4g} mm onto the centroid line of its body"
+
     def _centroid_line(self, el: _Element, sec: _SectionInfo) -> None:
         """Local (element coordinates, file units) centroid-line ends and profile y direction."""
+        if el.shape_line is not None:
+            self._body_line(el)
+            return
         if el.axis_raw is not None:
             a, b = el.axis_raw
             el.source = "Axis"
