@@ -209,6 +209,7 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("--report", metavar="REPORT.html", help="also write a self-contained HTML report")
     p.add_argument("--overwrite-input", action="store_true",
                    help="allow -o to name the input file itself (it is never overwritten otherwise)")
+    _add_stability_options(p)
     _add_common(p)
     analyze_parser = p
 
@@ -347,7 +348,50 @@ def _options(args, model=None):
     else:
         plane = True if getattr(model, "plane", False) else None
     return AnalysisOptions(plane=plane, inextensible=args.inextensible,
-                           condense_pinned=args.condense_pinned, shear=args.shear, solver=args.solver)
+                           condense_pinned=args.condense_pinned, shear=args.shear, solver=args.solver,
+                           second_order=getattr(args, "second_order", False), buckling=getattr(args, "buckling", 0),
+                           modes=getattr(args, "modes", 0), mass=tuple(getattr(args, "mass", None) or ()))
+
+
+def _add_stability_options(p) -> None:
+    g = p.add_argument_group("beyond first order (members are subdivided internally; results per IFC member)")
+    g.add_argument("--second-order", action="store_true",
+                   help="every load case and combination to second order (P-Delta and P-delta), each combination "
+                        "as its own load set; stops with exit 3 where a load set reaches its critical load")
+    g.add_argument("--buckling", type=_count, default=0, metavar="N",
+                   help="the N lowest elastic critical load factors of each combination (of each load case "
+                        "where there are none), with their shapes")
+    g.add_argument("--modes", type=_count, default=0, metavar="N",
+                   help="the N lowest natural modes (members' own mass plus --mass)")
+    g.add_argument("--mass", type=_mass_case, action="append", default=[], metavar="CASE[=FACTOR]",
+                   help="add a load case's gravity loads / g, times FACTOR (default 1), as mass for --modes "
+                        "(repeatable; its self-weight is not counted twice)")
+
+
+def _count(text: str) -> int:
+    try:
+        value = int(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number") from None
+    if value < 1:
+        raise argparse.ArgumentTypeError(f"must be at least 1, got {value}")
+    return value
+
+
+def _mass_case(text: str) -> tuple[str, float]:
+    name, factor = text, 1.0
+    if "=" in text:
+        head, tail = text.rsplit("=", 1)
+        try:
+            factor = float(tail)
+        except ValueError:
+            raise argparse.ArgumentTypeError(f"{text!r}: the factor after '=' is not a number") from None
+        name = head
+        if not (math.isfinite(factor) and factor >= 0):
+            raise argparse.ArgumentTypeError(f"{text!r}: the factor must be a number >= 0")
+    if not name:
+        raise argparse.ArgumentTypeError(f"{text!r}: no load case name")
+    return name, factor
 
 
 def _check_input(path: str) -> None:
@@ -427,6 +471,11 @@ def _mechanism_texts(frame, options) -> tuple[str, ...]:
 
 
 def _print_unstable(con, exc, ind=None) -> None:
+    if getattr(exc, "load_set", None) is not None:  # second order at or past a critical load
+        con.error(f"{exc}: nothing was written")
+        print("  Stiffen or brace the frame, or check the loads; `--buckling 1` lists the critical factors.",
+              file=con.err)
+        return
     con.error("the structure is unstable under this idealisation: nothing was written")
     texts = getattr(exc, "mechanisms", ()) or (str(exc),)
     for k, text in enumerate(texts, 1):
@@ -581,6 +630,7 @@ def summary_table(model, results=None, ind=None, outputs: Sequence[tuple[str, st
         from .ifc.writer import idealisation_text
 
         lines.append(f"  analysis   {results.n_unknowns} unknowns; {idealisation_text(results)}")
+        lines += _stability_lines(results)
         if results.cases:
             gov = governing(results)
             lines.append("  governing internal forces (largest magnitude, member, case)")
@@ -608,6 +658,24 @@ def summary_table(model, results=None, ind=None, outputs: Sequence[tuple[str, st
     lines.append("")
     lines.append(CAUTION)
     return "\n".join(lines)
+
+
+def _stability_lines(results) -> list[str]:
+    """Summary lines of the analyses beyond first order."""
+    lines = []
+    if getattr(results, "theory", "first-order") == "second-order":
+        lines.append("  theory     second order (P-Delta and P-delta); combinations analysed as their own load sets")
+    for name, modes in (getattr(results, "buckling", None) or {}).items():
+        factors = ", ".join(f"{m.factor:.3g}" for m in modes) or "none (no compression)"
+        lines.append(f"  alpha_cr   {name}: {factors}")
+    mass = getattr(results, "mass", None)
+    if mass is not None:
+        lines.append(f"  mass       {mass.total:.4g} kg ({', '.join(mass.sources)})")
+    for k, m in enumerate(getattr(results, "modes", None) or (), 1):
+        r = m.effective_mass_ratio
+        lines.append(f"  mode {k:<5} {m.frequency:.4g} Hz  T = {m.period:.4g} s  mass ratios x {r[0]:.3f} "
+                     f"y {r[1]:.3f} z {r[2]:.3f}")
+    return lines
 
 
 # --------------------------------------------------------------------------- commands
@@ -668,6 +736,10 @@ def _analyze(args, con) -> int:
             _check_output(path, args.input, what)
     _checks.check_distinct_outputs([("IFC output", out), ("JSON file", args.json), ("report", args.report)])
     _checks.check_solver(args.solver)
+    if getattr(args, "mass", None) and not getattr(args, "modes", 0):
+        from .errors import AnalysisError
+
+        raise AnalysisError("--mass adds mass for the natural modes: give --modes N as well")
     _remove_stale([out, args.json, args.report], con)
     model = _read(args, con)
     options = _options(args, model)

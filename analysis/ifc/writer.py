@@ -121,7 +121,8 @@ def idealisation_text(results) -> str:
     parts.append("shear deformation included" if opt.shear else "Euler-Bernoulli members (no shear deformation)")
     if opt.condense_pinned:
         parts.append("rotations at pinned ends condensed out")
-    parts.append("first-order linear elastic")
+    parts.append("second-order elastic (P-Delta and P-delta)" if getattr(results, "theory", "") == "second-order"
+                 else "first-order linear elastic")
     if results.solver:
         parts.append(f"solver {results.solver}")
     return "; ".join(parts)
@@ -397,6 +398,7 @@ class _Writer:
         self._write_member_psets()
         self._write_support_psets()
         self._write_summary_pset()
+        self._write_stability_pset()
 
     def summary(self, path: str) -> WriteSummary:
         return WriteSummary(path=path, schema=self.schema, route=self.route,
@@ -587,10 +589,12 @@ class _Writer:
             self.notes.append("IFC2X3 has no curve reactions: member internal forces are written to the "
                               "PF_MemberForces property sets only")
         chains = self._member_chains() if curve_ok else {}
+        second = getattr(res, "theory", "") == "second-order"
+        theory, linear = ("SECOND_ORDER_THEORY", False) if second else ("FIRST_ORDER_THEORY", True)
         for name, cr in res.cases.items():
             group = self._root("IfcStructuralResultGroup", Name=name, Description=TAG,
-                               TheoryType="FIRST_ORDER_THEORY", ResultForLoadGroup=self.load_groups.get(name),
-                               IsLinear=True)
+                               TheoryType=theory, ResultForLoadGroup=self.load_groups.get(name),
+                               IsLinear=linear)
             groups.append(group)
             self.counts["groups"] += 1
             reactions = []
@@ -828,6 +832,26 @@ class _Writer:
         if self.route != "structural":
             objects += self.f.by_type("IfcProject")[:1]
         self._pset("PF_AnalysisSummary", objects, props + self._common())
+
+    def _write_stability_pset(self) -> None:
+        """PF_StabilityAndModes on the analysis model: critical load factors, natural frequencies, modal masses."""
+        res = self.results
+        props: list[tuple[str, str, Any]] = []
+        for name, modes in (getattr(res, "buckling", None) or {}).items():
+            for k, mode in enumerate(modes, 1):
+                props.append((f"CriticalLoadFactor: {name} #{k}", "IfcReal", float(mode.factor)))
+        mass = getattr(res, "mass", None)
+        if mass is not None:
+            props.append(("TotalMass (kg)", "IfcReal", float(mass.total)))
+            props.append(("MassSources", "IfcText", "; ".join(mass.sources)))
+        for k, mode in enumerate(getattr(res, "modes", None) or (), 1):
+            props.append((f"Mode {k}: frequency (Hz)", "IfcReal", float(mode.frequency)))
+            props.append((f"Mode {k}: period (s)", "IfcReal", float(mode.period)))
+            for axis, ratio in zip("XYZ", mode.effective_mass_ratio):
+                props.append((f"Mode {k}: effective mass ratio {axis}", "IfcReal", float(ratio)))
+        if not props:
+            return
+        self._pset("PF_StabilityAndModes", [self.analysis_model], props + self._common())
 
 
 def _relative_deflection(stations, deflections, L: float) -> tuple[float, float]:

@@ -79,7 +79,7 @@ def test_json_follows_the_contract(analysed, name):
     assert doc["schema"] == "plumbframe.results/1"
     assert doc["units"] == {"length": "m", "force": "N", "moment": "N*m", "angle": "rad"}
     assert doc["dimension"] in (2, 3)
-    assert set(doc) == {"schema", "units", "dimension", "nodes", "members", "indeterminacy", "cases", "envelopes"}
+    assert set(doc) == {"schema", "units", "dimension", "nodes", "members", "indeterminacy", "cases", "envelopes", "theory"}
     assert set(doc["indeterminacy"]) >= {"kinematic", "static", "mechanisms", "terms", "notes"}
     for case in doc["cases"].values():
         assert case["kind"] in ("case", "combination")
