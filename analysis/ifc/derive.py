@@ -59,10 +59,12 @@ Nodes
     node or centre line is snapped to that node (or to a node on that
     centre line) and keeps its true position through a rigid offset
     (``Frame.offsets``); each such end is reported. The snap distance
-    follows the sections meeting there: half the larger section size
-    (bounding-box depth or width) of the two members, plus the tolerance,
-    so a beam stopping at a column face or a brace stopping at a gusset
-    plate reaches the axis it frames into. Ends of several members landing
+    follows the sections meeting there: half the sum of the two members'
+    section sizes (bounding-box depth or width; the distance at which
+    their faces touch, so never less than half the larger depth), plus the
+    tolerance. A beam stopping at a column face, a brace stopping at a
+    gusset plate on a chord, a joist resting on a wall plate below it
+    reach the axis they frame into. Ends of several members landing
     within the tolerance of one point of a centre line (beams framing into
     a column from both sides) share one node there.
 Members on one line
@@ -1183,7 +1185,7 @@ class _Deriver:
             first_end = np.full(node_count, -1, dtype=np.int64)
             first_end[end_node[::-1]] = np.arange(2 * m)[::-1]
             free = free[np.argsort(-kinds[end_elem[first_end[free]]], kind="stable")]
-            rmax = float(half.max()) + tol
+            rmax = 2.0 * float(half.max()) + tol
             near = ntree.query_ball_point(P[free], r=rmax)
             moved_away: set[int] = set()
             received: set[int] = set()
@@ -1197,8 +1199,8 @@ class _Deriver:
                     if c == node or c in elem_nodes[k] or c in moved_away or degree[c] == 0 and not on_span[c]:
                         continue
                     d = float(np.linalg.norm(P[c] - P[node]))
-                    # snap distance at this joint: half the larger section size of the members meeting, plus the tolerance
-                    if d <= max(node_half[c], half[k]) + tol and (best is None or d < best[0]):
+                    # snap distance at this joint: half the sum of the section sizes meeting (their faces touch), plus the tolerance
+                    if d <= node_half[c] + half[k] + tol and (best is None or d < best[0]):
                         best = (d, c)
                 target = None
                 if best is not None:
@@ -1289,7 +1291,12 @@ class _Deriver:
         elem_nodes_new = new_index[elem_nodes]
 
         # -- 7. supports, loose parts, member idealisation -------------------------
-        restraints = self._supports(elements, elem_nodes_new, nodes, A, B)
+        seg_dz = np.zeros((len(seg_elem), 2))  # rigid-offset z at the element ends of each segment
+        seg_first = np.array([s == 1 for s, _ in seg_index], dtype=bool)
+        seg_last = np.array([s == ns for s, ns in seg_index], dtype=bool)
+        seg_dz[seg_first, 0] = offsets[seg_elem_a[seg_first], 0, 2]
+        seg_dz[seg_last, 1] = offsets[seg_elem_a[seg_last], 1, 2]
+        restraints = self._supports(elements, elem_nodes_new, nodes, A, B, members, seg_elem_a, seg_dz)
         if self._loose_parts(elements, seg_elem_a, members, restraints):
             return None
         self._member_idealisation(elements, seg_elem_a, members, restraints, A, B, lengths)
@@ -1385,7 +1392,7 @@ class _Deriver:
             from scipy.spatial import cKDTree
 
             self._mid_tree = cKDTree(0.5 * (A + B))
-            self._mid_reach = float((0.5 * lengths + half).max()) + tol
+            self._mid_reach = float((0.5 * lengths + half).max() + half.max()) + tol
         cand = np.array(self._mid_tree.query_ball_point(x, r=self._mid_reach), dtype=np.int64)
         cand = cand[cand != k]
         if len(cand) == 0:
@@ -1393,8 +1400,8 @@ class _Deriver:
         d = B[cand] - A[cand]
         tv = np.clip(np.sum((x - A[cand]) * d, axis=1) / lengths[cand] ** 2, 0.0, 1.0)
         dist = np.linalg.norm(A[cand] + tv[:, None] * d - x, axis=1)
-        # snap distance: half the larger section size of the two members, plus the tolerance
-        ok = (dist <= np.maximum(half[cand], half[k]) + tol) & (tv * lengths[cand] > tol) & ((1 - tv) * lengths[cand] > tol)
+        # snap distance: half the sum of the two section sizes (their faces touch), plus the tolerance
+        ok = (dist <= half[cand] + half[k] + tol) & (tv * lengths[cand] > tol) & ((1 - tv) * lengths[cand] > tol)
         if not ok.any():
             return None
         j = int(np.flatnonzero(ok)[np.argmin(dist[ok])])
@@ -1491,7 +1498,7 @@ class _Deriver:
         return out
 
     # ------------------------------------------------------------------ supports
-    def _supports(self, elements, elem_nodes, nodes, A, B) -> np.ndarray:
+    def _supports(self, elements, elem_nodes, nodes, A, B, members=None, seg_elem=None, seg_dz=None) -> np.ndarray:
         """Restraints (n, 6) by the rules of the module docstring (Supports); each rule used is noted."""
         tol = self.tol
         n = len(nodes)
@@ -1534,11 +1541,20 @@ class _Deriver:
                          + f" (column bottoms {self.support_kind}, beam and member ends pinned)")
         # (c) nothing found: the lowest nodes, pinned
         if not restraints.any():
-            level = float(nodes[:, 2].min())
-            at_level = np.flatnonzero(np.abs(nodes[:, 2] - level) <= max(tol, 1e-9))
+            # the lowest elevation of the members' undersides (members of different depths sitting on one
+            # ground); every node whose underside lies there within the tolerance
+            under = nodes[:, 2].copy()
+            if members is not None and seg_elem is not None and len(members):
+                below = np.array([self._underside(k, A, B) for k in range(len(elements))])
+                dz = seg_dz if seg_dz is not None else np.zeros((len(members), 2))
+                # the members' true ends (node plus rigid offset) less the depth of their undersides
+                np.minimum.at(under, members[:, 0], nodes[members[:, 0], 2] + dz[:, 0] - below[seg_elem])
+                np.minimum.at(under, members[:, 1], nodes[members[:, 1], 2] + dz[:, 1] - below[seg_elem])
+            level = float(under.min())
+            at_level = np.flatnonzero(np.abs(under - level) <= max(tol, 1e-9))
             restraints[at_level, comps["pinned"]] = True
             parts.append(f"no column and no member end bearing on a wall, slab, footing or pile: the {len(at_level)} nodes "
-                         f"at the model's lowest elevation ({level:.4g} m), pinned")
+                         f"whose members' undersides lie at the model's lowest elevation ({level:.4g} m), pinned")
         fixed = restraints.all(axis=1)
         pinned = restraints.any(axis=1) & ~fixed
         kinds = " and ".join(k for k, c in (("fixed", fixed), ("pinned", pinned)) if c.any())
@@ -1552,11 +1568,13 @@ class _Deriver:
 
     @staticmethod
     def _fork_supports(elements, elem_nodes, A, B, restraints) -> int:
-        """At a pinned node where only horizontal members along one global axis X or Y end, hold their twist.
+        """At a pinned node where the horizontal members ending there all run along one global axis X or Y, hold their twist.
 
-        A beam resting on a bearing cannot roll over it (a fork support, common practice, no source); without
-        this, a beam pinned at both ends would turn freely about its own axis. Restraints are in world axes,
-        so members off the X and Y directions (by more than about 1 degree) get no fork.
+        A beam or a wall plate resting on a bearing cannot roll over it (a fork support, common practice, no
+        source); without this, a beam pinned at both ends would turn freely about its own axis. Vertical
+        members meeting there (studs on a sole plate) turn with the joint. Restraints are in world axes, so
+        horizontal members off the X and Y directions (by more than about 1 degree), or inclined members at
+        the node, give no fork.
         """
         pinned = restraints[:, :3].all(axis=1) & ~restraints[:, 3:].any(axis=1)
         if not pinned.any():
@@ -1569,8 +1587,10 @@ class _Deriver:
                 v = int(elem_nodes[k, e_])
                 if not pinned[v]:
                     continue
-                if abs(d[k, 2]) > 0.02:
-                    seen[v].add(-1)  # an inclined or vertical member: no fork here
+                if abs(d[k, 2]) > 0.9998:
+                    seen[v].add(-2)  # a vertical member: turns with the joint
+                elif abs(d[k, 2]) > 0.02:
+                    seen[v].add(-1)  # an inclined member: no fork here
                 elif abs(d[k, 0]) > 0.9998:
                     seen[v].add(3)
                 elif abs(d[k, 1]) > 0.9998:
@@ -1579,6 +1599,7 @@ class _Deriver:
                     seen[v].add(-1)
         count = 0
         for v, axes in seen.items():
+            axes = axes - {-2}
             if len(axes) == 1 and -1 not in axes:
                 restraints[v, next(iter(axes))] = True
                 count += 1
