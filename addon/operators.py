@@ -102,6 +102,9 @@ class PLUMBFRAME_OT_load_ifc(bpy.types.Operator):
         try:
             model = reader.read_ifc(path, model=None if model_choice in ("AUTO", "") else model_choice,
                                     merge_tolerance=settings.merge_tolerance,
+                                    select=settings.select_query or None, exclude=settings.exclude_query or None,
+                                    supports=[q.strip() for q in settings.supports_query.split(";") if q.strip()],
+                                    members=settings.members_as, strict=settings.strict,
                                     materials=bpy.path.abspath(settings.materials_path) if settings.materials_path else None)
         except analysis_error() as exc:
             self.report({"ERROR"}, str(exc))

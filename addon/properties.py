@@ -63,6 +63,22 @@ class PLUMBFRAME_PG_settings(bpy.types.PropertyGroup):
     materials_path: StringProperty(name="Material map", description="TOML file naming what the IFC materials are "
                                    "(names or globs to grades or values, a fallback per IFC class, a default for "
                                    "elements without material)", subtype="FILE_PATH", default="")
+    select_query: StringProperty(name="Select", default="",
+                                 description="Elements that make the frame, as an ifcopenshell selector query "
+                                             "(empty: load-bearing beams, columns and members)")
+    exclude_query: StringProperty(name="Exclude", default="",
+                                  description="Elements left out of the frame, as an ifcopenshell selector query")
+    supports_query: StringProperty(name="Supports", default="",
+                                   description="Elements whose lowest ends are supported, QUERY[:fixed|pinned]; "
+                                               "several separated by ';' (empty: the documented default)")
+    members_as: EnumProperty(name="Members", description="How IfcMember elements are idealised",
+                             items=(("auto", "Automatic", "Diagonals between two joints are pin-ended bars, studs and "
+                                                          "continuous members frame members"),
+                                    ("frame", "Frame members", "Every IfcMember has rigid ends"),
+                                    ("truss", "Truss bars", "Every IfcMember is a pin-ended axial bar")),
+                             default="auto")
+    strict: BoolProperty(name="Strict", default=False,
+                         description="An element that cannot become a member is an error instead of being left out")
     plane: EnumProperty(name="Frame type", description="How the frame is idealised",
                         items=(("AUTO", "Automatic", "Space frame, or a plane frame when the model is one"),
                                ("PLANE", "Plane frame", "Analyse in the frame's own plane (3 unknowns per joint)"),
