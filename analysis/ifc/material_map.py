@@ -150,7 +150,10 @@ def _spec(value: Any, where: str) -> MaterialSpec:
         if not isinstance(text, str) or not text.strip():
             raise ValueError(f"{where}: no grade given (write one, e.g. \"S355\", \"C30/37\", \"C24\", \"GL24h\", "
                              "or give E, G and density)")
-        grade = find_grade(text.strip())
+        try:
+            grade = find_grade(text.strip())
+        except ValueError as exc:
+            raise ValueError(f"{where}: {exc}") from None
         grade_name = grade.name
         values = {"E": grade.E, "G": grade.G, "density": grade.density}
         if grade.poisson is not None:
