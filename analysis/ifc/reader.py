@@ -225,6 +225,29 @@ class _ImpliedConnection:
         return False
 
 
+class _ImpliedNode:
+    """Stands in for an IfcStructuralPointConnection the file leaves out at member ends (joined by position)."""
+
+    AppliedCondition = None
+    ConditionCoordinateSystem = None
+
+    def __init__(self, key: int, name: str, point: Vec3):
+        self._key = key  # negative: never an entity id
+        self.Name = name
+        self.point = point
+        self.label = f"{name} at ({', '.join(f'{v:.4g}' for v in point)}) m"
+
+    def id(self) -> int:
+        return self._key
+
+    def is_a(self, name: str | None = None):
+        return "IfcStructuralPointConnection" if name is None else name in (
+            "IfcStructuralPointConnection", "IfcStructuralConnection", "IfcStructuralItem")
+
+    def get_argument(self, index: int) -> Any:
+        return self.Name if index == _ROOT_NAME else None
+
+
 class _ConnectionIndex:
     """Point connections found by position: a KD-tree over their world points, built once.
 
@@ -332,6 +355,7 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
             strict=strict, members=members)
         frame, diagnostics, derive_notes = derived.frame, derived.diagnostics, derived.notes
         physical = {mid: src for mid, src in zip(frame.member_ids, frame.member_sources) if src}
+        _check_magnitudes(frame, path)
         return IfcModel(frame=frame, diagnostics=source.diagnostics + list(diagnostics), route="physical", schema=schema,
                         analysis_models=[], path=path, units=scales, notes=notes + list(derive_notes), physical=physical,
                         source_stamp=source.stamp, left_out=list(derived.left_out))
@@ -344,6 +368,7 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
         notes.append(f"Read the structural analysis model {entity_label(chosen)}.")
     reader = _StructuralReader(ifc_file, chosen, scales, defaults)
     frame = reader.read()
+    _check_magnitudes(frame, path)
     plane = str(getattr(chosen, "PredefinedType", None) or "") == "IN_PLANE_LOADING_2D"
     if plane:
         notes.append(f"{entity_label(chosen)} declares in-plane 2D loading: analysed as a plane frame in its own "
@@ -351,6 +376,17 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
     return IfcModel(frame=frame, diagnostics=source.diagnostics + reader.diagnostics, route="structural", schema=schema,
                     analysis_models=listed, path=path, units=scales, notes=notes + reader.notes,
                     physical=reader.physical, plane=plane, source_stamp=source.stamp)
+
+
+def _check_magnitudes(frame: Frame, path: str) -> None:
+    """Every number finite and representable (`analysis.magnitudes`), as an IfcInputError naming the element."""
+    from ..errors import ModelError
+    from ..magnitudes import check_magnitudes
+
+    try:
+        check_magnitudes(frame)
+    except ModelError as exc:
+        raise IfcInputError(f"{path}: {exc}") from None
 
 
 def _open(path: str):
@@ -498,6 +534,10 @@ class _StructuralReader:
         self._line_forces: dict[int, np.ndarray] = {}
         self._conditions: dict[int, tuple[list[bool], list[float], list[Any]]] = {}
         self._connection_index: _ConnectionIndex | None = None
+        self._implied_nodes: list[_ImpliedNode] = []
+        self._implied_cells: dict[tuple[int, int, int], list[_ImpliedNode]] = {}
+        self._implied_by_vertex: dict[int, _ImpliedNode] = {}
+        self._implied_ends = 0
         self._member_relations: dict[int, list[tuple[Entity, Entity]]] | None = None
         self._action_kinds: dict[str, _ActionKind] = {}
         self._group_contents: dict[int, list[tuple[Entity, float]]] = {}
@@ -551,11 +591,27 @@ class _StructuralReader:
             key = (pkey, v.id())
             point = self._vertex_world.get(key)
             if point is None:
-                point = self._to_world(M, v.get_argument(_VERTEX_GEOMETRY).get_argument(_POINT_COORDINATES))
+                geometry = v.get_argument(_VERTEX_GEOMETRY)
+                coords = geometry.get_argument(_POINT_COORDINATES)
+                if len(coords) != 3 or not all(math.isfinite(c) and abs(c) < 1e8 / self.s.length for c in coords):
+                    self._bad_point(v, geometry, coords)
+                point = self._to_world(M, coords)
                 point.flags.writeable = False  # shared by every item that names the vertex
                 self._vertex_world[key] = point
             out.append(point)
         return out
+
+    def _bad_point(self, vertex: Entity, geometry: Entity, coords: Any) -> None:
+        """A vertex point of the analysis model that cannot be a 3-D node: error, unless a 2-D model pads it."""
+        text = ", ".join(f"{float(c):g}" for c in coords)
+        if len(coords) != 3:
+            if len(coords) == 2 and "2D" in str(getattr(self.model, "PredefinedType", "") or ""):
+                return  # a model declared 2-D: z = 0 is meant
+            raise IfcInputError(f"{entity_label(geometry)} (the point of vertex #{vertex.id()}): {len(coords)} "
+                                f"coordinates ({text}) where the 3-D analysis model needs 3; a missing coordinate "
+                                "would silently be read as 0", geometry.id())
+        raise IfcInputError(f"{entity_label(geometry)} (the point of vertex #{vertex.id()}): coordinates ({text}) "
+                            "are not finite or beyond 1e8 m", geometry.id())
 
     # -- main
     def read(self) -> Frame:
@@ -581,8 +637,16 @@ class _StructuralReader:
         b = FrameBuilder(name=str(self.model.Name or self.model.GlobalId))
         self.builder = b
         for c in conn_list:
+            if isinstance(c, _ImpliedNode):
+                b.add_node(self.node_ids[c.id()], c.point.tolist(), source=None, label=c.label)
+                continue
             b.add_node(self.node_ids[c.id()], self.node_xyz[c.id()].tolist(), source=str(c.get_argument(_GLOBAL_ID)), label=entity_label(c))
             self._support(c)
+        if self._implied_nodes:
+            self.warn(None, f"{self._implied_ends} member ends have no IfcStructuralPointConnection (nor a relation to "
+                            f"one): joined by position into {len(self._implied_nodes)} rigid joints without supports "
+                            f"({', '.join(n.Name for n in self._implied_nodes[:5])}"
+                            + (" ..." if len(self._implied_nodes) > 5 else "") + ")")
         self.cases = self._load_structure()
         need_density = any(any(v != 0 for v in case["self_weight"]) for case in self.cases.values())
         self.member_info: dict[int, dict] = {}
@@ -684,6 +748,29 @@ class _StructuralReader:
                     return it, it.EdgeStart, it.EdgeEnd
         return None
 
+    def _implied_node(self, vertex: Entity, point: Vec3) -> _ImpliedNode:
+        """The joint at a member end without a point connection: one per vertex entity or position (1e-6 relative)."""
+        node = self._implied_by_vertex.get(vertex.id())
+        if node is None:
+            tol = 1e-6 * max(1.0, float(np.abs(point).max()))
+            fx, fy, fz = (int(v) for v in np.floor(point / tol))
+            cell = (fx, fy, fz)
+            for dx in (-1, 0, 1):
+                for dy in (-1, 0, 1):
+                    for dz in (-1, 0, 1):
+                        for other in self._implied_cells.get((cell[0] + dx, cell[1] + dy, cell[2] + dz), ()):
+                            if node is None and float(np.linalg.norm(other.point - point)) <= tol:
+                                node = other
+            if node is None:
+                n = len(self._implied_nodes) + 1
+                node = _ImpliedNode(-n, f"J{n}-implied", np.array(point, dtype=float))
+                self._implied_nodes.append(node)
+                self._implied_cells.setdefault(cell, []).append(node)
+                self._points[node.id()] = node.point
+            self._implied_by_vertex[vertex.id()] = node
+        self._implied_ends += 1
+        return node
+
     def _is_point_connection(self, item: Entity) -> bool:
         key = item.id()
         known = self._point_kinds.get(key)
@@ -776,6 +863,10 @@ class _StructuralReader:
                 chosen[k], conns[k], rels[k] = -1, found, _ImpliedConnection(found)
                 self.warn(member, f"end {'ij'[k]} joins {entity_label(found)} by position: no "
                                   "IfcRelConnectsStructuralMember relates them (taken as a rigid joint)", "info")
+        for k in (0, 1):
+            if conns[k] is None:  # no point connection there at all: a joint by position (issue noted once)
+                node = self._implied_node((v_start, v_end)[k], p[k])
+                conns[k], rels[k] = node, _ImpliedConnection(node)
         conn_i, conn_j = conns
         if conn_i is None or conn_j is None:
             which = "start (end i)" if conn_i is None else "end (end j)"
@@ -1254,6 +1345,7 @@ class _StructuralReader:
             for obj, _ in self._contents(g):
                 if obj.is_a("IfcStructuralLoadGroup"):
                     nested_groups.add(obj.id())
+        self._check_dangling(groups)
         for g in groups:
             kind = self._kind(g)
             if kind == "LOAD_CASE":
@@ -1298,10 +1390,28 @@ class _StructuralReader:
             self.combinations.append(Combination(name, tuple(factors.items()), source=str(g.GlobalId)))
         return cases
 
+    def _check_dangling(self, groups) -> None:
+        """A load group whose assignment names an entity missing from the file would lose a term or an action."""
+        from .source import dangling_references
+
+        dangling = dangling_references(self.f)
+        if not dangling:
+            return
+        for g in groups:
+            for rel in _as_list(getattr(g, "IsGroupedBy", None)):
+                missing = dangling.get(rel.id())
+                if missing:
+                    what = "combination" if self._kind(g) == "LOAD_COMBINATION" else "load group"
+                    factor = f" (factor {float(rel.Factor):g})" if rel.is_a("IfcRelAssignsToGroupByFactor") and rel.Factor is not None else ""
+                    raise self.fail(g, f"the {what}'s assignment {entity_label(rel)}{factor} refers to "
+                                       + ", ".join(f"#{i}" for i in missing) + ", which is not in the file: the "
+                                       f"{what} would be incomplete; fix the reference")
+
     def _combination_terms(self, group, factor: float, cases: dict, out: dict, depth: int) -> None:
         for obj, f in self._contents(group):
             if not obj.is_a("IfcStructuralLoadGroup"):
-                continue
+                raise self.fail(group, f"term {entity_label(obj)} (factor {factor * f:g}) is not a load case: a "
+                                       "combination combines load cases; remove the term or point it at a case")
             if obj.id() in cases:
                 term = factor * f * (self._coefficient(obj) if self.is2x3 else 1.0)
                 name = cases[obj.id()]["name"]

@@ -1,0 +1,141 @@
+"""Finite, representable magnitudes: the check a frame passes before any matrix is built.
+
+A modulus of 1e-300 Pa, a line load of -1e300 N/m or a node at x = 1e300 m
+is a mistake in the file (a unit, a typo), not a structure: each overflows
+double precision somewhere in the stiffness matrix or the results, and then
+fails far from its cause. `check_magnitudes` names the value and its
+element instead.
+
+The bounds are deliberately wide (many orders of magnitude past any
+building or bridge; common practice, no source): they catch what cannot be
+computed, not what is merely unusual.
+"""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from .errors import ModelError
+from .model import Frame, LineLoad, PointLoad
+
+__all__ = ["check_magnitudes", "BOUNDS"]
+
+#: (lowest allowed magnitude of a non-zero value, highest), SI units.
+BOUNDS: dict[str, tuple[float, float]] = {
+    "coordinate": (0.0, 1e8),  # m: georeferenced coordinates reach 1e7
+    "E": (1e3, 1e14),  # Pa
+    "G": (1e3, 1e14),  # Pa
+    "A": (1e-12, 1e4),  # m2
+    "I": (0.0, 1e6),  # m4 (Iy, Iz, J)
+    "density": (0.0, 1e6),  # kg/m3
+    "force": (0.0, 1e13),  # N, N*m, N/m
+    "settlement": (0.0, 1e3),  # m or rad
+    "factor": (0.0, 1e4),  # combination factors, self-weight coefficients
+    "spring": (0.0, 1e30),  # N/m, N*m/rad
+}
+
+
+def _bad(value: float, kind: str, positive: bool = False) -> str | None:
+    """Why ``value`` cannot be used (None: it can)."""
+    if math.isnan(value):
+        return "is not a number (NaN)"
+    if math.isinf(value):
+        return "is infinite"
+    low, high = BOUNDS[kind]
+    a = abs(value)
+    if positive and value <= 0.0:
+        return f"is {value:g}, not positive"
+    if a > high:
+        return f"is {value:g}, beyond {high:g} (SI units)"
+    if a != 0.0 and a < low:
+        return f"is {value:g}, below {low:g} (SI units)"
+    return None
+
+
+def _label(labels: tuple[str, ...], ids: tuple[str, ...], k: int, what: str) -> str:
+    if k < len(labels) and labels[k] and labels[k] != ids[k]:
+        return labels[k]
+    return f"{what} {ids[k]}"
+
+
+def check_magnitudes(frame: Frame) -> None:
+    """Raise `ModelError` naming the first value that is not finite or beyond `BOUNDS`.
+
+    Checks node coordinates, E, G, A, Iy, Iz, J, density, springs, every
+    load, settlement and self-weight coefficient, and combination factors.
+    The message names the member or node by its entity label where the frame
+    has one (``#92 IfcStructuralCurveMember 'C1' (GlobalId ...)``).
+    """
+    nodes = np.asarray(frame.nodes, dtype=float)
+    if nodes.size:
+        bad = ~np.isfinite(nodes) | (np.abs(nodes) > BOUNDS["coordinate"][1])
+        if bad.any():
+            i, c = (int(v) for v in np.argwhere(bad)[0])
+            why = _bad(float(nodes[i, c]), "coordinate")
+            raise ModelError(f"{_label(frame.node_labels, frame.node_ids, i, 'node')}: coordinate {'xyz'[c]} {why}")
+    member_checks = (("E", frame.E, "E", True), ("G", frame.G, "G", True), ("A", frame.A, "A", True),
+                     ("Iy", frame.Iy, "I", False), ("Iz", frame.Iz, "I", False), ("J", frame.J, "I", False),
+                     ("density", frame.density, "density", False))
+    for name, values, kind, positive in member_checks:
+        arr = np.asarray(values, dtype=float)
+        if not arr.size:
+            continue
+        low, high = BOUNDS[kind]
+        a = np.abs(arr)
+        bad = ~np.isfinite(arr) | (a > high) | ((a != 0) & (a < low)) | (arr < 0)
+        if positive:
+            bad |= arr <= 0
+        if name == "G" and len(frame.truss) == arr.size:  # an axial bar may leave G at 0 (it is not used)
+            bad &= ~((arr == 0) & np.asarray(frame.truss, dtype=bool))
+        if bad.any():
+            k = int(np.flatnonzero(bad)[0])
+            v = float(arr[k])
+            why = _bad(v, kind, positive) or (f"is {v:g}, negative" if v < 0 else f"is {v:g}")
+            raise ModelError(f"{_label(frame.member_labels, frame.member_ids, k, 'member')}: {name} {why}")
+    springs = np.asarray(frame.springs, dtype=float)
+    if springs.size:
+        bad = ~np.isfinite(springs) | (springs < 0) | (springs > BOUNDS["spring"][1])
+        if bad.any():
+            i, c = (int(v) for v in np.argwhere(bad)[0])
+            raise ModelError(f"{_label(frame.node_labels, frame.node_ids, i, 'node')}: support spring {c + 1} "
+                             f"{_bad(float(springs[i, c]), 'spring') or f'is {springs[i, c]:g}, negative'}")
+    for case in frame.load_cases:
+        _check_case(case)
+    for combo in frame.combinations:
+        for name, factor in combo.factors:
+            why = _bad(float(factor), "factor")
+            if why:
+                raise ModelError(f"combination {combo.name!r}" + (f" ({combo.source})" if combo.source else "")
+                                 + f": the factor of {name!r} {why}")
+
+
+def _where(case, source) -> str:
+    return f"load case {case.name!r}" + (f", action with GlobalId {source}" if source else "")
+
+
+def _check_case(case) -> None:
+    for k, c in enumerate(case.self_weight):
+        why = _bad(float(c), "factor")
+        if why:
+            raise ModelError(f"load case {case.name!r}" + (f" ({case.source})" if case.source else "")
+                             + f": self-weight coefficient {'xyz'[k]} {why}")
+    for load in case.nodal:
+        for v in load.values:
+            why = _bad(float(v), "force")
+            if why:
+                raise ModelError(f"{_where(case, load.source)}: a load on node {load.node} {why}")
+    for m in case.member:
+        values: list[float] = []
+        if isinstance(m, LineLoad):
+            values = [float(m.w1)] + ([float(m.w2)] if m.w2 is not None else [])
+        elif isinstance(m, PointLoad):
+            values = [float(m.value)]
+        for v in values:
+            why = _bad(v, "force")
+            if why:
+                raise ModelError(f"{_where(case, m.source)}: a load on member {m.member} {why}")
+    for s in case.settlements:
+        why = _bad(float(s.value), "settlement")
+        if why:
+            raise ModelError(f"{_where(case, s.source)}: the settlement of node {s.node} ({s.dof}) {why}")
