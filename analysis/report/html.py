@@ -143,7 +143,7 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
              "<body><main>", f"<h1>{_e(title)}</h1>", f"<div class='caution'>{_e(CAUTION)}</div>"]
     parts.append("<nav><a href='#overview'>Model</a><a href='#indeterminacy'>Indeterminacy</a>"
                  "<a href='#cases'>Load cases and combinations</a><a href='#members'>Member forces</a>"
-                 "<a href='#equilibrium'>Equilibrium</a><a href='#notes'>Notes and defaults</a></nav>")
+                 "<a href='#stability'>Stability and dynamics</a><a href='#equilibrium'>Equilibrium</a><a href='#notes'>Notes and defaults</a></nav>")
     supports = int((frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1)).sum())
     route = getattr(model, "route", "")
     meta = [("Input file", path or "–"), ("Schema", getattr(model, "schema", "–")),
@@ -231,6 +231,10 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
         heads += [f"{a} min", f"{a} max"]
     heads += ["δ [mm]", "span/δ", "governing moment"]
     parts.append(_table(heads, _member_rows(results)))
+
+    from .stability import stability_section
+
+    parts.append(stability_section(results, plots))
 
     parts.append("<h2 id='equilibrium'>Equilibrium check</h2>")
     parts.append("<p>Relative residual |Σ loads + Σ reactions| / Σ |forces| of the whole structure, "
