@@ -24,7 +24,7 @@ from dataclasses import dataclass, field
 import ifcopenshell
 import ifcopenshell.guid
 
-__all__ = ["SAMPLES", "SAMPLE_SCHEMAS", "build_sample", "write_sample", "main"]
+__all__ = ["SAMPLES", "SAMPLE_SCHEMAS", "build_sample", "write_sample", "build_frame", "main"]
 
 SAMPLES: dict[str, str] = {
     "workshop_portal": (
@@ -1029,6 +1029,51 @@ def _unstable_frame(sample: str, schema: str, units: str) -> ifcopenshell.file:
     w.member("B1", "N3", "N4", beam, "RIGID_JOINED_MEMBER", end_conditions={"N3": hinge, "N4": hinge})
     h = w.load_case("H sway", "VARIABLE_Q", "WIND_W")
     w.point_load(h, "N3", fx=10000.0)
+    return w.finish()
+
+
+def build_frame(bays: int = 2, storeys: int = 2, bay: float = 6.0, height: float = 3.5,
+                name: str | None = None, schema: str = "IFC4") -> ifcopenshell.file:
+    """A plane multi-bay, multi-storey steel frame of any size, as a structural analysis model.
+
+    Not one of the committed samples: the batch benchmark and tests generate models of
+    varied sizes with it. Columns on grid lines x = 0, bay, ..., bays * bay (m) in the
+    world XZ plane, fixed bases, rigid joints, floors every ``height``; dead and imposed
+    line loads on every beam, a wind point load at the left end of every floor, and two
+    ULS combinations. Deterministic like the samples (GlobalIds from ``name``).
+    """
+    if bays < 1 or storeys < 1:
+        raise ValueError(f"bays and storeys must be at least 1, not {bays} and {storeys}")
+    key = name or f"frame_{bays}x{storeys}"
+    w = _Writer(key, schema, "SI")
+    w.header("ViewDefinition [StructuralAnalysisView]")
+    w.project(f"Frame {bays} x {storeys}", f"{bays}-bay, {storeys}-storey steel frame (invented scenario).")
+    L = w.u.length_m
+    w.spatial([("Level 0", L(0.0))] + [(f"Level {k}", L(k * height)) for k in range(1, storeys + 1)])
+    w.analysis_model(f"Frame {bays} x {storeys}", "LOADING_3D")
+    steel = w.steel("Steel S355", 355e6)
+    col = w.section("COL I300", w.i_profile("I 300x300x11x19", 300, 300, 11, 19, 27), steel, 10)
+    beam = w.section("BEAM I400", w.i_profile("I 400x180x8.6x13.5", 400, 180, 8.6, 13.5, 21), steel, 10)
+    for k in range(storeys + 1):
+        for i in range(bays + 1):
+            w.node(f"N{i}-{k}", (i * bay, 0.0, k * height), _FIXED if k == 0 else None, "fixed base" if k == 0 else None)
+    for k in range(storeys):
+        for i in range(bays + 1):
+            w.member(f"C{i}-{k + 1}", f"N{i}-{k}", f"N{i}-{k + 1}", col, "RIGID_JOINED_MEMBER")
+    for k in range(1, storeys + 1):
+        for i in range(bays):
+            w.member(f"B{i + 1}-{k}", f"N{i}-{k}", f"N{i + 1}-{k}", beam, "RIGID_JOINED_MEMBER")
+    g = w.load_case("G dead", "PERMANENT_G", "DEAD_LOAD_G", self_weight=(0.0, 0.0, -1.0))
+    q = w.load_case("Q imposed", "VARIABLE_Q", "LIVE_LOAD_Q")
+    wind = w.load_case("W wind", "VARIABLE_Q", "WIND_W")
+    for k in range(1, storeys + 1):
+        for i in range(bays):
+            w.line_load(g, f"B{i + 1}-{k}", -15000.0 if k < storeys else -10000.0)
+            w.line_load(q, f"B{i + 1}-{k}", -12000.0 if k < storeys else -4000.0)
+        w.point_load(wind, f"N0-{k}", fx=4000.0 * k / storeys + 2000.0)
+    if schema != "IFC2X3":
+        w.combination("ULS 1", "ULS", [(1.35, [g]), (1.5, [q])])
+        w.combination("ULS 2", "ULS", [(1.35, [g]), (1.5, [wind]), (1.05, [q])])
     return w.finish()
 
 
