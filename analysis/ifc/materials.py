@@ -687,7 +687,9 @@ class MaterialResolver:
 
         ``key``, when given, is what alone decides the element's material (its
         material association, or its type's): elements with the same key share
-        the work. Raises `IfcInputError` only for a composite (several materials).
+        the work. Of several materials (a layer or constituent set, a list), the one load-bearing
+        material (with file values, a map entry or a grade name) is used, with a warning; otherwise the
+        combination is unknown (the map can name it: ``"Steel + Paint"``).
         """
         cls = element.is_a()
         rkey = None if key is None else (key, cls, need_density, need_shear)
@@ -781,17 +783,32 @@ class MaterialResolver:
         if not found:
             return self._resolve_absent(definition, cls, need_density, need_shear)
         distinct = {m.id(): m for _, m in found}
+        extra: list[tuple[str, str]] = []
         if len(distinct) > 1:
-            names = ", ".join(entity_label(m) for m in distinct.values())
-            raise IfcInputError(f"{entity_label(element)}: several materials ({names}): composite members are not supported",
-                                element.id())
-        chain, mat = found[0]
-        vkey = (mat.id(), tuple(h.id() for h in chain))
-        values = self._values.get(vkey)
-        if values is None:
-            raw = material_values(self.f, mat, self.scales, holders=tuple(reversed(chain)))
-            values = {k: raw[n] for k, n in _VALUE_WORDS.items() if n in raw}
-            self._values[vkey] = values
+            names = [str(m.Name or f"#{m.id()}").strip() for m in distinct.values()]
+            joined = " + ".join(names)
+            hit = self.map.for_name(joined) if self.map is not None else None
+            if hit is not None:  # the map names the combination itself
+                return self._combine([self._map_provider(hit[1], f"'{hit[0]}'")],  # type: ignore[list-item]
+                                     f"{{label}}: materials '{joined}'", joined, joined, need_density, need_shear)
+            # a load-bearing material beside finishes (steel + paint, timber + insulation): that one is used
+            bearing: dict[int, tuple[list, Any]] = {}
+            for chain_k, mat_k in found:
+                name_k = str(mat_k.Name or "").strip()
+                if ("E" in self._values_of(chain_k, mat_k)
+                        or (self.map is not None and self.map.for_name(name_k) is not None)
+                        or recognise_grade(name_k, getattr(mat_k, "Category", None) if hasattr(mat_k, "Category") else None)):
+                    bearing.setdefault(mat_k.id(), (chain_k, mat_k))
+            if len(bearing) != 1:
+                return _Resolution(None, (), (joined, f"several materials ({', '.join(repr(n) for n in names)}) and "
+                                              + ("none" if not bearing else "more than one") + " of them identified as "
+                                              "the load-bearing one (the map can name the combination)"))
+            chain, mat = next(iter(bearing.values()))
+            extra.append(("warning", f"{{label}}: several materials ({', '.join(repr(n) for n in names)}): the "
+                                     f"load-bearing one, '{str(mat.Name or '').strip()}', is used for the whole section"))
+        else:
+            chain, mat = found[0]
+        values = self._values_of(chain, mat)
         name = str(mat.Name).strip() if mat.Name is not None else ""
         category = getattr(mat, "Category", None) if hasattr(mat, "Category") else None
         providers: list[_Provider] = [_Provider("file", values, "the file", "info")]
@@ -814,8 +831,21 @@ class MaterialResolver:
             providers.append(_Provider("default", _grade_values(g),
                                        f"the default grade {g.name} ({g.standard}) for the word '{match.text}' (no grade in the name)",
                                        "warning", g.name))
-        return self._combine(providers, f"{{label}}: material '{name or f'#{mat.id()}'}'", name or f"#{mat.id()}",
-                             name, need_density, need_shear)
+        found_ = self._combine(providers, f"{{label}}: material '{name or f'#{mat.id()}'}'", name or f"#{mat.id()}",
+                               name, need_density, need_shear)
+        if extra and found_.material is not None:
+            found_ = _Resolution(found_.material, tuple(extra) + found_.messages, None, found_.summary)
+        return found_
+
+    def _values_of(self, chain: list, mat) -> dict[str, float]:
+        """The file's SI values (keys E, G, nu, density) of a material as held by ``chain`` (cached)."""
+        vkey = (mat.id(), tuple(h.id() for h in chain))
+        values = self._values.get(vkey)
+        if values is None:
+            raw = material_values(self.f, mat, self.scales, holders=tuple(reversed(chain)))
+            values = {k: raw[n] for k, n in _VALUE_WORDS.items() if n in raw}
+            self._values[vkey] = values
+        return values
 
     def _resolve_absent(self, definition, cls: str, need_density: bool, need_shear: bool) -> _Resolution:
         why = (f"{entity_label(definition)} holds no IfcMaterial" if definition is not None
@@ -950,9 +980,8 @@ def element_material(ifc_file, element, scales, defaults=None, *, need_density: 
 
     Raises
     ------
-    IfcInputError
-        Several different materials (composite), or `UnknownMaterialsError`
-        when the material cannot be identified.
+    UnknownMaterialsError
+        The material (or, of several, the load-bearing one) cannot be identified.
     """
     resolver = None
     ckey = ("resolver", id(defaults), id(materials))

@@ -361,3 +361,43 @@ def test_route_1_unknown_material_report(tmp_path):
     assert "YoungModulus" in missing
     fr = read_ifc(path, materials=parse_material_map({"materials": {"Solid": "S355"}})).frame
     assert set(fr.material_sources) == {"user map"}
+
+
+# --------------------------------------------------------------------------- several materials
+@pytest.mark.parametrize("schema", ["IFC2X3", "IFC4"])
+def test_several_materials_the_load_bearing_one_or_the_report(schema, tmp_path):
+    m = Portal(schema)
+    f = m.f
+
+    def several(*materials):
+        if schema == "IFC2X3":
+            return f.create_entity("IfcMaterialList", Materials=list(materials))
+        return f.create_entity("IfcMaterialConstituentSet", MaterialConstituents=[
+            f.create_entity("IfcMaterialConstituent", Material=mat) for mat in materials])
+
+    painted = several(m.material("S275J0"), m.material("Paint, grey"))
+    finishes = several(m.material("Paint"), m.material("Wall finish"))
+    m.element("IfcColumn", "C1", (0, 0, 0), (0, 0, 3), painted)
+    m.element("IfcColumn", "C2", (5, 0, 0), (5, 0, 3), finishes)
+    m.element("IfcBeam", "B1", (0, 0, 3), (5, 0, 3), painted)
+    path = m.write(tmp_path / "s.ifc")
+    with pytest.raises(UnknownMaterialsError, match=r"'Paint \+ Wall finish': 1 element") as info:
+        read_ifc(path)
+    assert [u[0] for u in info.value.unknown] == ["Paint + Wall finish"]  # the painted steel is not in the report
+    result = read_ifc(path, materials=parse_material_map({"materials": {"Paint + Wall*": "C30/37"}}))
+    fr = result.frame
+    k1, k2 = member_of(fr, "C1"), member_of(fr, "C2")
+    assert (fr.material_names[k1], fr.material_sources[k1], fr.E[k1]) == ("S275J0", "grade table", 210e9)
+    assert fr.material_sources[k2] == "user map" and fr.E[k2] == grade_table()["C30/37"].E
+    assert any(d.level == "warning" and "the load-bearing one, 'S275J0'" in d.message
+               for d in result.diagnostics if d.entity_id == m.elements["C1"].id())
+
+
+def test_the_readme_example_is_a_valid_map():
+    import pathlib
+
+    text = (pathlib.Path(__file__).resolve().parents[2] / "README.md").read_text(encoding="utf-8")
+    section = text[text.index("## Materials"):]
+    block = section[section.index("```toml") + len("```toml"):]
+    mm = parse_material_map(tomllib.loads(block[:block.index("```")]), "README.md")
+    assert mm.default is not None and mm.names and mm.classes
