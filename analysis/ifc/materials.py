@@ -16,10 +16,17 @@ the occurrence has none, from its type through ``IfcRelDefinesByType``):
   named like the IFC4 property sets.
 
 Every value is converted to SI with the file's `UnitScales` (a property
-with its own ``Unit`` uses that unit). A value the file does not give is
-taken from the user's defaults when given, and every default used is
-reported as a `Diagnostic` naming the element; otherwise the error names the
-element and the material.
+with its own ``Unit`` uses that unit). A value the file does not give comes
+from the user's material map (`analysis.ifc.material_map`), from a trade
+grade named by the material (`recognise_grade`, over the package's table
+``analysis/data/material_grades.csv``: EN 10025 and ASTM steels, EN 1992
+concrete, EN 338 and EN 14080 timber, EN 1999 aluminium, each row with its
+source), from the caller's defaults, or from the documented defaults
+(`FAMILY_DEFAULTS` for a bare word such as "Steel", `NO_MATERIAL_DEFAULTS`
+for an element without material); `MaterialResolver` gives the order. Every
+value not from the file is reported as a `Diagnostic` naming the element; a
+material that stays unknown goes into one report of all of them
+(`UnknownMaterialsError`) with a material-map snippet to fill in.
 
 The profile comes from ``IfcMaterialProfileSetUsage`` (with its
 ``CardinalPoint``) or ``IfcMaterialProfileSet`` (IFC4+), or from
