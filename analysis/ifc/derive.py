@@ -75,8 +75,9 @@ Members on one line
     needs its own profile in the file), the density weighted so the weight
     is the sum of theirs, the axis on their stiffness-weighted mean line
     through the end offsets; each merge is reported. Elements of the same
-    class and section lying on the same line within the tolerance are the
-    same element twice: the second is left out as a duplicate.
+    class and section whose ends coincide within 1 mm (or the tolerance,
+    if smaller) are the same element twice: the second is left out as a
+    duplicate.
 Supports
     ``support_level`` (m) given: every node at that level, 'fixed' unless
     ``defaults.support == 'pinned'``. ``supports`` (selector queries with
@@ -171,6 +172,7 @@ CONNECTION_WORDS = (
 )
 
 _LIST_LIMIT = 40  # names listed in one note before "and N more"
+_SAME_PLACE = 0.001  # m: two elements of one class and section whose ends are this close are one element twice
 
 
 # --------------------------------------------------------------------------- options
@@ -603,7 +605,7 @@ def derive_frame_details(ifc_file, *, scales=None, merge_tolerance: float = 0.01
 def derive_frame(ifc_file, *, scales=None, merge_tolerance: float = 0.01, support_level: float | None = None,
                  defaults: Any = None, area_loads: Sequence[tuple] | None = None, select: str | None = None,
                  exclude: str | None = None, supports: Sequence[str] = (), strict: bool = False,
-                 ) -> tuple[Frame, list[Diagnostic], list[str]]:
+                 members: str | None = None) -> tuple[Frame, list[Diagnostic], list[str]]:
     """Derive the analytical frame of a file's physical beams, columns and members.
 
     Parameters
@@ -635,6 +637,9 @@ def derive_frame(ifc_file, *, scales=None, merge_tolerance: float = 0.01, suppor
         supported (module docstring, Supports); replaces the default rule.
     strict : bool
         Every element left out (module docstring) is an error instead.
+    members : str, optional
+        'auto' | 'truss' | 'frame': the ``IfcMember`` idealisation (overrides
+        ``defaults.members``; module docstring, End releases).
 
     Returns
     -------
@@ -652,7 +657,7 @@ def derive_frame(ifc_file, *, scales=None, merge_tolerance: float = 0.01, suppor
         ``area_loads``. The message names the entity.
     """
     return _Deriver(ifc_file, scales, merge_tolerance, support_level, defaults, area_loads, select=select,
-                    exclude=exclude, support_queries=tuple(supports), strict=strict).run()
+                    exclude=exclude, support_queries=tuple(supports), strict=strict, members=members).run()
 
 
 _EYE4 = np.eye(4)
@@ -1195,19 +1200,26 @@ class _Deriver:
                 e = int(first_end[node])
                 k, end = int(end_elem[e]), int(e >= m)
                 best = None
+                loose = None  # the nearest other free end: taken only when no joint and no centre line is in reach
                 for c in cands:
                     if c == node or c in elem_nodes[k] or c in moved_away or degree[c] == 0 and not on_span[c]:
                         continue
                     d = float(np.linalg.norm(P[c] - P[node]))
                     # snap distance at this joint: half the sum of the section sizes meeting (their faces touch), plus the tolerance
-                    if d <= node_half[c] + half[k] + tol and (best is None or d < best[0]):
-                        best = (d, c)
+                    if d <= node_half[c] + half[k] + tol:
+                        if degree[c] > 1 or on_span[c] or c in received:
+                            if best is None or d < best[0]:
+                                best = (d, c)
+                        elif loose is None or d < loose[0]:
+                            loose = (d, c)
                 target = None
                 if best is not None:
                     target = best[1]
                 else:
-                    # the centre line of another member within its half size
+                    # the centre line of another member within the snap distance
                     lines = self._nearest_line(A, B, lengths, half, P[node], k, tol)
+                    if lines is None and loose is not None:
+                        target = loose[1]
                     if lines is not None:
                         s, tv, d = lines
                         point = A[s] + tv * (B[s] - A[s])
@@ -1797,11 +1809,11 @@ class _Deriver:
                 elif inline is not None:
                     why, bar = f"continued in line by {elements[inline[1]].label}", False
                 else:
-                    why, bar = "a diagonal between two joints" + (f" ({word[1]})" if word is not None else ""), True
+                    why, bar = "a bar between two joints" + (f" ({word[1]})" if word is not None else ""), True
             self.truss[k] = bar
             (bars if bar else frames).append(el.label)
             self.diagnostics.append(Diagnostic("info", el.eid, f"{el.label}: {'pin-ended axial bar (truss)' if bar else 'frame member (rigid ends)'}: {why}"))
-        self.notes.append(f"IfcMember idealisation (--members auto): {len(bars)} pin-ended axial bars (diagonals between two "
+        self.notes.append(f"IfcMember idealisation (--members auto): {len(bars)} pin-ended axial bars (bars between two "
                           f"joints), {len(frames)} frame members (framing types, continuous or free-ended members); "
                           "the reason per element is in the diagnostics.")
 
@@ -1820,8 +1832,9 @@ class _Deriver:
                     continue
                 same = max(np.linalg.norm(A[k] - A[k0]), np.linalg.norm(B[k] - B[k0]))
                 flip = max(np.linalg.norm(A[k] - B[k0]), np.linalg.norm(B[k] - A[k0]))
-                if min(same, flip) <= self.tol:
-                    self._leave_out(elements[k], f"duplicate: the same class, section and line as {elements[k0].label}")
+                if min(same, flip) <= min(self.tol, _SAME_PLACE):
+                    self._leave_out(elements[k], f"duplicate: the same class, section and line (within "
+                                                 f"{min(self.tol, _SAME_PLACE) * 1000:.3g} mm) as {elements[k0].label}")
                     found = True
         return found
 

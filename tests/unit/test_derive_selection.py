@@ -1,0 +1,298 @@
+"""analysis.ifc.derive and analysis.ifc.selection: which elements make the frame, what is left out,
+supports when the file declares none, joints in detailing models, members on one line, IfcMember idealisation.
+
+Small IFC4 files are built with ifcopenshell (the `Physical` builder of test_derive); expectations are hand
+geometry and statics (the supports carry the whole weight: sum of reactions = rho g sum(A L), common practice,
+no source).
+"""
+from __future__ import annotations
+
+import numpy as np
+import pytest
+
+from analysis import analyze
+from analysis.errors import IfcInputError
+from analysis.model import STANDARD_GRAVITY
+from test_derive import BEAM, COL, RHO, Physical, node_at, portal
+
+G = STANDARD_GRAVITY
+
+
+def _pset(m, element, pset_name, **values):
+    f = m.f
+    props = [f.create_entity("IfcPropertySingleValue", Name=k, NominalValue=f.create_entity("IfcBoolean", v))
+             for k, v in values.items()]
+    pset = f.create_entity("IfcPropertySet", GlobalId=m.gid(), Name=pset_name, HasProperties=props)
+    f.create_entity("IfcRelDefinesByProperties", GlobalId=m.gid(), RelatedObjects=[element], RelatingPropertyDefinition=pset)
+    return pset
+
+
+def _wall(m, corner, size, height):
+    """An IfcWall: a box from ``corner`` (x, y, z bottom, m) of plan ``size`` (dx, dy) and ``height``."""
+    f = m.f
+    dx, dy = size
+    prof = f.create_entity("IfcRectangleProfileDef", ProfileType="AREA", XDim=dx * m.L, YDim=dy * m.L,
+                           Position=f.create_entity("IfcAxis2Placement2D", Location=m.pt((dx / 2 * m.L, dy / 2 * m.L))))
+    solid = f.create_entity("IfcExtrudedAreaSolid", SweptArea=prof, Position=m.axis2(),
+                            ExtrudedDirection=f.create_entity("IfcDirection", DirectionRatios=[0.0, 0.0, 1.0]), Depth=height * m.L)
+    rep = f.create_entity("IfcShapeRepresentation", ContextOfItems=m.ctx_body, RepresentationIdentifier="Body",
+                          RepresentationType="SweptSolid", Items=[solid])
+    pl = f.create_entity("IfcLocalPlacement", RelativePlacement=m.axis2(tuple(v * m.L for v in corner)))
+    return f.create_entity("IfcWall", GlobalId=m.gid(), Name="W", ObjectPlacement=pl,
+                           Representation=f.create_entity("IfcProductDefinitionShape", Representations=[rep]))
+
+
+def _weight(fr):
+    return RHO * G * float(np.sum(fr.A * fr.lengths))
+
+
+def _reaction_z(fr):
+    res = analyze(fr)
+    return res.cases["Self-weight"].reactions[:, 2].sum()
+
+
+# --------------------------------------------------------------------------- selection
+def test_non_load_bearing_element_is_not_part_of_the_frame():
+    m = portal()
+    rail = m.element("IfcBeam", "Rail", (0, 0, 1), (6, 0, 1), BEAM)
+    _pset(m, rail, "Pset_BeamCommon", LoadBearing=False)
+    fr, diags, notes = m.derive()
+    assert set(fr.member_ids) == {"C1", "C2", "B1"}
+    assert any("1 IfcBeam with LoadBearing false in Pset_BeamCommon" in n for n in notes)
+    # the type object's value counts too, and the occurrence's own value wins over it
+    m = portal()
+    beam = m.element("IfcBeam", "Typed", (0, 0, 1), (6, 0, 1), BEAM)
+    btype = m.f.create_entity("IfcBeamType", GlobalId=m.gid(), Name="T", PredefinedType="BEAM")
+    m.f.create_entity("IfcRelDefinesByType", GlobalId=m.gid(), RelatedObjects=[beam], RelatingType=btype)
+    tp = m.f.create_entity("IfcPropertySet", GlobalId=m.gid(), Name="Pset_BeamCommon", HasProperties=[
+        m.f.create_entity("IfcPropertySingleValue", Name="LoadBearing", NominalValue=m.f.create_entity("IfcBoolean", False))])
+    btype.HasPropertySets = [tp]
+    fr, _, _ = m.derive()
+    assert "Typed" not in fr.member_ids
+    _pset(m, beam, "Pset_BeamCommon", LoadBearing=True)
+    fr, _, _ = m.derive()
+    assert "Typed" in fr.member_ids
+
+
+def test_mullions_and_parts_of_railings_are_not_frame_members():
+    m = portal()
+    m.element("IfcMember", "Mullion", (1, 0, 0), (1, 0, 4), (0.05, 0.1), predefined="MULLION")
+    post = m.element("IfcMember", "Post", (2, 0, 0), (2, 0, 1), (0.05, 0.05), predefined="POST")
+    railing = m.f.create_entity("IfcRailing", GlobalId=m.gid(), Name="Handrail")
+    m.f.create_entity("IfcRelAggregates", GlobalId=m.gid(), RelatingObject=railing, RelatedObjects=[post])
+    fr, _, notes = m.derive()
+    assert set(fr.member_ids) == {"C1", "C2", "B1"}
+    note = next(n for n in notes if n.startswith("Not read as frame members"))
+    assert "1 IfcMember of predefined type MULLION" in note and "1 IfcMember that is part of an IfcRailing" in note
+
+
+def test_selector_queries_include_and_exclude():
+    m = portal()
+    m.element("IfcMember", "Mullion", (1, 0, 0), (1, 0, 4), (0.05, 0.1), predefined="MULLION")
+    fr, _, _ = m.derive(select="IfcColumn, IfcMember")  # the query replaces the default rule: the mullion is read
+    assert set(fr.member_ids) == {"C1", "C2", "Mullion"}
+    fr, _, notes = m.derive(exclude="IfcBeam, Name=B1")
+    assert set(fr.member_ids) == {"C1", "C2"}
+    assert any("1 excluded by --exclude" in n for n in notes)
+    with pytest.raises(IfcInputError, match=r"--select 'IfcBeam, \(\(': not a valid ifcopenshell selector query"):
+        m.derive(select="IfcBeam, ((")
+    with pytest.raises(IfcInputError, match="finds no element"):
+        m.derive(select="IfcSlab")
+
+
+# --------------------------------------------------------------------------- left out
+def test_loose_part_is_left_out_and_strict_makes_it_an_error():
+    m = portal()
+    m.element("IfcBeam", "Loose", (20, 0, 3), (26, 0, 3), BEAM)  # touches nothing
+    fr, diags, notes = m.derive()
+    assert set(fr.member_ids) == {"C1", "C2", "B1"} and fr.n_nodes == 4
+    loose = m.f.by_type("IfcBeam")[1]
+    assert any(d.entity_id == loose.id() and d.level == "warning" and loose.GlobalId in d.message
+               and "left out — connected to no support" in d.message for d in diags)
+    assert any("1 connected to no support" in n for n in notes)
+    with pytest.raises(IfcInputError, match=r"(?s)1 element\(s\) cannot become members.*#\d+ IfcBeam 'Loose'.*connected to no support") as exc:
+        m.derive(strict=True)
+    assert exc.value.entity_id == loose.id()
+
+
+def test_exact_duplicate_is_left_out():
+    m = portal()
+    m.element("IfcBeam", "Copy", (0, 0, 4), (6, 0, 4), BEAM)  # B1 twice (another GlobalId)
+    fr, diags, _ = m.derive()
+    assert set(fr.member_ids) == {"C1", "C2", "B1"}
+    assert any("'Copy'" in d.message and "left out — duplicate" in d.message for d in diags)
+
+
+def test_cli_strict_exit_code_and_left_out_count(tmp_path, capsys):
+    from analysis.cli import main
+
+    m = portal()
+    m.element("IfcBeam", "Loose", (20, 0, 3), (26, 0, 3), BEAM)
+    path = tmp_path / "loose.ifc"
+    m.f.write(str(path))
+    assert main(["check", str(path)]) == 0
+    out = capsys.readouterr().out
+    assert "left out   1 elements (1 connected to no support" in out
+    assert main(["check", str(path), "--strict"]) == 2
+    assert "IfcBeam 'Loose'" in capsys.readouterr().err
+
+
+def test_summary_counts_every_warning():
+    from types import SimpleNamespace
+
+    from analysis.cli import summary_table
+    from analysis.errors import Diagnostic
+
+    fr, _, _ = portal().derive()
+    diags = [Diagnostic("warning", k, f"w{k}") for k in range(90)] + [Diagnostic("info", None, "i")]
+    text = summary_table(SimpleNamespace(frame=fr, diagnostics=diags, notes=[], path="x.ifc", route="physical"))
+    assert "  warnings   90" in text and "... and 84 more" in text
+
+
+# --------------------------------------------------------------------------- supports
+def test_roof_grid_on_walls_is_supported_where_it_bears():
+    m = Physical()
+    b, h = BEAM
+    # two walls 0.3 m thick, 3 m high, along Y at x = 0 and x = 6; beams along X resting on them
+    _wall(m, (-0.15, -0.5, 0.0), (0.3, 5.0), 3.0)
+    _wall(m, (5.85, -0.5, 0.0), (0.3, 5.0), 3.0)
+    z = 3.0 + h / 2  # centroid line half the depth above the wall tops
+    for y in (0.0, 2.0, 4.0):
+        m.element("IfcBeam", f"R{y:g}", (0, y, z), (6, y, z), BEAM)
+    m.element("IfcBeam", "T1", (3, 0, z), (3, 2, z), BEAM)  # ties framing into the rafters' spans
+    m.element("IfcBeam", "T2", (3, 2, z), (3, 4, z), BEAM)
+    fr, diags, notes = m.derive()
+    sup = np.flatnonzero(fr.restraints.any(axis=1))
+    np.testing.assert_allclose(np.sort(fr.nodes[sup, 1]), [0, 0, 2, 2, 4, 4], atol=1e-12)
+    assert set(np.round(fr.nodes[sup, 0], 9)) == {0.0, 6.0}
+    assert fr.restraints[sup, :3].all()  # pinned bearings
+    assert fr.restraints[sup, 3].all() and not fr.restraints[sup, 4:].any()  # beams along X: their twist held (fork)
+    assert any("bear on 6 IfcWall" in n for n in notes)
+    assert sum("bears on #" in d.message for d in diags) == 6
+    np.testing.assert_allclose(_reaction_z(fr), _weight(fr), rtol=1e-9)
+
+
+def test_lowest_nodes_pinned_when_nothing_bears():
+    m = Physical()
+    bar = (0.08, 0.08)
+    # a truss 6 m x 1.5 m in the XZ plane floating in space: chords, posts and diagonals
+    for i in range(3):
+        x0, x1 = 2.0 * i, 2.0 * (i + 1)
+        m.element("IfcMember", f"Bot{i}", (x0, 0, 10), (x1, 0, 10), bar, predefined="CHORD")
+        m.element("IfcMember", f"Top{i}", (x0, 0, 11.5), (x1, 0, 11.5), bar, predefined="CHORD")
+        m.element("IfcMember", f"D{i}", (x0, 0, 10), (x1, 0, 11.5), bar, predefined="BRACE")
+    for i in range(4):
+        m.element("IfcMember", f"P{i}", (2.0 * i, 0, 10), (2.0 * i, 0, 11.5), bar, predefined="POST")
+    fr, _, notes = m.derive()
+    low = np.flatnonzero(fr.restraints.any(axis=1))
+    assert len(low) == 4 and np.allclose(fr.nodes[low, 2], 10.0)
+    assert fr.restraints[low, :3].all() and not fr.restraints[low, 4:].any()
+    assert any("lowest elevation" in n and "pinned" in n for n in notes)
+    np.testing.assert_allclose(_reaction_z(fr), _weight(fr), rtol=1e-9)
+
+
+def test_supports_query_names_the_supported_elements():
+    m = portal()
+    fr, _, notes = m.derive(supports=["IfcColumn, Name=C1:pinned"])
+    k = node_at(fr, (0, 0, 0))
+    assert fr.restraints[k, :3].all() and not fr.restraints[k, 3:].any()
+    assert fr.restraints.any(axis=1).sum() == 1
+    assert any("--supports 'IfcColumn, Name=C1' (pinned)" in n for n in notes)
+    fr, _, _ = m.derive(supports=["IfcColumn"])
+    assert fr.restraints.all(axis=1).sum() == 2  # fixed by default
+    with pytest.raises(IfcInputError, match="finds no element"):
+        m.derive(supports=["IfcPile"])
+
+
+# --------------------------------------------------------------------------- joints
+def test_eccentric_beams_from_both_sides_of_a_column_share_one_node():
+    m = Physical()
+    m.element("IfcColumn", "CL", (-6, 0, 0), (-6, 0, 4), COL)
+    m.element("IfcColumn", "CM", (0, 0, 0), (0, 0, 8), COL)
+    m.element("IfcColumn", "CR", (6, 0, 0), (6, 0, 4), COL)
+    m.element("IfcBeam", "BL", (-6, 0, 4), (-0.15, 0, 4), BEAM)  # stops at the face of CM
+    m.element("IfcBeam", "BR", (0.15, 0, 4), (6, 0, 4), BEAM)  # from the other face
+    fr, diags, _ = m.derive()
+    assert set(fr.member_ids) == {"CL", "CM/1", "CM/2", "CR", "BL", "BR"}  # CM in two parts, no zero-length piece
+    k = node_at(fr, (0, 0, 4))
+    bl, br = fr.member_index("BL"), fr.member_index("BR")
+    assert fr.members[bl, 1] == k and fr.members[br, 0] == k
+    np.testing.assert_allclose(fr.offsets[bl, 1], [-0.15, 0, 0], atol=1e-12)
+    np.testing.assert_allclose(fr.offsets[br, 0], [0.15, 0, 0], atol=1e-12)
+    assert np.all(fr.lengths > 0.5)
+    np.testing.assert_allclose(_reaction_z(fr), RHO * G * float(np.sum(fr.A * fr.lengths)), rtol=1e-9)
+
+
+@pytest.mark.parametrize("gap, joined", [(0.35, True), (0.37, False)])
+def test_snap_distance_follows_the_section_sizes(gap, joined):
+    m = Physical()
+    m.element("IfcColumn", "C1", (0, 0, 0), (0, 0, 4), COL)
+    m.element("IfcColumn", "C2", (6, 0, 0), (6, 0, 4), COL)
+    # the beam stops `gap` short of C2's axis: joined when gap <= (0.3 + 0.4) / 2 + 0.01 (faces touching)
+    m.element("IfcBeam", "B1", (0, 0, 4), (6 - gap, 0, 4), BEAM)
+    fr, diags, _ = m.derive()
+    k = fr.member_index("B1")
+    end = fr.nodes[fr.members[k, 1]]
+    if joined:
+        np.testing.assert_allclose(end, [6, 0, 4], atol=1e-12)
+        np.testing.assert_allclose(fr.offsets[k, 1], [-gap, 0, 0], atol=1e-12)
+        assert any("rigid offset" in d.message and "'B1'" in d.message for d in diags)
+    else:
+        np.testing.assert_allclose(end, [6 - gap, 0, 4], atol=1e-12)  # a free cantilever end
+        assert not fr.offsets.any()
+
+
+# --------------------------------------------------------------------------- members on one line
+def test_double_studs_side_by_side_or_merged():
+    def wall(tol):
+        m = Physical()
+        stud = (0.045, 0.095)
+        m.element("IfcMember", "Sole", (0, 0, 0), (2.4, 0, 0), stud, predefined="PLATE")
+        m.element("IfcMember", "Head", (0, 0, 2.4), (2.4, 0, 2.4), stud, predefined="PLATE")
+        for x in (0.0, 1.2, 2.4):
+            m.element("IfcMember", f"S{x:g}", (x, 0, 0), (x, 0, 2.4), stud, predefined="STUD")
+        m.element("IfcMember", "S1.2b", (1.245, 0, 0), (1.245, 0, 2.4), stud, predefined="STUD")  # a double stud
+        return m.derive(merge_tolerance=tol)
+
+    fr, diags, _ = wall(0.01)  # 45 mm apart: two members side by side at their real positions
+    assert {"S1.2", "S1.2b"} <= set(fr.member_ids)
+    np.testing.assert_allclose(fr.nodes[fr.members[fr.member_index("S1.2b")]][:, 0], 1.245, atol=1e-12)
+    w = _weight(fr)
+    np.testing.assert_allclose(_reaction_z(fr), w, rtol=1e-9)
+    fr2, diags2, notes2 = wall(0.05)  # within the tolerance: one analytical member, the summed section
+    k = fr2.member_index("S1.2")
+    assert "S1.2b" not in fr2.member_ids and "merged with" in fr2.member_labels[k]
+    A1 = 0.045 * 0.095
+    np.testing.assert_allclose(fr2.A[k], 2 * A1, rtol=1e-12)
+    np.testing.assert_allclose(fr2.Iy[k], 2 * 0.045 * 0.095**3 / 12, rtol=1e-12)  # b h^3/12 each, added
+    assert any("merged into one analytical member" in n for n in notes2)
+    assert sum("merged" in d.message for d in diags2) == 2
+    np.testing.assert_allclose(_reaction_z(fr2), RHO * G * A1 * (2 * 2.4 + 4 * 2.4), rtol=1e-9)
+
+
+# --------------------------------------------------------------------------- IfcMember idealisation
+def test_members_auto_rule_and_override():
+    m = portal()
+    m.element("IfcColumn", "C3", (9, 0, 0), (9, 0, 4), COL)
+    m.element("IfcMember", "Brace", (0, 0, 0), (6, 0, 4), (0.1, 0.1), predefined="BRACE")  # between two joints
+    m.element("IfcMember", "Stud", (3, 0, 0), (3, 0, 4), (0.05, 0.1), predefined="STUD")  # a framing type
+    m.element("IfcMember", "Chord", (6, 0, 4), (9, 0, 4), (0.1, 0.1))  # continues B1 in line
+    m.element("IfcMember", "Rail", (0, 0, 2), (6, 0, 2), (0.1, 0.1))  # the post lands on its span
+    m.element("IfcMember", "Post", (2, 0, 0), (2, 0, 2), (0.1, 0.1))  # from a support to the rail
+    m.element("IfcMember", "Arm", (9, 0, 4), (10, 0, 5), (0.1, 0.1))  # one end meets nothing
+    fr, diags, notes = m.derive()
+    truss = {mid.split("/")[0]: bool(fr.truss[k]) for k, mid in enumerate(fr.member_ids)}
+    why = {d.message.split("'")[1]: d.message for d in diags
+           if "IfcMember" in d.message and ("bar (truss)" in d.message or "frame member (rigid" in d.message)}
+    assert truss["Brace"] and "between two joints (BRACE)" in why["Brace"]
+    assert truss["Post"] and "pin-ended axial bar" in why["Post"]
+    assert not truss["Stud"] and "a STUD (framing member)" in why["Stud"]
+    assert not truss["Chord"] and "continued in line by #" in why["Chord"] and "'B1'" in why["Chord"]
+    assert not truss["Rail"] and "continuous through 1 joint(s)" in why["Rail"]
+    assert not truss["Arm"] and "meets no other element" in why["Arm"]
+    assert any("IfcMember idealisation (--members auto): 2 pin-ended axial bars" in n for n in notes)
+    fr, _, _ = m.derive(members="frame")
+    assert not fr.truss.any()
+    fr, _, _ = m.derive(members="truss")
+    members = [k for k, lab in enumerate(fr.member_labels) if "IfcMember" in lab]
+    assert fr.truss[members].all() and not np.delete(fr.truss, members).any()
