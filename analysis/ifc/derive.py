@@ -705,7 +705,9 @@ class _Deriver:
             if self.select:
                 raise IfcInputError(f"--select {self.select!r} finds no element to derive the frame from")
             raise IfcInputError("the file has no load-bearing IfcBeam, IfcColumn or IfcMember elements to derive the frame "
-                                "from (and no structural analysis model)" + (f" ({self.notes[-1]})" if self.notes else ""))
+                                "from (and no structural analysis model)" + (f" ({self.notes[-1]})" if self.notes else "")
+                                + "; to analyse elements anyway, name them with --select, e.g. --select "
+                                "\"IfcBeam, IfcColumn, IfcMember\"")
         self._geometry(elements)
         elements = self._keep(elements)
         self._properties(elements)
