@@ -30,6 +30,15 @@ Axis
     along its ``ExtrudedDirection`` in its ``Position``, ``Depth`` long.
     Both go to world coordinates through the placement chain
     (`analysis.ifc.placement`).
+    Any other body (``IfcFacetedBrep``, ``IfcTriangulatedFaceSet``,
+    ``IfcPolygonalFaceSet``, mapped items and booleans of those, ...) goes
+    through the geometry kernel in one pass (`analysis.ifc.bodies`): the
+    axis is the body's principal direction through the centroid of its
+    section at mid-length, from end to end of the body; an ``Axis`` curve
+    along it keeps its ends, moved onto that centroid line. An axis (curve
+    or extrusion) shorter than its section depth is suspect (a body
+    extruded across the member): it is reported and the body's principal
+    direction is used instead.
 Centroid line
     The analytical axis is the line of the profile's centroid. The body is
     already placed around the axis by the profile usage's ``CardinalPoint``,
@@ -116,7 +125,10 @@ End releases
 Sections and materials
     Through `analysis.ifc.materials` and `analysis.ifc.sections` (a body's
     swept profile when the element has no profile usage), converted with
-    `analysis.units`.
+    `analysis.units`. A body that is not an extrusion and has no profile
+    usage gives its section from the cut at mid-length (A, principal
+    second moments, J and shear areas: `analysis.ifc.polygon_section`;
+    source "body geometry"); local z is its strong principal axis.
 Loads
     Load case "Self-weight" (acceleration (0, 0, -1) g) when the materials
     have a density. Area loads only from the user's table ``area_loads``:
@@ -976,6 +988,8 @@ class _Deriver:
             if sec is None:
                 sec = _section_info(f, profile, usage, scales, el.label, el.eid)
                 sections[skey] = sec
+            if el.shape is not None:
+                sec = self._profile_on_body(el, sec)
             self.sec[k] = sec
             self.mat[k] = material
             self._centroid_line(el, sec)
@@ -1021,6 +1035,19 @@ class _Deriver:
         half_w, half_d = 0.5 * shape.width / self.scales.length, 0.5 * shape.depth / self.scales.length
         return _SectionInfo(str(name), shape.A, shape.Iy, shape.Iz, shape.J, shape.Avy, shape.Avz, 0.0, np.zeros(2),
                             (-half_w, half_w, -half_d, half_d), False, max(shape.depth, shape.width), source="body geometry")
+
+    def _profile_on_body(self, el: _Element, sec: _SectionInfo) -> _SectionInfo:
+        """A named profile's values on a body-derived axis: local z is the body's strong axis, so the larger
+        principal value is Iy; a profile whose area is far from the body's cut is reported."""
+        shape = el.shape
+        if abs(sec.A - shape.A) > 0.1 * shape.A:
+            self.diagnostics.append(Diagnostic(
+                "warning", el.eid, f"{el.label}: its profile {sec.name!r} has A = {sec.A * 1e4:.4g} cm², its body's section "
+                f"{shape.A * 1e4:.4g} cm²; the profile's values are used"))
+        if sec.Iy >= sec.Iz and sec.roll == 0.0:
+            return sec
+        return replace(sec, Iy=max(sec.Iy, sec.Iz), Iz=min(sec.Iy, sec.Iz), roll=0.0,
+                       Avy=sec.Avz if sec.Iy < sec.Iz else sec.Avy, Avz=sec.Avy if sec.Iy < sec.Iz else sec.Avz)
 
     def _body_line(self, el: _Element) -> None:
         """Centroid line from the body's geometry; an ``Axis`` curve along it keeps its ends, projected onto it."""

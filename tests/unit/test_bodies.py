@@ -107,7 +107,7 @@ class Model:
                                     RefDirection=self.dir(ref) if ref is not None else None)
 
     def element(self, item, *, cls="IfcBeam", name="B1", origin=(1.0, 2.0, 3.0), axis=(0.0, 0.0, 1.0), ref=(0.0, 1.0, 0.0),
-                rep_type="Brep"):
+                rep_type="Brep", material=None):
         f = self.f
         rep = f.create_entity("IfcShapeRepresentation", ContextOfItems=self.body_ctx, RepresentationIdentifier="Body",
                               RepresentationType=rep_type, Items=[item])
@@ -115,7 +115,7 @@ class Model:
         e = f.create_entity(cls, GlobalId=ifcopenshell.guid.new(), Name=name, ObjectPlacement=placement,
                             Representation=f.create_entity("IfcProductDefinitionShape", Representations=[rep]))
         f.create_entity("IfcRelAssociatesMaterial", GlobalId=ifcopenshell.guid.new(), RelatedObjects=[e],
-                        RelatingMaterial=self.material)
+                        RelatingMaterial=material or self.material)
         self.elements.append(e)
         return e
 
@@ -285,6 +285,28 @@ def test_triangulated_i_section(schema):
     np.testing.assert_allclose(frame.ref[0], [0.0, 0.0, 1.0], atol=1e-9)
     assert frame.section_sources[0] == "body geometry"
     assert any("body geometry" in n for n in notes)
+
+
+def test_named_profile_refines_the_body_section():
+    """A profile set usage gives the section (its fillets and J formula); the axis still comes from the body."""
+    m = Model("IFC4")
+    f = m.f
+    L = 4.0
+    profile = f.create_entity("IfcIShapeProfileDef", ProfileType="AREA", ProfileName="I300 test", OverallWidth=B,
+                              OverallDepth=H, WebThickness=TW, FlangeThickness=TF, FilletRadius=0.015)
+    pset = f.create_entity("IfcMaterialProfileSet", MaterialProfiles=[
+        f.create_entity("IfcMaterialProfile", Material=m.material, Profile=profile)])
+    usage = f.create_entity("IfcMaterialProfileSetUsage", ForProfileSet=pset, CardinalPoint=5)
+    m.element(m.triangulated_i(L), rep_type="Tessellation", material=usage)
+    frame, diags, notes, left = _derive(m)
+    assert not left
+    A, Iy, Iz = _i_exact()
+    fillets = 4 * (1 - math.pi / 4) * 0.015**2  # four square-minus-quarter-disc fillets (common practice, no source)
+    assert frame.A[0] == pytest.approx(A + fillets, rel=1e-9)
+    assert frame.Iy[0] > Iy and frame.Iz[0] > Iz
+    np.testing.assert_allclose(sorted(map(tuple, frame.nodes)), [(1.0, 2.0, 3.0), (1.0, 2.0 + L, 3.0)], atol=1e-9)
+    np.testing.assert_allclose(frame.ref[0], [0.0, 0.0, 1.0], atol=1e-9)
+    assert frame.section_sources[0] == "file" and frame.section_names[0] == "I300 test"
 
 
 @pytest.mark.parametrize("schema,kind", [("IFC2X3", "brep"), ("IFC4", "brep"), ("IFC4", "polygonal")])
