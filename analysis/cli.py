@@ -38,6 +38,7 @@ _CHECK_EPILOG = """\
 examples:
   plumbframe check office.ifc
   plumbframe check office.ifc --plane --json counts.json
+  plumbframe check truss.ifc --plane --condense-pinned --inextensible --by-joint
   plumbframe check office.ifc --model "Frame A" --condense-pinned
 
 exit codes: 0 stable, 2 bad input, 3 unstable (a mechanism)
@@ -196,6 +197,10 @@ def build_parser() -> argparse.ArgumentParser:
                                    "which constraints count and which are redundant, and any mechanism.")
     p.add_argument("input", metavar="MODEL.ifc")
     p.add_argument("--json", metavar="FILE", help="also write the counts as plumbframe.results/1 JSON (no cases)")
+    p.add_argument("--by-joint", action="store_true",
+                   help="also show the count joint by joint: each joint's unknowns, the components its support "
+                        "holds, those a constraint eliminates (by which member, body or diaphragm) and the own "
+                        "rotations of hinged ends there, adding up to the totals")
     _add_common(p)
 
     p = sub.add_parser("analyze", aliases=["analyse"], formatter_class=fmt, epilog=_ANALYZE_EPILOG,
@@ -714,6 +719,9 @@ def _check(args, con) -> int:
                       "frame, and `analyze` falls back to that when the only mechanisms are out of the plane",
                       file=con.err)
         return EXIT_UNSTABLE
+        if getattr(args, "by_joint", False) and hasattr(ind, "format_joint_table"):
+            con.say(ind.format_joint_table())
+            con.say("")
     return EXIT_OK
 
 

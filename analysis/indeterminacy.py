@@ -100,7 +100,7 @@ from .model import AnalysisOptions, Frame, member_axes, member_lengths
 if TYPE_CHECKING:
     from .stiffness.analyze import Assembly
 
-__all__ = ["Indeterminacy", "indeterminacy", "TERM_KEYS"]
+__all__ = ["Indeterminacy", "indeterminacy", "TERM_KEYS", "JointCount", "Elimination", "ATTRIBUTION_RULE"]
 
 log = logging.getLogger(__name__)
 
@@ -142,6 +142,17 @@ class Indeterminacy:
     mechanism_descriptions: tuple[str, ...] = ()
     static_terms: dict = field(default_factory=dict)
     timing: dict = field(default_factory=dict)
+    _joint_data: object = field(default=None, repr=False, compare=False)
+
+    @property
+    def joints(self) -> tuple["JointCount", ...]:
+        """The count joint by joint (`JointCount`, one per node, in the frame's order; built on first use)."""
+        cached = self.__dict__.get("_joints")
+        if cached is None:
+            data = self._joint_data
+            cached = _build_joint_counts(data) if isinstance(data, _JointData) else ()
+            object.__setattr__(self, "_joints", cached)
+        return cached
 
     @property
     def stable(self) -> bool:
@@ -155,7 +166,12 @@ class Indeterminacy:
             "mechanisms": int(self.mechanisms),
             "terms": {k: int(self.terms[k]) for k in TERM_KEYS},
             "notes": list(self.notes),
+            "joints": {j.node_id: j.to_dict() for j in self.joints},
         }
+
+    def format_joint_table(self, width: int = 100) -> str:
+        """The count joint by joint as fixed-width text (``plumbframe check --by-joint``)."""
+        return format_joint_table(self, width)
 
     def format_table(self, width: int = 78) -> str:
         """A fixed-width table of the terms, followed by the notes."""
@@ -268,14 +284,17 @@ def indeterminacy(frame: Frame, options: AnalysisOptions | None = None, *, mecha
     redundant = tuple(_explain_redundant(frame, dofs))
     descriptions = tuple(_describe_modes(frame, dofs, modes))
     timing["explanations"] = time.perf_counter() - t2
-    timing["total"] = time.perf_counter() - t0
 
     notes = _notes(terms, reduction_parts, kinematic, static, m, static_terms, redundant, descriptions, dofs)
+    t3 = time.perf_counter()
+    joint_data = _joint_data(frame, dofs, R, terms)
+    timing["joints"] = time.perf_counter() - t3
+    timing["total"] = time.perf_counter() - t0
     log.debug("indeterminacy: kinematic %d, static %d, mechanisms %d (%s) in %.3f s",
               kinematic, static, m, method, timing["total"])
     return Indeterminacy(kinematic=int(kinematic), static=int(static), mechanisms=int(m), terms=terms,
                          notes=tuple(notes), redundant=redundant, mechanism_descriptions=descriptions,
-                         static_terms=static_terms, timing=timing)
+                         static_terms=static_terms, timing=timing, _joint_data=joint_data)
 
 
 # --------------------------------------------------------------------------- kinematic terms
@@ -984,3 +1003,264 @@ def _rigid_note(frame: Frame, options: AnalysisOptions) -> str | None:
         if free.size:
             parts.append(f"not rigid, their axial force is released: {_id_list(frame, free)}")
     return "axially rigid: " + "; ".join(parts)
+
+
+# --------------------------------------------------------------------------- joint by joint
+#: how the eliminated components are attributed, in words (printed under the joint table)
+ATTRIBUTION_RULE = (
+    "Each independent constraint takes away one unknown. Of the components it moves (at least half as much as "
+    "the most), it takes one of the joint that comes last in the model's list of joints, so that component is "
+    "written in terms of the joints before it; at that joint a translation before a rotation, the one the "
+    "constraint moves most first, ties in the order ux, uy, uz. A rigid body or diaphragm takes its following "
+    "nodes' components and writes them in terms of its first node. A constraint that repeats others takes "
+    "nothing (it is redundant, listed in the notes).")
+
+# classes of a joint component in the by-joint count
+_INACTIVE, _UNKNOWN, _RESTRAINED, _ELIMINATED, _FREE, _PINNED, _SKEW = range(7)
+_REDUCED_WHY = {_FREE: "nothing attaches to it", _PINNED: "pinned end, condensed out",
+                _SKEW: "turns freely (no member end holds it)"}
+
+
+@dataclass(frozen=True)
+class Elimination:
+    """One joint component removed from the unknowns by an exact constraint.
+
+    ``by`` is the member id, rigid-body or diaphragm name; ``kind`` 'axial',
+    'rigid body' or 'diaphragm'; ``constraint`` the constraint in words;
+    ``expressed_in`` the independent unknowns it is written in terms of, as
+    ``(node id, (components...))`` pairs (empty: fixed, through the
+    constraint, by the supports).
+    """
+
+    component: str
+    by: str
+    kind: str
+    constraint: str
+    expressed_in: tuple[tuple[str, tuple[str, ...]], ...]
+
+    def text(self) -> str:
+        what = {"axial": f"member {self.by} (axially rigid)", "rigid body": f"rigid body {self.by!r}",
+                "diaphragm": f"diaphragm {self.by!r}"}.get(self.kind, self.by)
+        if not self.expressed_in:
+            return f"{self.component} by {what} held by the supports through it"
+        terms = " and ".join(f"{node} {' '.join(comps)}" for node, comps in self.expressed_in)
+        return f"{self.component} by {what} in terms of {terms}"
+
+
+@dataclass(frozen=True)
+class JointCount:
+    """The count at one joint: ``dof + releases - restrained - eliminated - reduced = unknowns + own rotations``."""
+
+    node_id: str
+    label: str
+    source: str | None
+    components: tuple[str, ...]  # the analysed components of every joint
+    unknowns: tuple[str, ...]
+    restrained: tuple[str, ...]
+    support: str  # 'fixed support', 'pin support', 'roller support', 'support' or ''
+    eliminated: tuple[Elimination, ...]
+    reduced: tuple[tuple[str, str], ...]  # (component or 'own rotation', why)
+    releases: int  # released bending rotations of member ends here
+    own_rotations: int  # of those, the ones that are unknowns
+    own_members: tuple[str, ...] = ()  # member ids whose hinged end here has its own rotation
+
+    @property
+    def count(self) -> int:
+        """Independent unknowns at this joint."""
+        return len(self.unknowns) + self.own_rotations
+
+    def to_dict(self) -> dict:
+        """The joint's entry of ``indeterminacy.joints`` (ARCHITECTURE.md)."""
+        return {"unknowns": list(self.unknowns), "restrained": list(self.restrained),
+                "eliminated": [{"component": e.component, "by": e.by} for e in self.eliminated],
+                "own_rotations": int(self.own_rotations)}
+
+    def details(self) -> str:
+        """The joint's components in words."""
+        parts = []
+        if self.unknowns:
+            parts.append("unknowns " + " ".join(self.unknowns))
+        if self.own_rotations:
+            parts.append(f"+ {self.own_rotations} own rotation{'s' if self.own_rotations != 1 else ''} of hinged "
+                         f"end{'s' if self.own_rotations != 1 else ''} ({', '.join(self.own_members)})")
+        if self.restrained:
+            parts.append(f"restrained {' '.join(self.restrained)} by its {self.support or 'support'}")
+        if self.eliminated:
+            parts.append("eliminated " + ", ".join(e.text() for e in self.eliminated))
+        whys: dict[str, list[str]] = {}
+        for comp, why in self.reduced:
+            whys.setdefault(why, []).append(comp)
+        for why, comps in whys.items():
+            if comps[0] == "own rotation":
+                parts.append(f"{len(comps)} own rotation{'s' if len(comps) != 1 else ''} of hinged ends condensed out")
+            else:
+                parts.append(f"not unknowns {' '.join(comps)}: {why}")
+        return "; ".join(parts) or "nothing"
+
+
+@dataclass(frozen=True)
+class _JointData:
+    """The by-joint classification as arrays (cheap to keep; `JointCount` objects are built on demand)."""
+
+    frame: Frame
+    active: tuple[int, ...]
+    cls: np.ndarray  # (n,6) class of each component (_INACTIVE ...)
+    by_row: np.ndarray  # (n,6) constraint row eliminating the component, -1
+    rows: tuple  # ConstraintRow per row
+    expr_ptr: np.ndarray  # (n*6+1,) CSR pointer over components into expr_node / expr_comp
+    expr_node: np.ndarray
+    expr_comp: np.ndarray
+    releases: np.ndarray  # (n,)
+    own: np.ndarray  # (n,)
+    own_members: dict  # node -> [member id, ...]
+    support: tuple[str, ...]  # per node
+    terms: dict
+
+
+def _joint_data(frame: Frame, dofs, R: np.ndarray, terms: dict) -> _JointData:
+    """Classify every joint component (vectorised; linear in the model size)."""
+    from .stiffness.dofs import _in_plane_rotation_mask
+
+    n, m = frame.n_nodes, frame.n_members
+    active = tuple(dofs.active)
+    cls = np.full((n, 6), _INACTIVE, dtype=np.int8)
+    cls[:, list(active)] = _UNKNOWN
+    cls[dofs.restrained] = _RESTRAINED
+    by_row = np.full((n, 6), -1, dtype=np.int64)
+    # joint rotations that are not unknowns: nothing attaches, or pinned ends condensed
+    phys = {(int(k), int(c)) for k, c in _physical_unattached_aligned(frame, dofs, R)}
+    for k, c in dofs.unattached:
+        cls[k, c] = _FREE if (k, c) in phys else _PINNED
+    # eliminated components: the constraint row each slave belongs to
+    sr = dofs.slave_row
+    slaves = np.flatnonzero(sr >= 0) if sr.size else np.zeros(0, np.int64)
+    is_joint = dofs.x_comp[slaves] < 6
+    slaves = slaves[is_joint]
+    kinds = np.array([row.kind == "unattached" for row in dofs.rows], bool)
+    sk, sc = dofs.x_node[slaves], dofs.x_comp[slaves]
+    skew = kinds[sr[slaves]] if slaves.size else np.zeros(0, bool)
+    cls[sk, sc] = np.where(skew, _SKEW, _ELIMINATED)
+    by_row[sk, sc] = sr[slaves]
+    # what each eliminated component is written in: the independent unknowns in its row of T
+    T = dofs.T.tocoo()
+    masters = np.flatnonzero(sr < 0) if sr.size else np.arange(dofs.n_x)
+    sel = (sr[T.row] >= 0) & (np.abs(T.data) > 1e-12) if sr.size else np.zeros(T.nnz, bool)
+    trow, tmaster = T.row[sel], masters[T.col[sel]]
+    key = 6 * dofs.x_node[trow] + dofs.x_comp[trow]  # the slave's joint component
+    order = np.lexsort((dofs.x_comp[tmaster], dofs.x_node[tmaster], key))
+    key, tmaster = key[order], tmaster[order]
+    ptr = np.searchsorted(key, np.arange(6 * n + 1))
+    # releases and own rotations per joint
+    releases = np.zeros(n, np.int64)
+    own = np.zeros(n, np.int64)
+    own_members: dict[int, list[str]] = {}
+    if m:
+        user_rot = frame.releases[:, :, 4:6] & ~frame.truss[:, None, None]
+        if dofs.plane_axis is not None:
+            user_rot = user_rot & _in_plane_rotation_mask(R, dofs.plane_axis)[:, None, 4:6]
+        kept = (dofs.hinge_dof >= 0).sum(axis=2)
+        for end in (0, 1):
+            np.add.at(releases, frame.members[:, end], user_rot[:, end].sum(axis=1))
+            np.add.at(own, frame.members[:, end], kept[:, end])
+        hinged_members, hinged_ends = np.nonzero(kept > 0)
+        for k, e in zip(hinged_members.tolist(), hinged_ends.tolist()):
+            own_members.setdefault(int(frame.members[k, e]), []).append(frame.member_ids[k])
+    support = tuple(_support_words(dofs, k) for k in range(n))
+    return _JointData(frame=frame, active=active, cls=cls, by_row=by_row, rows=tuple(dofs.rows), expr_ptr=ptr,
+                      expr_node=dofs.x_node[tmaster], expr_comp=dofs.x_comp[tmaster], releases=releases, own=own,
+                      own_members=own_members, support=support, terms=dict(terms))
+
+
+def _physical_unattached_aligned(frame: Frame, dofs, R: np.ndarray) -> list:
+    """Axis-aligned joint rotations nothing attaches to, without the ``condense_pinned`` device."""
+    if not dofs.auto_released.any():
+        return list(dofs.unattached)
+    return [x for x in _physical_unattached(frame, dofs, R) if isinstance(x[1], (int, np.integer))]
+
+
+def _support_words(dofs, node: int) -> str:
+    if not dofs.restrained[node].any():
+        return ""
+    return f"{_support_kind(dofs, node)}support"
+
+
+def _comp_name(c: int) -> str:
+    from .model import DOF_NAMES
+
+    return DOF_NAMES[c] if c < 6 else "own rotation"
+
+
+def _build_joint_counts(d: _JointData) -> tuple[JointCount, ...]:
+    frame = d.frame
+    names = tuple(_comp_name(c) for c in d.active)
+    out = []
+    for k in range(frame.n_nodes):
+        unknowns, restrained, eliminated, reduced = [], [], [], []
+        for c in d.active:
+            kind = int(d.cls[k, c])
+            name = _comp_name(c)
+            if kind == _UNKNOWN:
+                unknowns.append(name)
+            elif kind == _RESTRAINED:
+                restrained.append(name)
+            elif kind == _ELIMINATED:
+                row = d.rows[int(d.by_row[k, c])]
+                lo, hi = d.expr_ptr[6 * k + c], d.expr_ptr[6 * k + c + 1]
+                groups: dict[str, list[str]] = {}
+                for node, comp in zip(d.expr_node[lo:hi].tolist(), d.expr_comp[lo:hi].tolist()):
+                    groups.setdefault(frame.node_ids[node], []).append(_comp_name(comp))
+                eliminated.append(Elimination(name, row.owner, row.kind, row.label,
+                                              tuple((nid, tuple(cs)) for nid, cs in groups.items())))
+            else:
+                reduced.append((name, _REDUCED_WHY[kind]))
+        condensed_own = int(d.releases[k] - d.own[k])
+        reduced += [("own rotation", "hinged member end, condensed out")] * condensed_own
+        label = frame.node_labels[k]
+        source = frame.node_sources[k]
+        out.append(JointCount(node_id=frame.node_ids[k], label=label, source=source, components=names,
+                              unknowns=tuple(unknowns), restrained=tuple(restrained), support=d.support[k],
+                              eliminated=tuple(eliminated), reduced=tuple(reduced), releases=int(d.releases[k]),
+                              own_rotations=int(d.own[k]),
+                              own_members=tuple(dict.fromkeys(d.own_members.get(k, ())))))
+    return tuple(out)
+
+
+def joint_totals(joints: tuple[JointCount, ...]) -> dict:
+    """The by-joint columns added up: the same keys as `TERM_KEYS`' sum plus ``kinematic``."""
+    dof = len(joints[0].components) if joints else 0
+    return {"joints": len(joints), "dof": dof * len(joints), "releases": sum(j.releases for j in joints),
+            "restraints": sum(len(j.restrained) for j in joints),
+            "constraints": sum(len(j.eliminated) for j in joints),
+            "reductions": sum(len(j.reduced) for j in joints),
+            "kinematic": sum(j.count for j in joints)}
+
+
+def format_joint_table(ind: Indeterminacy, width: int = 100) -> str:
+    """Fixed-width joint-by-joint table: one row per joint, its components in words, and the totals."""
+    import textwrap
+
+    joints = ind.joints
+    t = ind.terms
+    comps = ", ".join(joints[0].components) if joints else ""
+    kind = "plane" if t["dof_per_joint"] == 3 else "space"
+    lines = [f"Joint by joint ({kind} frame: {comps} at every joint)", "",
+             f"  {'joint':<14}{'DOF':>5}{'+rel':>6}{'-sup':>6}{'-con':>6}{'-red':>6}{'=unk':>6}   IFC entity"]
+    rule = "  " + "-" * (width - 4)
+    lines.append(rule)
+    for j in joints:
+        entity = j.label if not j.source or j.source in j.label else f"{j.label} (source {j.source})"
+        lines.append(f"  {j.node_id:<14}{len(j.components):>5}{j.releases:>6}{len(j.restrained):>6}"
+                     f"{len(j.eliminated):>6}{len(j.reduced):>6}{j.count:>6}   {entity}")
+        lines += textwrap.wrap(j.details(), width=width, initial_indent=" " * 6, subsequent_indent=" " * 8)
+    lines.append(rule)
+    s = joint_totals(joints)
+    lines.append(f"  {'total':<14}{s['dof']:>5}{s['releases']:>6}{s['restraints']:>6}{s['constraints']:>6}"
+                 f"{s['reductions']:>6}{s['kinematic']:>6}   {s['joints']} joints")
+    lines.append(f"  = joints x DOF per joint + releases - restraints - constraints - reductions = "
+                 f"{t['joints']} x {t['dof_per_joint']} + {t['releases']} - {t['restraints']} - {t['constraints']} - "
+                 f"{t['reductions']} = {ind.kinematic} (kinematic indeterminacy)")
+    if t["redundant_constraints"]:
+        lines.append(f"  {t['redundant_constraints']} redundant constraints take nothing away (see the notes)")
+    lines.append("")
+    lines += textwrap.wrap(ATTRIBUTION_RULE, width=width, initial_indent="  ", subsequent_indent="  ")
+    return "\n".join(lines)

@@ -70,6 +70,12 @@ class DofSystem:
     direct: tuple = ()  # (rows, slaves, pivots, A) of rows eliminated through a column of their own
     slave_rhs: list = field(default_factory=list)  # (slave idx, W (r, rows), row idx) per group
     consistency: list = field(default_factory=list)  # (row idx, Z (k, rows)) redundant combos
+    # (n_x,) the constraint row that eliminates each unknown (-1: an independent unknown, a column of T)
+    slave_row: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
+    # (n_x,) joint of each unknown (the member end's joint for own end rotations) and its component
+    # (0..5; 6 + slot for an own end rotation)
+    x_node: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
+    x_comp: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
 
     @property
     def n_q(self) -> int:
@@ -209,14 +215,79 @@ def build_dofs(frame: Frame, options: AnalysisOptions) -> DofSystem:
     C, C_r = _split_columns(C_full, node_dof, restrained, n_x)
     C, C_r, rows = _drop_empty(C, C_r, rows, C_full)
     scale = _column_scale(frame, node_dof, hinge, n_x)
-    T, rank, redundant, slave_rhs, consistency, groups, direct = _eliminate(C, scale, n_x)
+    x_node, x_comp = _unknown_owners(frame, node_dof, hinge, n_x)
+    T, rank, redundant, slave_rhs, consistency, groups, direct, slave_row = _eliminate(C, scale, n_x, x_node, x_comp)
     # rows pinning a skew unattached rotation are reductions, not constraints
     rank -= len(skew)
     return DofSystem(frame=frame, options=options, plane_axis=plane_axis, active=active, node_dof=node_dof,
                      hinge_dof=hinge, condensed=condensed, auto_released=auto, restrained=restrained,
                      unattached=unattached, skew_unattached=skew, n_x=n_x, C=C, C_r=C_r, rows=rows, rank=rank,
                      redundant_rows=redundant, T=T, groups=groups, slave_rhs=slave_rhs, consistency=consistency,
-                     direct=direct)
+                     direct=direct, slave_row=slave_row, x_node=x_node, x_comp=x_comp)
+
+
+def _unknown_owners(frame: Frame, node_dof: np.ndarray, hinge: np.ndarray, n_x: int):
+    """(x_node, x_comp) of every unknown: its joint and component (6 + slot for own end rotations)."""
+    x_node = np.full(n_x, -1, dtype=np.int64)
+    x_comp = np.full(n_x, -1, dtype=np.int64)
+    k, c = np.nonzero(node_dof >= 0)
+    x_node[node_dof[k, c]] = k
+    x_comp[node_dof[k, c]] = c
+    mk, end, slot = np.nonzero(hinge >= 0)
+    x_node[hinge[mk, end, slot]] = frame.members[mk, end]
+    x_comp[hinge[mk, end, slot]] = 6 + slot
+    return x_node, x_comp
+
+
+#: a component is a candidate for elimination by a constraint when the constraint moves it at least
+#: this fraction of the most it moves any candidate (threshold pivoting: bounded growth)
+PIVOT_THRESHOLD = 0.5
+
+
+def _pivot_key(mag: np.ndarray, best: np.ndarray, node: np.ndarray, comp: np.ndarray) -> tuple:
+    """Sort keys (last = primary, for `np.lexsort`) of candidate pivots, smaller = chosen first.
+
+    The rule, in words: each independent constraint removes one unknown.
+    Of the components it moves at least half as much as the most, it
+    removes one of the joint that comes last in the model's list of joints
+    (so it is written in terms of the earlier joints); at that joint a
+    translation before a rotation, and the component it moves most, ties
+    going to ux, uy, uz (rx, ry, rz) in that order. Magnitudes are compared
+    to nine significant digits, so round-off never decides.
+    """
+    q = np.round(mag / np.where(best > 0, best, 1.0) * 1e9)
+    return (comp, -q, comp >= 3, -node)
+
+
+def _candidates(mag: np.ndarray, best: np.ndarray) -> np.ndarray:
+    return mag >= PIVOT_THRESHOLD * (1.0 - 1e-6) * best
+
+
+def _choose_slaves(M: np.ndarray, node: np.ndarray, comp: np.ndarray) -> np.ndarray:
+    """Column of each row of ``M`` (independent rows, in order) that the row eliminates.
+
+    Gaussian elimination row by row with threshold pivoting and the choice
+    of `_pivot_key`; only the rows below that touch the pivot column are
+    updated, so the work follows the coupling of the group.
+    """
+    W = M.copy()
+    rk, nc = W.shape
+    chosen = np.empty(rk, dtype=np.int64)
+    avail = np.ones(nc, bool)
+    for t in range(rk):
+        row = W[t]
+        mag = np.where(avail, np.abs(row), 0.0)
+        best = mag.max()
+        cand = np.flatnonzero(_candidates(mag, best) & (mag > 0))
+        keys = _pivot_key(mag[cand], np.full(cand.size, best), node[cand], comp[cand])
+        c = int(cand[np.lexsort(keys)[0]])
+        chosen[t] = c
+        avail[c] = False
+        below = t + 1 + np.flatnonzero(W[t + 1:, c] != 0.0)
+        if below.size:
+            W[below] -= np.outer(W[below, c] / row[c], row)
+            W[below, c] = 0.0
+    return chosen
 
 
 def axially_rigid(frame: Frame, options: AnalysisOptions) -> np.ndarray:
@@ -527,30 +598,39 @@ def _column_scale(frame, node_dof, hinge, n_x) -> np.ndarray:
     return scale
 
 
-def _eliminate(C: sp.csr_array, scale: np.ndarray, n_x: int):
+def _eliminate(C: sp.csr_array, scale: np.ndarray, n_x: int, x_node: np.ndarray, x_comp: np.ndarray):
     """Rank-revealing elimination of the constraint rows ``C x = 0``.
 
     Two stages. (1) Direct: a row with a column no other row touches (a
     diaphragm or rigid-body row for a follower node, an axial row of a
     member whose end no other constraint moves) is independent of all the
     others and eliminates that column by itself: ``x_s = -Σ c_j x_j / c_s``.
-    (2) Dense: the remaining rows, per connected group, by a QR
-    factorisation with column pivoting on rotation-scaled columns; rows that
-    depend on earlier rows of their group are redundant. ``T = A T₂``.
+    (2) Dense: the remaining rows, per connected group: rows that depend on
+    earlier rows of their group are redundant; each independent row
+    eliminates one column, chosen by Gaussian elimination with threshold
+    pivoting (`_choose_slaves`), and the slaves are solved for by a QR
+    factorisation of their columns (rotation-scaled). ``T = A T₂``.
+
+    In both stages the component a row eliminates follows one rule
+    (`_pivot_key`), so the attribution of eliminated components to
+    constraints and joints is reproducible.
 
     Returns T (x = T q), the rank, the redundant row indices, the data for
     particular solutions of prescribed support displacements, the dense
-    groups and the direct-stage data.
+    groups, the direct-stage data and, per unknown, the row eliminating it
+    (-1 for the independent ones).
     """
     r = C.shape[0]
+    slave_row = np.full(n_x, -1, dtype=np.int64)
     if r == 0 or C.nnz == 0:
-        return sp.identity(n_x, format="csr"), 0, list(range(r)) if r else [], [], [], [], ()
+        return sp.identity(n_x, format="csr"), 0, list(range(r)) if r else [], [], [], [], (), slave_row
     C = C.tocsr()
     C.sum_duplicates()
     Cs = (C @ sp.diags_array(scale)).tocsr()
-    rows1, slaves1, pivots1 = _direct_rows(C, Cs)
+    rows1, slaves1, pivots1 = _direct_rows(C, Cs, x_node, x_comp)
     is_slave = np.zeros(n_x, bool)
     is_slave[slaves1] = True
+    slave_row[slaves1] = rows1
     rest = np.setdiff1d(np.arange(r), rows1)
     t_rows, t_cols, t_vals = [], [], []  # entries of stage-2 slave rows of T over master columns
     rank = len(rows1)
@@ -595,13 +675,12 @@ def _eliminate(C: sp.csr_array, scale: np.ndarray, n_x: int):
             Mi = M[indep]
             rk = len(indep)
             rank += rk
-            Q, Rq, piv = scipy.linalg.qr(Mi, mode="economic", pivoting=True)
-            R11 = Rq[:rk, :rk]
-            R12 = Rq[:rk, rk:]
+            Q, R11, R12, piv = _slave_factor(Mi, x_node[cidx], x_comp[cidx])
             S = -scipy.linalg.solve_triangular(R11, R12)  # scaled slaves in terms of scaled masters
             sl = cidx[piv[:rk]]
             ms = cidx[piv[rk:]]
             is_slave[sl] = True
+            slave_row[sl] = ridx[indep]
             # unscale (x = D y): x_s = D_s S D_m⁻¹ x_m
             Su = S * (scale[sl][:, None] / scale[ms][None, :])
             ii, jj = np.nonzero(np.abs(Su) > 1e-14)
@@ -632,14 +711,34 @@ def _eliminate(C: sp.csr_array, scale: np.ndarray, n_x: int):
         direct = (rows1, slaves1, pivots1, A)
     else:
         T, direct = T2, ()
-    return T, rank, sorted(redundant), slave_rhs, consistency, groups, direct
+    return T, rank, sorted(redundant), slave_rhs, consistency, groups, direct, slave_row
 
 
-def _direct_rows(C: sp.csr_array, Cs: sp.csr_array):
+def _slave_factor(Mi: np.ndarray, node: np.ndarray, comp: np.ndarray):
+    """(Q, R11, R12, column order) of ``Mi[:, order] = Q [R11 R12]``, slaves first.
+
+    The slaves are the columns `_choose_slaves` picks; should they give an
+    ill-conditioned R11 (not met in practice), the column-pivoted QR
+    decides instead.
+    """
+    rk = Mi.shape[0]
+    chosen = _choose_slaves(Mi, node, comp)
+    rest = np.setdiff1d(np.arange(Mi.shape[1]), chosen)
+    piv = np.concatenate([chosen, rest])
+    Q, R11 = scipy.linalg.qr(Mi[:, chosen], mode="economic")
+    d = np.abs(np.diag(R11))
+    if d.min() < 1e-10 * d.max():  # pragma: no cover - a safety net
+        Q, Rq, piv = scipy.linalg.qr(Mi, mode="economic", pivoting=True)
+        return Q, Rq[:rk, :rk], Rq[:rk, rk:], piv
+    return Q, R11, Q.T @ Mi[:, rest], piv
+
+
+def _direct_rows(C: sp.csr_array, Cs: sp.csr_array, x_node: np.ndarray, x_comp: np.ndarray):
     """Rows with a column of their own (touched by no other row), and that column as pivot.
 
-    The pivot is the row's own column of largest scaled coefficient, taken
-    only if it is not small against the row (|c| >= 0.1 max |row|).
+    A row qualifies when an own column's scaled coefficient is not small
+    against the row (|c| >= 0.1 max |row|). Its pivot is chosen among its
+    own columns by `_pivot_key` (at least half the largest own coefficient).
     """
     coo = Cs.tocoo()
     col_count = np.bincount(coo.col, minlength=Cs.shape[1])
@@ -651,8 +750,12 @@ def _direct_rows(C: sp.csr_array, Cs: sp.csr_array):
     if not ok.any():
         return np.zeros(0, np.int64), np.zeros(0, np.int64), np.zeros(0)
     rr, cc, vv = coo.row[ok], coo.col[ok], mag[ok]
-    # per row, the own column of largest magnitude
-    order = np.lexsort((-vv, rr))
+    best = np.zeros(Cs.shape[0])
+    np.maximum.at(best, rr, vv)
+    cand = _candidates(vv, best[rr])
+    rr, cc, vv = rr[cand], cc[cand], vv[cand]
+    # per row, the first own column by the pivot rule
+    order = np.lexsort(_pivot_key(vv, best[rr], x_node[cc], x_comp[cc]) + (rr,))
     rr, cc = rr[order], cc[order]
     first = np.concatenate([[True], rr[1:] != rr[:-1]])
     rows1, slaves1 = rr[first].astype(np.int64), cc[first].astype(np.int64)

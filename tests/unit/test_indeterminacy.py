@@ -181,7 +181,7 @@ def test_to_dict_is_the_json_block_and_table_lists_terms():
     b.add_member("G1", "B", "C", SEC, STEEL, release_j="pinned")
     r = indeterminacy(b.build(), AnalysisOptions(plane=True))
     d = r.to_dict()
-    assert list(d) == ["kinematic", "static", "mechanisms", "terms", "notes"]
+    assert list(d) == ["kinematic", "static", "mechanisms", "terms", "notes", "joints"]
     assert list(d["terms"]) == list(TERM_KEYS)
     json.dumps(d)  # plain JSON types only
     table = r.format_table()
