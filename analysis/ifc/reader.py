@@ -601,6 +601,24 @@ class _StructuralReader:
             out.append(point)
         return out
 
+    def _coincident_nodes(self, conn_list: list) -> None:
+        """Warn about distinct nodes within 1 mm of each other: members meeting there are not joined."""
+        if len(conn_list) < 2:
+            return
+        from scipy.spatial import cKDTree
+
+        pts = np.array([self.node_xyz[c.id()] for c in conn_list], dtype=float)
+        pairs = sorted(cKDTree(pts).query_pairs(r=1e-3))
+        for a, b in pairs[:5]:
+            d = float(np.linalg.norm(pts[a] - pts[b]))
+            ca, cb = conn_list[a], conn_list[b]
+            la = ca.label if isinstance(ca, _ImpliedNode) else entity_label(ca)
+            lb = cb.label if isinstance(cb, _ImpliedNode) else entity_label(cb)
+            self.warn(None, f"{la} and {lb} are {d * 1e3:.3g} mm apart but are two nodes: the members meeting there "
+                            "are not connected to each other (join them in one point connection if they should be)")
+        if len(pairs) > 5:
+            self.warn(None, f"{len(pairs) - 5} more pairs of nodes within 1 mm of each other")
+
     def _bad_point(self, vertex: Entity, geometry: Entity, coords: Any) -> None:
         """A vertex point of the analysis model that cannot be a 3-D node: error, unless a 2-D model pads it."""
         text = ", ".join(f"{float(c):g}" for c in coords)
@@ -628,11 +646,14 @@ class _StructuralReader:
                 used[conn.id()] = conn
         for c in connections:
             if c.id() not in used:
-                self.warn(c, "point connection not connected to any curve member of the model: ignored", "info")
+                supported = _argument(c, self._condition_index) is not None
+                self.warn(c, "point connection that no curve member of the model touches: left out"
+                             + (", and with it its support condition (the frame does not rest on it)" if supported else ""))
         listed = {c.id() for c in connections}
         conn_list = [c for c in connections if c.id() in used] + [c for cid, c in used.items() if cid not in listed]
         self.node_ids = _unique_ids(conn_list)
         self.node_xyz = {c.id(): self._connection_point(c) for c in conn_list}
+        self._coincident_nodes(conn_list)
 
         b = FrameBuilder(name=str(self.model.Name or self.model.GlobalId))
         self.builder = b

@@ -35,7 +35,8 @@ from typing import Any
 
 from ..errors import Diagnostic, IfcInputError, entity_label
 
-__all__ = ["SourceStamp", "Source", "open_source", "verify_unchanged", "dangling_references", "SUPPORTED_SCHEMAS"]
+__all__ = ["SourceStamp", "Source", "open_source", "verify_unchanged", "dangling_references", "parser_findings",
+           "SUPPORTED_SCHEMAS"]
 
 SUPPORTED_SCHEMAS = ("IFC2X3", "IFC4", "IFC4X3", "IFC4X3_ADD1", "IFC4X3_ADD2")
 _CHUNK = 1 << 22
@@ -48,6 +49,16 @@ _OFFSET = re.compile(r" at offset (\d+)")
 _ENTITY_START = re.compile(rb"#(\d+)\s*=\s*([A-Za-z0-9_]*)")
 
 _DANGLING: weakref.WeakKeyDictionary[Any, dict[int, list[int]]] = weakref.WeakKeyDictionary()
+_FINDINGS: dict[str, list[str]] = {}  # absolute path -> the parser's warnings at its last opening
+
+
+def parser_findings(path: str | os.PathLike[str]) -> list[str]:
+    """The parser's warnings (dangling references, missing attributes, ...) from the last `open_source` of ``path``.
+
+    A reader that fails on such a file with an AttributeError or TypeError
+    failed because of the file: callers turn that into an input error.
+    """
+    return list(_FINDINGS.get(os.path.abspath(os.fspath(path)), ()))
 
 
 @dataclass(frozen=True, slots=True)
@@ -462,6 +473,7 @@ def open_source(path: str | os.PathLike[str], *, checks: bool = True) -> Source:
         diagnostics += _duplicate_global_ids(path, f)
     with contextlib.suppress(TypeError):
         _DANGLING[f] = dangling
+    _FINDINGS[os.path.abspath(path)] = [d.message for d in diagnostics if d.level == "warning"]
     return Source(f, _stamp_of(path, st, scan.sha256), diagnostics, dangling)
 
 
