@@ -262,7 +262,9 @@ def grade_table() -> dict[str, Grade]:
     """
     from importlib.resources import files
 
-    text = (files("analysis") / "data" / "material_grades.csv").read_text(encoding="utf-8")
+    # the engine package by its own name: "analysis", or a sub-package of the Blender extension
+    engine = __name__.rsplit(".", 2)[0]
+    text = (files(engine) / "data" / "material_grades.csv").read_text(encoding="utf-8")
     rows = csv.DictReader(io.StringIO("".join(line for line in text.splitlines(keepends=True) if not line.startswith("#"))))
     table: dict[str, Grade] = {}
     for row in rows:
