@@ -126,7 +126,7 @@ def reduced_stiffness(asm: Assembly) -> tuple[sp.csr_array, sp.csr_array, np.nda
     return sp.csr_array(Kxx), sp.csr_array(Kq), springs
 
 
-def analyze(frame: Frame, options: AnalysisOptions | None = None, *, progress=None):
+def analyze(frame: Frame, options: AnalysisOptions | None = None, *, progress=None, keep: dict | None = None):
     """Analyse every load case and combination of ``frame``.
 
     Parameters
@@ -134,6 +134,8 @@ def analyze(frame: Frame, options: AnalysisOptions | None = None, *, progress=No
     frame : the analytical model (SI units).
     options : the idealisation and solver; defaults to `AnalysisOptions()`.
     progress : optional callable(step: str) told about each long step.
+    keep : optional dict that receives the assembly, the reduced stiffness and its factor
+        (``asm``, ``dofs``, ``Kq``, ``Kxx``, ``springs``, ``factor``) for reuse.
 
     Returns
     -------
@@ -160,13 +162,14 @@ def analyze(frame: Frame, options: AnalysisOptions | None = None, *, progress=No
         from .extended import extended_analysis
 
         first = dataclasses.replace(options, second_order=False, buckling=0, modes=0)
-        res = analyze(frame, first, progress=progress)
+        kept: dict = {} if keep is None else keep
+        res = analyze(frame, first, progress=progress, keep=kept)
         res.options = dataclasses.replace(res.options, second_order=options.second_order, buckling=options.buckling,
                                           modes=options.modes, mass=options.mass, subdivisions=options.subdivisions)
-        return extended_analysis(res, progress)
+        return extended_analysis(res, progress, kept)
     if options.plane is None:
         try:
-            return _analyze(frame, options, progress)
+            return _analyze(frame, options, progress, keep)
         except UnstableStructureError as exc:
             from .dofs import in_plane_problem
 
@@ -174,7 +177,7 @@ def analyze(frame: Frame, options: AnalysisOptions | None = None, *, progress=No
                 raise
             plane_options = dataclasses.replace(options, plane=True)
             try:
-                res = _analyze(frame, plane_options, progress)
+                res = _analyze(frame, plane_options, progress, keep)
             except UnstableStructureError:
                 raise exc from None
             res.diagnostics = (Diagnostic(
@@ -183,7 +186,7 @@ def analyze(frame: Frame, options: AnalysisOptions | None = None, *, progress=No
                 "nodes and loads all lie in one plane, so it was analysed as a plane frame: brace it out of "
                 "plane or check that a plane analysis is what you mean"),) + tuple(res.diagnostics)
             return res
-    return _analyze(frame, options, progress)
+    return _analyze(frame, options, progress, keep)
 
 
 def _analyze(frame: Frame, options: AnalysisOptions, progress=None, keep: dict | None = None):

@@ -14,7 +14,7 @@ Mass model (all SI):
 
 Eigenproblem ``K_q φ = ω² M_q φ`` on the subdivided frame, as
 ``M_q φ = μ K_q φ`` (μ = 1/ω²) with ARPACK and ``K_q⁻¹`` from the existing
-factorisation (see `stability.largest_generalized`).
+factorisation (`interior.InteriorModel.solve`, `stability.largest_generalized`).
 
 Effective modal mass in world direction d: ``(φᵀ M r_d)² / (φᵀ M φ)`` with
 ``r_d`` the rigid translation of every joint in d, supports included (the
@@ -35,7 +35,7 @@ from ..errors import ModelError
 from ..model import STANDARD_GRAVITY
 from .loads import case_loads
 from .mass import consistent_mass
-from .refined import RefinedModel
+from .interior import InteriorModel
 from .stability import largest_generalized
 
 __all__ = ["NaturalMode", "MassModel", "mass_model", "natural_modes"]
@@ -55,26 +55,24 @@ class NaturalMode:
 
 @dataclass(frozen=True)
 class MassModel:
-    """Reduced mass ``M_q``, the mass over ``x``, the total mass (kg) and its sources in words."""
+    """Reduced mass ``M_q`` (over the unknowns of the subdivided frame), the total mass (kg), its sources in words."""
 
     Mq: sp.csr_array
-    Mxx: sp.csr_array
     total: float
     sources: tuple[str, ...]
     by_source: tuple[float, ...]
     influence: tuple[np.ndarray, ...] = ()  # (n_q,) per world axis: Tᵀ (M r_d) restricted to the unknowns
 
 
-def mass_model(model: RefinedModel, mass_cases: tuple[tuple[str, float], ...] = ()) -> MassModel:
+def mass_model(model: InteriorModel, mass_cases: tuple[tuple[str, float], ...] = ()) -> MassModel:
     """Assemble the mass of the subdivided frame (members plus the named cases' gravity loads)."""
     frame = model.frame
-    asm = model.asm
-    mp = frame.n_members
+    R, L = model.R, model.L
     mu = frame.density * frame.A
     polar = np.where(frame.truss, 0.0, frame.density * (frame.Iy + frame.Iz))
     nodal_mass = np.zeros(frame.n_nodes)
     sources = ["members"]
-    amounts = [float((mu * asm.L).sum())]
+    amounts = [float((mu * L).sum())]
     for name, factor in mass_cases:
         try:
             case = frame.case(name)
@@ -83,16 +81,16 @@ def mass_model(model: RefinedModel, mass_cases: tuple[tuple[str, float], ...] = 
                              f"{', '.join(c.name for c in frame.load_cases) or 'no load cases'}") from None
         if not (math.isfinite(factor) and factor >= 0):
             raise ModelError(f"mass: the factor of load case {name!r} must be a number >= 0, got {factor!r}")
-        ld = case_loads(frame, dataclasses.replace(case, self_weight=(0.0, 0.0, 0.0)), asm.R, asm.L)
-        before = float((mu * asm.L).sum() + nodal_mass.sum())
+        ld = case_loads(frame, dataclasses.replace(case, self_weight=(0.0, 0.0, 0.0)), R, L)
+        before = float((mu * L).sum() + nodal_mass.sum())
         down = -ld.nodal[:, 2]
         nodal_mass += np.maximum(down, 0.0) * factor / STANDARD_GRAVITY
         # uniform member loads: global components, the downward one is mass per length
-        q_glob = np.einsum("mji,mj->mi", asm.R, ld.uniform)
+        q_glob = np.einsum("mji,mj->mi", R, ld.uniform)
         mu = mu + np.maximum(-q_glob[:, 2], 0.0) * factor / STANDARD_GRAVITY
         for k, loading in ld.generic.items():
-            h = float(asm.L[k])
-            Rk = asm.R[k]
+            h = float(L[k])
+            Rk = R[k]
             i, j = frame.members[k]
             for a, b, qa, qb in loading.lines:
                 if b <= a:
@@ -112,26 +110,21 @@ def mass_model(model: RefinedModel, mass_cases: tuple[tuple[str, float], ...] = 
                     nodal_mass[i] += m * (1 - a / h)
                     nodal_mass[j] += m * a / h
         sources.append(f"{name} x {factor:g}")
-        amounts.append(float((mu * asm.L).sum() + nodal_mass.sum()) - before)
-    M_ext = model.assemble_ext(consistent_mass(asm.L, mu, polar, frame.truss))
+        amounts.append(float((mu * L).sum() + nodal_mass.sum()) - before)
+    M_ext = model.assemble_ext(consistent_mass(L, mu, polar, frame.truss))
     if nodal_mass.any():
-        idx = (6 * np.arange(frame.n_nodes)[:, None] + np.arange(3)).ravel()
-        diag = np.zeros(asm.n_ext)
+        idx = (model.node_ext[:, None] + np.arange(3)).ravel()
+        diag = np.zeros(model.n_ext)
         diag[idx] = np.repeat(nodal_mass, 3)
         M_ext = sp.csr_array(M_ext + sp.diags_array(diag))
-    Mxx = model.ext_to_x(M_ext)
     # effective loads of a unit ground acceleration along each world axis: every joint (supports
     # included) translates rigidly, so the mass coupled to the supports counts too
-    influence = []
-    ext = np.arange(asm.n_ext)
-    for d in range(3):
-        r = ((ext < asm.N6) & (ext % 6 == d)).astype(float)
-        influence.append(model.dofs.T.T @ (M_ext @ r)[asm.x_ext])
-    return MassModel(Mq=model.x_to_q(Mxx), Mxx=Mxx, total=float(sum(amounts)), sources=tuple(sources),
-                     by_source=tuple(amounts), influence=tuple(influence))
+    influence = tuple(model.to_q_vector(M_ext @ model.rigid_translation(d)) for d in range(3))
+    return MassModel(Mq=model.to_q(M_ext), total=float(sum(amounts)), sources=tuple(sources),
+                     by_source=tuple(amounts), influence=influence)
 
 
-def natural_modes(model: RefinedModel, mass: MassModel, count: int) -> list[NaturalMode]:
+def natural_modes(model: InteriorModel, mass: MassModel, count: int) -> list[NaturalMode]:
     """The ``count`` lowest natural modes, ascending frequency."""
     if count <= 0:
         return []

@@ -22,6 +22,7 @@ import numpy as np
 
 from ..model import Frame
 from .dynamics import mass_model, natural_modes
+from .interior import InteriorModel, piece_axial_forces
 from .loads import case_loads
 from .refined import RefinedModel
 from .stability import critical_factors, second_order_case
@@ -37,28 +38,35 @@ def buckling_load_sets(frame: Frame) -> list[str]:
     return [c.name for c in frame.combinations] or [c.name for c in frame.load_cases]
 
 
-def extended_analysis(res, progress=None):
-    """Add what ``res.options`` asks beyond first order to ``res`` (returned, changed in place)."""
+def extended_analysis(res, progress=None, kept: dict | None = None):
+    """Add what ``res.options`` asks beyond first order to ``res`` (returned, changed in place).
+
+    ``kept`` is the ``keep`` dict of the first-order `analyze` call (its assembly and factor),
+    on which the eigenvalue problems are solved.
+    """
     opts = res.options
     if not (opts.second_order or opts.buckling or opts.modes):
         return res
     say = progress or (lambda step: None)
     frame = res.frame
-    say("subdividing members")
-    model = RefinedModel(frame, opts, parts=opts.subdivisions, progress=None)
-    first = model.results.cases
-    if opts.buckling:
-        say("critical load factors")
-        res.buckling = {name: critical_factors(model, model.axial_forces(first[name].end_forces), opts.buckling)
-                        for name in buckling_load_sets(frame)}
-    if opts.modes:
-        say("natural modes")
-        mass = mass_model(model, opts.mass)
-        res.mass = mass
-        res.modes = natural_modes(model, mass, opts.modes)
+    if opts.buckling or opts.modes:
+        if not kept:
+            raise ValueError("extended_analysis needs the keep dict of the first-order analysis")
+        say("subdividing members")
+        eig = InteriorModel(frame, res.options, kept, parts=opts.subdivisions)
+        if opts.buckling:
+            say("critical load factors")
+            res.buckling = {name: critical_factors(eig, piece_axial_forces(eig.sub, res.cases[name], res.L),
+                                                   opts.buckling)
+                            for name in buckling_load_sets(frame)}
+        if opts.modes:
+            say("natural modes")
+            mass = mass_model(eig, opts.mass)
+            res.mass = mass
+            res.modes = natural_modes(eig, mass, opts.modes)
     if opts.second_order:
         say("second order")
-        _second_order(res, model)
+        _second_order(res, RefinedModel(frame, opts, parts=opts.subdivisions))
     return res
 
 

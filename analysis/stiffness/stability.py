@@ -87,7 +87,7 @@ def largest_generalized(A: sp.csr_array, K: sp.csr_array, solve, count: int) -> 
     return w[order], V[:, order]
 
 
-def critical_factors(model: RefinedModel, N: np.ndarray, count: int) -> list[BucklingMode]:
+def critical_factors(model, N: np.ndarray, count: int) -> list[BucklingMode]:
     """The ``count`` lowest positive elastic critical load factors for piece axial forces ``N``.
 
     Fewer are returned where the load set has fewer buckling modes (a frame
