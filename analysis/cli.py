@@ -704,6 +704,9 @@ def _check(args, con) -> int:
     if ind is not None and hasattr(ind, "format_table"):
         con.say(ind.format_table())  # the table carries the notes
         con.say("")
+        if getattr(args, "by_joint", False) and hasattr(ind, "format_joint_table"):
+            con.say(ind.format_joint_table())
+            con.say("")
     elif d:
         for note in d.get("notes", []):
             con.say(f"  note: {note}")
@@ -720,9 +723,6 @@ def _check(args, con) -> int:
                       "frame, and `analyze` falls back to that when the only mechanisms are out of the plane",
                       file=con.err)
         return EXIT_UNSTABLE
-        if getattr(args, "by_joint", False) and hasattr(ind, "format_joint_table"):
-            con.say(ind.format_joint_table())
-            con.say("")
     return EXIT_OK
 
 
