@@ -197,6 +197,9 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
             parts.append("<ul>" + "".join(f"<li>{_e(n)}</li>" for n in notes) + "</ul>")
     else:
         parts.append("<p>The counts were not computed for this run.</p>")
+    from .joints import joint_count_section
+
+    parts.append(joint_count_section(indeterminacy))
 
     parts.append("<h2 id='cases'>Load cases and combinations</h2>")
     for name, cr in results.cases.items():

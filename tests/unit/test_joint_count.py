@@ -197,3 +197,26 @@ def test_cli_by_joint_and_json(tmp_path, capsys):
     # without --by-joint the table is not printed
     assert main(["check", str(path), "--plane"]) == 0
     assert "Joint by joint" not in capsys.readouterr().out
+
+
+def test_report_has_the_joint_table():
+    import re
+    import types
+
+    from analysis.report import build_report
+    from analysis.stiffness.analyze import analyze
+
+    f = pratt()
+    r = indeterminacy(f, RIGID_TRUSS)
+    res = analyze(f, RIGID_TRUSS)
+    model = types.SimpleNamespace(frame=f, route="structural", schema="IFC4", path="/x/pratt.ifc", notes=[],
+                                  diagnostics=[])
+    page = build_report(model, res, r, plots=False)
+    assert "The count joint by joint" in page
+    table = page[page.index("<table class='joints'>"):]
+    table = table[: table.index("</table>")]
+    assert table.count("<tr>") == 1 + f.n_nodes + 1  # head, one row per joint, totals
+    assert "#11 IfcStructuralPointConnection &#x27;L1&#x27; (source GUID-L1)" in table
+    assert "ux by member L0L1 (axially rigid) held by the supports through it" in table
+    total = re.search(r"<th class='l'>total</th><th class='l'>6 joints</th>((?:<th>\d+</th>){6})", table)
+    assert total and re.findall(r"\d+", total.group(1)) == ["18", "0", "3", "9", "6", "0"]
