@@ -707,11 +707,13 @@ class MaterialResolver:
             found = self._resolve(element, cls, need_density, need_shear)
             if rkey is not None:
                 self._resolved[rkey] = found
-        label = entity_label(element)
-        diagnostics = [Diagnostic(level, element.id(), text.replace("{label}", label)) for level, text in found.messages]
-        if found.unknown is not None:
-            self._record(element, cls, label, *found.unknown)
-        elif found.summary:
+        diagnostics: list[Diagnostic] = []
+        if found.messages or found.unknown is not None:
+            label = entity_label(element)
+            diagnostics = [Diagnostic(level, element.id(), text.replace("{label}", label)) for level, text in found.messages]
+            if found.unknown is not None:
+                self._record(element, cls, label, *found.unknown)
+        if found.summary:
             self._counts[found.summary] = self._counts.get(found.summary, 0) + 1
         return found.material, diagnostics
 
@@ -903,7 +905,7 @@ class MaterialResolver:
             missing.append("MassDensity")
         if missing:
             gives = [_VALUE_WORDS[k] for k in ("E", "G", "nu", "density") if k in taken]
-            text = ("no " + " nor ".join(missing)) + (f" (gives {', '.join(gives)})" if gives else "")
+            text = ", ".join(f"no {what}" for what in missing) + (f" (known: {', '.join(gives)})" if gives else "")
             return _Resolution(None, (), (report_name, text))
         messages: list[tuple[str, str]] = []
         by_provider: dict[int, list[str]] = {}
@@ -916,6 +918,8 @@ class MaterialResolver:
                 order.append(p)
             by_provider[id(p)].append(key)
         for p in order:
+            if p.level == "info" and not absent:
+                continue  # a grade named by the material, or the user's map: said once per model (`summary`)
             keys = by_provider[id(p)]
             shown = {k: taken[k][0] for k in keys}
             if p.source == "default" and p.text == "the defaults given":
