@@ -59,7 +59,7 @@ import numpy.typing as npt
 from .polygon_section import PolygonSection, polygon_section
 
 __all__ = ["BodyAxis", "BodyMesh", "body_axes", "body_meshes", "mesh_axes", "kernel_settings", "kernel_threads", "KERNELS",
-           "SIDE_FACE_COSINE", "PRISMATIC_TOLERANCE"]
+           "SIDE_FACE_COSINE", "PRISMATIC_TOLERANCE", "SUSPECT_LENGTH_RATIO"]
 
 logger = logging.getLogger(__name__)
 
@@ -69,6 +69,10 @@ FloatArray = npt.NDArray[np.float64]
 SIDE_FACE_COSINE = 0.5
 #: smallest eigenvalue / trace of the side faces' normal tensor below which the body is prismatic
 PRISMATIC_TOLERANCE = 1e-6
+#: a suspect axis (shorter than its section depth) gives way to the body's principal direction only when the body
+#: is at least this many times longer along that direction; otherwise the body is a block (a cleat, a packing
+#: piece, a short stud) that is no longer in any direction, and the axis is kept
+SUSPECT_LENGTH_RATIO = 1.5
 
 #: geometry kernels tried in this order: CGAL for what it builds (face sets, Breps: about 20× faster than
 #: OpenCASCADE on tessellated bodies, measured), OpenCASCADE for the rest (booleans, swept curves)

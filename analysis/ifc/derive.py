@@ -838,15 +838,18 @@ class _Deriver:
 
         For elements whose body is not an extruded solid, and for those whose
         axis (``Axis`` curve or extrusion) is shorter than their section depth
-        (suspect: a body extruded across the member), which are reported.
+        (suspect: a body extruded across the member), which are reported; the
+        body's principal direction replaces a suspect axis when the body is
+        at least `SUSPECT_LENGTH_RATIO` times longer along it (else the body
+        is a block, no longer in any direction, and the axis is kept).
         Sets ``el.shape`` and ``el.shape_line``; returns the reasons of the
         elements the kernel gave nothing for.
         """
-        from .bodies import body_axes
+        from .bodies import SUSPECT_LENGTH_RATIO, body_axes
 
         L = self.scales.length
         need: list[int] = []
-        suspect: dict[int, str] = {}
+        suspect: dict[int, tuple[str, float]] = {}
         for k, el in enumerate(elements):
             if el.left_out is not None:
                 continue
@@ -865,7 +868,7 @@ class _Deriver:
             shape = axes.get(el.eid)
             if shape is None:
                 if k in suspect:
-                    self.diagnostics.append(Diagnostic("warning", el.eid, f"{el.label}: {suspect[k]}; its body's geometry "
+                    self.diagnostics.append(Diagnostic("warning", el.eid, f"{el.label}: {suspect[k][0]}; its body's geometry "
                                                        f"cannot replace it ({failed.get(el.eid, 'no result')}): it is kept"))
                 continue
             if k not in suspect and el.axis_raw is not None:
@@ -873,14 +876,22 @@ class _Deriver:
                 length = float(np.linalg.norm(np.asarray(b) - np.asarray(a))) * L
                 if length < max(shape.depth, shape.width):
                     suspect[k] = (f"its 'Axis' is {length * 1000:.4g} mm long, shorter than its section depth "
-                                  f"({max(shape.depth, shape.width) * 1000:.4g} mm): suspect")
+                                  f"({max(shape.depth, shape.width) * 1000:.4g} mm): suspect", length)
             if k in suspect:
-                self.diagnostics.append(Diagnostic(
-                    "warning", el.eid, f"{el.label}: {suspect[k]}; the axis is taken from the body's principal direction "
-                    f"instead ({shape.length * 1000:.5g} mm long)"))
-                el.axis_raw = None
-                el.body = None
-                el.body_profile = None  # the extruded profile is not the member's section
+                why, given = suspect[k]
+                if shape.length < SUSPECT_LENGTH_RATIO * given:
+                    self.diagnostics.append(Diagnostic(
+                        "warning", el.eid, f"{el.label}: {why}; its body is no longer in any other direction (at most "
+                        f"{shape.length * 1000:.4g} mm): the axis is kept"))
+                    if el.body is not None:  # the extrusion stays the source of axis and section
+                        continue
+                else:
+                    self.diagnostics.append(Diagnostic(
+                        "warning", el.eid, f"{el.label}: {why}; the axis is taken from the body's principal direction "
+                        f"instead ({shape.length * 1000:.5g} mm long)"))
+                    el.axis_raw = None
+                    el.body = None
+                    el.body_profile = None  # the extruded profile is not the member's section
             el.shape = shape
             W = self.world[k]
             Rinv = np.linalg.inv(W[:3, :3])
@@ -898,8 +909,9 @@ class _Deriver:
                               "direction of the body, section cut at mid-length).")
         return failed
 
-    def _suspect_length(self, el: _Element) -> str | None:
-        """Why the element's axis (Axis curve or body extrusion) is suspect: shorter than its extruded profile's size."""
+    def _suspect_length(self, el: _Element) -> tuple[str, float] | None:
+        """Why the element's axis (Axis curve or body extrusion) is suspect — shorter than its extruded profile's
+        size — and its length in m."""
         if el.body is None or el.body_profile is None:
             return None
         profile = el.body_profile
@@ -922,7 +934,7 @@ class _Deriver:
             return None
         L = self.scales.length
         return (f"its {what} is {length * L * 1000:.4g} mm long, shorter than its section depth ({size * L * 1000:.4g} mm): "
-                "suspect (a body extruded across the member?)")
+                "suspect (a body extruded across the member?)", length * L)
 
     # ------------------------------------------------------------------ sections, materials, axes
     def _properties(self, elements: list[_Element]) -> None:

@@ -457,3 +457,18 @@ def test_errors_are_not_raised_for_kernel_failures():
     assert not axes and e.id() in failed
     with pytest.raises(IfcInputError, match=r"#\d+"):
         derive_frame_details(m.f, strict=True)
+
+
+def test_short_block_keeps_its_axis():
+    """A stub 150 mm long with a 200 mm deep section is reported, but no other direction of it is longer: kept."""
+    m = Model("IFC4")
+    item = m.extrusion(0.1, 0.2, 0.15, position=m.axis2((0.0, 0.0, 0.0), (1.0, 0.0, 0.0), (0.0, 1.0, 0.0)))
+    e = m.element(item, origin=(0.0, 0.0, 0.0), axis=None, ref=None, rep_type="SweptSolid")
+    m.element(m.extrusion(0.1, 0.2, 3.0, position=m.axis2((0.15, 0.0, 0.0), (1.0, 0.0, 0.0), (0.0, 1.0, 0.0))),
+              name="B2", origin=(0.0, 0.0, 0.0), axis=None, ref=None, rep_type="SweptSolid")
+    frame, diags, notes, left = _derive(m)
+    warn = [d for d in diags if d.entity_id == e.id() and "shorter than its section depth" in d.message]
+    assert warn and "the axis is kept" in warn[0].message
+    assert frame.section_sources[0] == "file"
+    np.testing.assert_allclose(frame.nodes[:, 1:], 0.0, atol=1e-9)  # both along world x
+    np.testing.assert_allclose(sorted(frame.nodes[:, 0]), [0.0, 0.15, 3.15], atol=1e-9)
