@@ -113,7 +113,7 @@ class PLUMBFRAME_OT_load_ifc(bpy.types.Operator):
         drop_session(scene)
         s = session(scene)
         s.path, s.model, s.frame = path, model, model.frame
-        for key in ("pf_cases", "pf_check", "pf_analysis"):
+        for key in ("pf_cases", "pf_check", "pf_check_joints", "pf_analysis"):
             scene.pop(key, None)
         scene["pf_source_file"] = path
         scene["pf_analysis_models"] = [[str(n or ""), str(g)] for n, g in (model.analysis_models or ())]
@@ -148,6 +148,7 @@ class PLUMBFRAME_OT_check(bpy.types.Operator):
         s.indeterminacy = ind
         scene = context.scene
         scene["pf_check"] = ind.to_dict()
+        scene["pf_check_joints"] = ind.joint_lines()
         for line in ind.format_table().splitlines():
             if line.strip():
                 self.report({"INFO"}, line)
@@ -398,8 +399,8 @@ class PLUMBFRAME_OT_clear(bpy.types.Operator):
         scene = context.scene
         drawing.clear_all(scene)
         drop_session(scene)
-        for key in ("pf_cases", "pf_check", "pf_analysis", "pf_governing", "pf_written", "pf_source_file",
-                    "pf_analysis_models", "pf_notes", "pf_diagnostics", "pf_route"):
+        for key in ("pf_cases", "pf_check", "pf_check_joints", "pf_analysis", "pf_governing", "pf_written",
+                    "pf_source_file", "pf_analysis_models", "pf_notes", "pf_diagnostics", "pf_route"):
             scene.pop(key, None)
         return {"FINISHED"}
 

@@ -89,6 +89,31 @@ class PLUMBFRAME_PT_check(_Base, bpy.types.Panel):
             _wrapped(layout, str(note))
 
 
+class PLUMBFRAME_PT_check_joints(_Base, bpy.types.Panel):
+    bl_label = "Joint by Joint"
+    bl_parent_id = "PLUMBFRAME_PT_check"
+    bl_options = {"DEFAULT_CLOSED"}
+
+    #: joints listed in the panel (the command line's check --by-joint lists every one)
+    LIMIT = 60
+
+    @classmethod
+    def poll(cls, context):
+        return "pf_check_joints" in context.scene
+
+    def draw(self, context):
+        layout = self.layout
+        lines = [str(x) for x in context.scene["pf_check_joints"]]
+        rows, total = lines[:-1], lines[-1:]
+        for text in rows[: self.LIMIT]:
+            _wrapped(layout, text)
+        if len(rows) > self.LIMIT:
+            layout.label(text=f"... and {len(rows) - self.LIMIT} more joints (plumbframe check --by-joint)")
+        for text in total:
+            box = layout.box()
+            _wrapped(box, text)
+
+
 class PLUMBFRAME_PT_results(_Base, bpy.types.Panel):
     bl_label = "Analysis and Results"
     bl_parent_id = "PLUMBFRAME_PT_model"
@@ -134,4 +159,5 @@ class PLUMBFRAME_PT_export(_Base, bpy.types.Panel):
         _wrapped(layout, CAUTION)
 
 
-PANELS = (PLUMBFRAME_PT_model, PLUMBFRAME_PT_check, PLUMBFRAME_PT_results, PLUMBFRAME_PT_export)
+PANELS = (PLUMBFRAME_PT_model, PLUMBFRAME_PT_check, PLUMBFRAME_PT_check_joints, PLUMBFRAME_PT_results,
+          PLUMBFRAME_PT_export)

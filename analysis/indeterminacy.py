@@ -173,6 +173,15 @@ class Indeterminacy:
         """The count joint by joint as fixed-width text (``plumbframe check --by-joint``)."""
         return format_joint_table(self, width)
 
+    def joint_lines(self) -> list[str]:
+        """The count joint by joint as short lines (one per joint, then the totals), for narrow panels."""
+        out = [j.short() for j in self.joints]
+        s = joint_totals(self.joints)
+        out.append(f"total: {s['dof']} DOF + {s['releases']} released - {s['restraints']} restrained - "
+                   f"{s['constraints']} eliminated - {s['reductions']} not unknowns = {s['kinematic']} unknowns "
+                   f"(kinematic {self.kinematic})")
+        return out
+
     def format_table(self, width: int = 78) -> str:
         """A fixed-width table of the terms, followed by the notes."""
         t, s = self.terms, self.static_terms
@@ -1074,6 +1083,19 @@ class JointCount:
         return {"unknowns": list(self.unknowns), "restrained": list(self.restrained),
                 "eliminated": [{"component": e.component, "by": e.by} for e in self.eliminated],
                 "own_rotations": int(self.own_rotations)}
+
+    def short(self) -> str:
+        """One short line: the unknowns, then what the support, constraints and reductions take."""
+        parts = [f"{self.node_id}: " + (" ".join(self.unknowns) or "no unknowns")
+                 + (f" + {self.own_rotations} own rotation{'s' if self.own_rotations != 1 else ''}"
+                    if self.own_rotations else "")]
+        if self.restrained:
+            parts.append(f"held {' '.join(self.restrained)} ({self.support or 'support'})")
+        if self.eliminated:
+            parts.append("eliminated " + ", ".join(f"{e.component} by {e.by}" for e in self.eliminated))
+        if self.reduced:
+            parts.append(f"{len(self.reduced)} not unknowns")
+        return "; ".join(parts)
 
     def details(self) -> str:
         """The joint's components in words."""
