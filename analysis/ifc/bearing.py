@@ -2,10 +2,13 @@
 
 `bearing_hits` answers, for points at member ends, whether an upward-facing
 face of one of the given elements' bodies lies directly below the underside
-of the member's section there, within a tolerance. The bodies come from
-``ifcopenshell.geom`` (triangulated, world coordinates, metres); the test is
-a vertical ray from each point against those triangles (barycentric
-coordinates in plan, common practice, no source).
+of the member's section there, within a tolerance, or whether the end is
+built into the body (a beam end in a wall pocket: the point lies inside it).
+The bodies come from ``ifcopenshell.geom`` (triangulated, world coordinates,
+metres); both tests cast a vertical ray from each point against those
+triangles (barycentric coordinates in plan; inside when the upward ray
+crosses the closed surface an odd number of times; common practice, no
+source).
 """
 from __future__ import annotations
 
@@ -27,7 +30,7 @@ _UP = 0.2  # a face counts as upward-facing when its normal's z component exceed
 
 
 def body_triangles(ifc_file, entities: Sequence[Any]) -> dict[int, npt.NDArray[np.float64]]:
-    """Entity id -> upward-facing triangles ``(t, 3, 3)`` of its body, world coordinates in m.
+    """Entity id -> triangles ``(t, 3, 3)`` of its body, world coordinates in m.
 
     Elements whose geometry cannot be built are skipped (logged).
     """
@@ -51,12 +54,7 @@ def body_triangles(ifc_file, entities: Sequence[Any]) -> dict[int, npt.NDArray[n
         v = np.asarray(geo.verts, dtype=float).reshape(-1, 3)
         f = np.asarray(geo.faces, dtype=np.int64).reshape(-1, 3)
         if len(f):
-            tri = v[f]
-            nrm = np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0])
-            norm = np.linalg.norm(nrm, axis=1)
-            up = (norm > 0) & (nrm[:, 2] > _UP * np.maximum(norm, 1e-300))
-            if up.any():
-                out[int(shape.id)] = tri[up]
+            out[int(shape.id)] = v[f]
         ok = bool(it.next())
     return out
 
@@ -85,11 +83,23 @@ def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDAr
     owner = np.repeat(np.arange(q), points.shape[1])
     under = pts[:, 2] - np.repeat(below, points.shape[1])
     best = np.full(q, np.inf)
-    for eid, tri in triangles.items():
-        lo, hi = tri.reshape(-1, 3).min(axis=0), tri.reshape(-1, 3).max(axis=0)
+    for eid, tri_all in triangles.items():
+        lo, hi = tri_all.reshape(-1, 3).min(axis=0), tri_all.reshape(-1, 3).max(axis=0)
         cand = np.flatnonzero((pts[:, 0] >= lo[0] - tol) & (pts[:, 0] <= hi[0] + tol) & (pts[:, 1] >= lo[1] - tol)
-                              & (pts[:, 1] <= hi[1] + tol) & (under >= lo[2] - tol) & (under <= hi[2] + tol))
+                              & (pts[:, 1] <= hi[1] + tol) & (pts[:, 2] >= lo[2] - tol) & (under <= hi[2] + tol))
         if len(cand) == 0:
+            continue
+        # a point inside the body (an end built into a wall): bears, with gap 0
+        inside = _inside(tri_all, pts[cand, :3])
+        for i in cand[inside]:
+            o = owner[i]
+            if best[o] > 0.0:
+                best[o] = 0.0
+                hit[o] = eid
+        nrm = np.cross(tri_all[:, 1] - tri_all[:, 0], tri_all[:, 2] - tri_all[:, 0])
+        norm = np.linalg.norm(nrm, axis=1)
+        tri = tri_all[(norm > 0) & (nrm[:, 2] > _UP * np.maximum(norm, 1e-300))]  # upward-facing faces
+        if len(tri) == 0:
             continue
         a, b, c = tri[:, 0], tri[:, 1], tri[:, 2]
         # barycentric coordinates of the plan point in each triangle's plan projection
@@ -113,3 +123,26 @@ def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDAr
                     best[o] = g
                     hit[o] = eid
     return hit
+
+
+def _inside(tri: npt.NDArray[np.float64], pts: npt.NDArray[np.float64]) -> npt.NDArray[np.bool_]:
+    """Whether each point lies inside the closed triangulated surface (odd crossings of an upward ray)."""
+    if len(pts) == 0:
+        return np.zeros(0, dtype=bool)
+    a, b, c = tri[:, 0], tri[:, 1], tri[:, 2]
+    v0, v1 = (b - a)[:, :2], (c - a)[:, :2]
+    den = v0[:, 0] * v1[:, 1] - v1[:, 0] * v0[:, 1]
+    okd = np.abs(den) > 1e-18
+    out = np.zeros(len(pts), dtype=bool)
+    # a slightly skewed plan point avoids rays through shared edges and vertices
+    jitter = np.array([1.3e-7, 0.7e-7])
+    for chunk in np.array_split(np.arange(len(pts)), max(1, len(pts) * len(tri) // 2_000_000 + 1)):
+        w = (pts[chunk, None, :2] + jitter) - a[None, :, :2]
+        with np.errstate(divide="ignore", invalid="ignore"):
+            u = (w[..., 0] * v1[None, :, 1] - v1[None, :, 0] * w[..., 1]) / den[None, :]
+            t = (v0[None, :, 0] * w[..., 1] - w[..., 0] * v0[None, :, 1]) / den[None, :]
+        inside = okd[None, :] & (u >= 0) & (t >= 0) & (u + t <= 1)
+        z = a[None, :, 2] + u * (b - a)[None, :, 2] + t * (c - a)[None, :, 2]
+        crossings = (inside & (z > pts[chunk, None, 2])).sum(axis=1)
+        out[chunk] = crossings % 2 == 1
+    return out

@@ -75,7 +75,12 @@ Nodes
     gusset plate on a chord, a joist resting on a wall plate below it
     reach the axis they frame into. Ends of several members landing
     within the tolerance of one point of a centre line (beams framing into
-    a column from both sides) share one node there.
+    a column from both sides) share one node there. Two members whose spans
+    cross within touching distance (half the sum of their sizes plus the
+    tolerance; purlins on rafters, a plate on joists, X-braces) are joined
+    there: one node where the centre lines meet, or a node on the lower
+    member's line that the upper member (split there too) reaches through
+    a rigid offset; each such crossing is reported.
 Members on one line
     Two or more elements that end up joining the same two nodes
     (back-to-back angles, double studs, paired mullions, twin stringers)
@@ -97,7 +102,8 @@ Supports
     bearing on an ``IfcWall``, ``IfcSlab``, ``IfcFooting`` or ``IfcPile``
     below it — the underside of its section (half its vertical extent below
     the centroid) within the tolerance of an upward-facing face of that
-    element's body (``ifcopenshell.geom``), or a column connected to a
+    element's body (``ifcopenshell.geom``), or the end built into the body
+    (a beam in a wall pocket) — or a column connected to a
     footing by ``IfcRelConnectsElements``: column bottoms as in (a), beam
     and member ends pinned; (c) when (a) and (b) find nothing (a roof grid,
     a truss or a deck without bearings in the file), the nodes at the
@@ -1292,8 +1298,11 @@ class _Deriver:
                 f"({', '.join(f'{v:.4g}' for v in offsets[k, end])}) m"))
         if eccentric:
             self.notes.append(f"{len(eccentric)} eccentric member ends (off the connected member's centre line by more than the "
-                              f"tolerance but within half its section size) were joined to the centre-line node by rigid offsets: "
+                              f"tolerance but within the snap distance) were joined to the centre-line node by rigid offsets: "
                               + _names(sorted({elements[k].label for k, *_ in eccentric})) + ".")
+
+        # -- 3b. members crossing where they touch ---------------------------------
+        P, node_count, link_offsets = self._crossings(elements, A, B, lengths, half, kinds, P, node_count, landings, elem_nodes)
         same = elem_nodes[:, 0] == elem_nodes[:, 1]
         for k in np.flatnonzero(same).tolist():
             self._leave_out(elements[k], "zero length: both ends join the same node once eccentric ends are joined")
@@ -1373,6 +1382,12 @@ class _Deriver:
         rel[last_seg, 1] = releases[seg_elem_a[last_seg], 1]
         off[first_seg, 0] = offsets[seg_elem_a[first_seg], 0]
         off[last_seg, 1] = offsets[seg_elem_a[last_seg], 1]
+        if link_offsets:  # a member crossing over another: its segments meet the node on the other's line
+            for s in range(s_count):
+                for e_ in (0, 1):
+                    vec = link_offsets.get((int(seg_elem_a[s]), int(seg_nodes_a[s, e_])))
+                    if vec is not None:
+                        off[s, e_] = vec
         truss = self.truss[seg_elem_a]
         rel[truss] = False
         arrays = {
@@ -1438,6 +1453,117 @@ class _Deriver:
     def _project_name(self) -> str:
         projects = self.ifc_file.by_type("IfcProject")
         return str(projects[0].Name or "") if projects else ""
+
+    def _crossings(self, elements, A, B, lengths, half, kinds, P, node_count, landings, elem_nodes):
+        """Join members whose spans cross within touching distance (purlins on rafters, plates on joists, X-braces).
+
+        Two centre lines whose closest points lie inside both spans (farther than the other's half size plus
+        the tolerance from either end) and closer than half the sum of the section sizes plus the tolerance
+        touch there. Closer than the tolerance they share one new node where they meet; otherwise the node is
+        on the line of the member below (a column before a beam before a member at equal height) and the
+        other member, split there too, reaches it through a rigid offset. Returns the node positions, their
+        count and the offsets {(element, node): vector}.
+        """
+        from scipy.spatial import cKDTree
+
+        tol = self.tol
+        m = len(elements)
+        links: dict[tuple[int, int], np.ndarray] = {}
+        if m < 2:
+            return P, node_count, links
+        reach = 2.0 * float(half.max()) + tol
+        step = max(reach, float(np.median(lengths)) / 4.0, 1e-3)
+        counts = np.maximum(1, np.ceil(lengths / step).astype(np.int64))
+        owner = np.repeat(np.arange(m), counts + 1)
+        frac = np.concatenate([np.linspace(0.0, 1.0, c + 1) for c in counts])
+        pts = A[owner] + frac[:, None] * (B - A)[owner]
+        spacing = lengths / counts  # sample spacing per element
+        tree = cKDTree(pts)
+        pairs = tree.query_pairs(r=reach + 0.5 * float(spacing.max()) * 1.01 + tol, output_type="ndarray")
+        if len(pairs) == 0:
+            return P, node_count, links
+        ij = np.sort(np.stack([owner[pairs[:, 0]], owner[pairs[:, 1]]], axis=1), axis=1)
+        ij = np.unique(ij[ij[:, 0] != ij[:, 1]], axis=0)
+        if len(ij) == 0:
+            return P, node_count, links
+        i, j = ij[:, 0], ij[:, 1]
+        # closest points of two lines (common practice, no source): a + s u, b + t v
+        u, v = B[i] - A[i], B[j] - A[j]
+        w0 = A[i] - A[j]
+        aa, bb, cc = np.sum(u * u, 1), np.sum(u * v, 1), np.sum(v * v, 1)
+        dd, ee = np.sum(u * w0, 1), np.sum(v * w0, 1)
+        den = aa * cc - bb * bb
+        ok = den > 1e-12 * aa * cc  # not parallel (parallel pairs are elements on one line)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            s = (bb * ee - cc * dd) / den
+            t = (aa * ee - bb * dd) / den
+        pi = A[i] + s[:, None] * u
+        pj = A[j] + t[:, None] * v
+        dist = np.linalg.norm(pi - pj, axis=1)
+        li, lj = lengths[i], lengths[j]
+        inside_i = (s * li > half[j] + tol) & ((1 - s) * li > half[j] + tol)
+        inside_j = (t * lj > half[i] + tol) & ((1 - t) * lj > half[i] + tol)
+        touch = ok & inside_i & inside_j & (dist <= half[i] + half[j] + tol)
+        if not touch.any():
+            return P, node_count, links
+        ends = [set(map(int, elem_nodes[k])) for k in range(m)]
+        new_points: list[np.ndarray] = []
+        joined: list[str] = []
+
+        def node_near(k: int, point: np.ndarray) -> int | None:
+            """A node already on element k's line within the tolerance of ``point`` (several members crossing there)."""
+            for _, p_ in landings[k]:
+                if np.linalg.norm((P[p_] if p_ < node_count else new_points[p_ - node_count]) - point) <= tol:
+                    return p_
+            return None
+
+        def new_node(point: np.ndarray) -> int:
+            new_points.append(point)
+            return node_count + len(new_points) - 1
+
+        for n_ in np.flatnonzero(touch).tolist():
+            a, b = int(i[n_]), int(j[n_])
+            if ends[a] & ends[b]:
+                continue  # already joined at an end
+            if dist[n_] <= tol:
+                point = 0.5 * (pi[n_] + pj[n_])
+                p = node_near(a, point)
+                p = node_near(b, point) if p is None else p
+                p = new_node(point) if p is None else p
+                for k_, tk in ((a, float(s[n_])), (b, float(t[n_]))):
+                    if all(q != p for _, q in landings[k_]) and not any(
+                            abs(tq - tk) * lengths[k_] <= tol for tq, _ in landings[k_]):
+                        landings[k_].append((tk, p))
+                joined.append(f"{elements[a].label} and {elements[b].label} where they cross")
+                continue
+            # the node on the supporting member: the lower one, else the higher-priority class
+            lower_first = (pi[n_, 2] < pj[n_, 2] - tol) or (abs(pi[n_, 2] - pj[n_, 2]) <= tol and kinds[a] <= kinds[b])
+            base, over = (a, b) if lower_first else (b, a)
+            pb, po = (pi[n_], pj[n_]) if lower_first else (pj[n_], pi[n_])
+            tb, to = (float(s[n_]), float(t[n_])) if lower_first else (float(t[n_]), float(s[n_]))
+            p = node_near(base, pb)
+            if p is None:
+                p = new_node(pb)
+                landings[base].append((tb, p))
+            if (over, p) in links or any(q == p for _, q in landings[over]):
+                continue
+            if any(abs(tq - to) * lengths[over] <= tol for tq, _ in landings[over]):
+                continue  # already joined within the tolerance of this point (no zero-length piece)
+            pos = P[p] if p < node_count else new_points[p - node_count]
+            landings[over].append((to, p))
+            links[(over, p)] = po - pos
+            joined.append(f"{elements[over].label} on {elements[base].label} ({dist[n_] * 1000:.4g} mm apart)")
+            self.diagnostics.append(Diagnostic("info", elements[over].eid,
+                                               f"{elements[over].label}: crosses {elements[base].label} "
+                                               f"{dist[n_] * 1000:.4g} mm from its centre line (their sections touch): joined "
+                                               "to a node on it by a rigid offset"))
+        if new_points:
+            P = np.vstack([P, np.array(new_points)])
+            node_count = len(P)
+            self.notes.append(f"{len(joined)} crossings of members whose sections touch were joined (a node where the centre "
+                              "lines meet, or on the supporting member's line with a rigid offset to the one above): "
+                              + _names(joined) + ".")
+        return P, node_count, links
 
     def _nearest_line(self, A, B, lengths, half, x, k, tol):
         """(element, t, distance) of the nearest other centre line within its half size + tol of ``x``."""

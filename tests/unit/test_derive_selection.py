@@ -274,10 +274,10 @@ def test_double_studs_side_by_side_or_merged():
 def test_members_auto_rule_and_override():
     m = portal()
     m.element("IfcColumn", "C3", (9, 0, 0), (9, 0, 4), COL)
-    m.element("IfcMember", "Brace", (0, 0, 0), (6, 0, 4), (0.1, 0.1), predefined="BRACE")  # between two joints
+    m.element("IfcMember", "Brace", (6, 0, 0), (9, 0, 4), (0.1, 0.1), predefined="BRACE")  # between two joints
     m.element("IfcMember", "Stud", (3, 0, 0), (3, 0, 4), (0.05, 0.1), predefined="STUD")  # a framing type
     m.element("IfcMember", "Chord", (6, 0, 4), (9, 0, 4), (0.1, 0.1))  # continues B1 in line
-    m.element("IfcMember", "Rail", (0, 0, 2), (6, 0, 2), (0.1, 0.1))  # the post lands on its span
+    m.element("IfcMember", "Rail", (0, 0, 2), (6, 0, 2), (0.1, 0.1))  # the post lands on its span, the stud crosses it
     m.element("IfcMember", "Post", (2, 0, 0), (2, 0, 2), (0.1, 0.1))  # from a support to the rail
     m.element("IfcMember", "Arm", (9, 0, 4), (10, 0, 5), (0.1, 0.1))  # one end meets nothing
     fr, diags, notes = m.derive()
@@ -287,8 +287,9 @@ def test_members_auto_rule_and_override():
     assert truss["Brace"] and "between two joints (BRACE)" in why["Brace"]
     assert truss["Post"] and "pin-ended axial bar" in why["Post"]
     assert not truss["Stud"] and "a STUD (framing member)" in why["Stud"]
+    assert any("crosses" in d.message or "where they cross" in n for d in diags for n in notes)
     assert not truss["Chord"] and "continued in line by #" in why["Chord"] and "'B1'" in why["Chord"]
-    assert not truss["Rail"] and "continuous through 1 joint(s)" in why["Rail"]
+    assert not truss["Rail"] and "continuous through 2 joint(s)" in why["Rail"]
     assert not truss["Arm"] and "meets no other element" in why["Arm"]
     assert any("IfcMember idealisation (--members auto): 2 pin-ended axial bars" in n for n in notes)
     fr, _, _ = m.derive(members="frame")
@@ -296,3 +297,41 @@ def test_members_auto_rule_and_override():
     fr, _, _ = m.derive(members="truss")
     members = [k for k, lab in enumerate(fr.member_labels) if "IfcMember" in lab]
     assert fr.truss[members].all() and not np.delete(fr.truss, members).any()
+
+
+def test_members_crossing_where_they_touch_are_joined():
+    m = Physical()
+    b, h = BEAM
+    for x in (0.0, 6.0):  # two rafters along Y on columns ...
+        m.element("IfcColumn", f"C{x:g}a", (x, 0, 0), (x, 0, 3), COL)
+        m.element("IfcColumn", f"C{x:g}b", (x, 6, 0), (x, 6, 3), COL)
+        m.element("IfcBeam", f"R{x:g}", (x, 0, 3), (x, 6, 3), BEAM)
+    # ... and a purlin along X lying on them: centre line h above theirs (their sections touch)
+    m.element("IfcBeam", "P", (-1, 3, 3 + h), (7, 3, 3 + h), BEAM)
+    fr, diags, notes = m.derive()
+    assert {"R0/1", "R0/2", "R6/1", "R6/2", "P/1", "P/2", "P/3"} <= set(fr.member_ids)
+    k = node_at(fr, (0, 3, 3))  # the node is on the rafter below
+    p1 = fr.member_index("P/1")
+    assert fr.members[p1, 1] == k
+    np.testing.assert_allclose(fr.offsets[p1, 1], [0, 0, h], atol=1e-12)
+    assert sum("crosses" in d.message for d in diags) == 2
+    np.testing.assert_allclose(_reaction_z(fr), _weight(fr), rtol=1e-9)
+    # X-bracing in one plane: the diagonals meet at one node
+    m = portal()
+    m.element("IfcMember", "X1", (0, 0, 0), (6, 0, 4), (0.1, 0.1), predefined="BRACE")
+    m.element("IfcMember", "X2", (6, 0, 0), (0, 0, 4), (0.1, 0.1), predefined="BRACE")
+    fr, _, _ = m.derive()
+    k = node_at(fr, (3, 0, 2))
+    assert sum(k in fr.members[i] for i in range(fr.n_members)) == 4
+    assert not fr.truss.any()  # continuous through the crossing: frame members
+
+
+def test_beam_end_built_into_a_wall_is_supported():
+    m = Physical()
+    _wall(m, (-0.2, -1.0, 0.0), (0.4, 2.0), 3.5)  # the walls go on above the beam (pockets)
+    _wall(m, (5.8, -1.0, 0.0), (0.4, 2.0), 3.5)
+    m.element("IfcBeam", "B", (0, 0, 3), (6, 0, 3), BEAM)
+    fr, diags, notes = m.derive()
+    assert fr.restraints.any(axis=1).sum() == 2 and fr.restraints[:, :3].all()
+    assert sum("bears on #" in d.message for d in diags) == 2
+    np.testing.assert_allclose(_reaction_z(fr), _weight(fr), rtol=1e-9)
