@@ -839,23 +839,11 @@ def _explain_redundant(frame: Frame, dofs) -> list[str]:
     scale = _column_scale(frame, dofs.node_dof, dofs.hinge_dof, dofs.n_x)
     C_r = dofs.C_r.tocsr()
     out = []
-    dense_cache: dict[int, np.ndarray] = {}
-    for r in red[:MAX_EXPLAINED]:
+    explained = red[:MAX_EXPLAINED]
+    combos = _redundant_combinations(dofs, scale, explained, red_set, group_of)
+    for r in explained:
         row = dofs.rows[r]
-        coeffs: list[tuple[int, float]] = []
-        if r in group_of:
-            gi = group_of[r]
-            ridx, cidx = dofs.groups[gi]
-            if gi not in dense_cache:
-                dense_cache[gi] = dofs.C[ridx][:, cidx].toarray() * scale[cidx][None, :]
-            M = dense_cache[gi]
-            pos = int(np.flatnonzero(ridx == r)[0])
-            earlier = [k for k in range(pos) if int(ridx[k]) not in red_set]
-            if earlier:
-                a = np.linalg.lstsq(M[earlier].T, M[pos], rcond=None)[0]
-                norms = np.linalg.norm(M[earlier], axis=1) * np.abs(a)
-                ref = max(float(np.linalg.norm(M[pos])), 1e-300)
-                coeffs = [(int(ridx[earlier[k]]), float(a[k])) for k in range(len(earlier)) if norms[k] > 1e-8 * ref]
+        coeffs = combos.get(r, [])
         resid = C_r[[r]].toarray().reshape(-1)
         for q, a in coeffs:
             resid = resid - a * C_r[[q]].toarray().reshape(-1)
@@ -864,6 +852,36 @@ def _explain_redundant(frame: Frame, dofs) -> list[str]:
         out.append(_sentence(frame, dofs, row, [dofs.rows[q] for q, _ in coeffs], supports))
     if len(red) > MAX_EXPLAINED:
         out.append(f"... and {len(red) - MAX_EXPLAINED} more redundant constraints")
+    return out
+
+
+def _redundant_combinations(dofs, scale, rows, red_set, group_of) -> dict[int, list[tuple[int, float]]]:
+    """Per redundant row, the earlier independent rows of its group it is a combination of.
+
+    The independent rows of a group are a basis of its rows, and each
+    redundant row depends on independent rows before it only (that is how
+    they were told apart), so one least-squares solve per group, with all
+    its redundant rows as right-hand sides, gives every combination.
+    """
+    by_group: dict[int, list[int]] = {}
+    for r in rows:
+        if r in group_of:
+            by_group.setdefault(group_of[r], []).append(r)
+    out: dict[int, list[tuple[int, float]]] = {}
+    for gi, reds in by_group.items():
+        ridx, cidx = dofs.groups[gi]
+        M = dofs.C[ridx][:, cidx].toarray() * scale[cidx][None, :]
+        indep = np.array([k for k in range(len(ridx)) if int(ridx[k]) not in red_set], dtype=np.int64)
+        pos = np.array([int(np.flatnonzero(ridx == r)[0]) for r in reds], dtype=np.int64)
+        if indep.size == 0:
+            continue
+        A = np.linalg.lstsq(M[indep].T, M[pos].T, rcond=None)[0]  # (indep, reds)
+        base = np.linalg.norm(M[indep], axis=1)
+        for q, (r, p) in enumerate(zip(reds, pos)):
+            a = A[:, q]
+            ref = max(float(np.linalg.norm(M[p])), 1e-300)
+            keep = (indep < p) & (base * np.abs(a) > 1e-8 * ref)
+            out[r] = [(int(ridx[k]), float(v)) for k, v in zip(indep[keep], a[keep])]
     return out
 
 
