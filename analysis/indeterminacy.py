@@ -39,6 +39,20 @@ The JSON ``terms`` block holds exactly these keys (plus
 ``redundant_constraints``); ``releases`` is an addition to the first version
 of the contract.
 
+Joint by joint
+--------------
+`Indeterminacy.joints` splits the same count by joint, as a hand calculation
+does: at every joint ::
+
+    DOF + releases - restrained - eliminated - reduced = unknowns + own rotations
+
+where ``eliminated`` are the components an independent exact constraint takes
+away (each independent constraint takes exactly one; which one follows the rule
+of `ATTRIBUTION_RULE`, the choice the solver's elimination makes) and
+``reduced`` the components that are no unknowns (rotations nothing attaches to,
+pinned ends condensed, own end rotations condensed). Summed over the joints the
+columns are the terms above and the right-hand side is the kinematic count.
+
 Static indeterminacy (number of redundants)
 -------------------------------------------
 From the ranks of the equilibrium matrix ``B`` (equations x force unknowns):
