@@ -24,7 +24,8 @@ import numpy as np
 from . import readout
 
 __all__ = ["ROLES", "PALETTE", "root_collection", "role_collection", "clear_role", "clear_all",
-           "draw_frame", "store_results", "draw_deformed", "draw_mechanism", "colour_members",
+           "draw_frame", "store_results", "store_stability", "draw_deformed", "draw_mechanism", "draw_shape",
+           "colour_members",
            "draw_diagram", "member_objects", "colour_scale", "shade_viewports"]
 
 ROLES = {
@@ -454,6 +455,40 @@ def draw_mechanism(scene, frame, motion: np.ndarray, index: int = 0, text: str =
     obj["pf_description"] = text
     obj["pf_scale"] = scale
     return obj
+
+
+def store_stability(scene, results) -> None:
+    """Critical factors, frequencies and modal masses of ``results`` as the scene's ``pf_stability``."""
+    doc = {"theory": str(getattr(results, "theory", "first-order"))}
+    buckling = getattr(results, "buckling", None)
+    if buckling is not None:
+        doc["buckling"] = {name: [float(m.factor) for m in found] for name, found in buckling.items()}
+    modes = getattr(results, "modes", None)
+    if modes is not None:
+        doc["modes"] = [{"frequency": float(m.frequency), "period": float(m.period),
+                         "mass": [float(r) for r in m.effective_mass_ratio]} for m in modes]
+        doc["mass"] = float(results.mass.total)
+    scene["pf_stability"] = doc
+
+
+def draw_shape(scene, frame, along, scale: float = 0.0, label: str = "") -> tuple[bpy.types.Object, float]:
+    """A buckling or natural mode (per member its points end i → end j, largest translation 1), drawn at ``scale``."""
+    clear_role(scene, "deformed")
+    sz = _sizes(frame)
+    scale = scale if scale > 0 else sz["extent"] / 8.0
+    parts = []
+    for k, pts in enumerate(along):
+        i, j = frame.members[k]
+        pts = np.asarray(pts, float)
+        t = np.linspace(0.0, 1.0, len(pts))[:, None]
+        base = (1 - t) * (frame.nodes[i] + frame.offsets[k, 0]) + t * (frame.nodes[j] + frame.offsets[k, 1])
+        parts.append(_tube(base + scale * pts[:, :3], sz["radius"] * 0.8))
+    me = _mesh("PF shape", *_merge(parts), colours=np.array(PALETTE["mechanism"]))
+    obj = _object("PF shape", me, role_collection(scene, "deformed"))
+    obj["pf_kind"] = "shape"
+    obj["pf_description"] = label
+    obj["pf_scale"] = scale
+    return obj, scale
 
 
 def colour_scale(values: np.ndarray, vmin: float, vmax: float, signed: bool) -> np.ndarray:

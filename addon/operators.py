@@ -33,7 +33,25 @@ def _options(settings, model=None):
     if plane is None and getattr(model, "plane", False):
         plane = True  # the analysis model declares in-plane 2D loading
     return engine("model").AnalysisOptions(plane=plane, inextensible=settings.inextensible,
-                                           condense_pinned=settings.condense_pinned, shear=settings.shear)
+                                           condense_pinned=settings.condense_pinned, shear=settings.shear,
+                                           second_order=settings.theory == "SECOND",
+                                           buckling=settings.buckling_count, modes=settings.modes_count,
+                                           mass=_mass_cases(settings.mass_cases))
+
+
+def _mass_cases(text: str) -> tuple[tuple[str, float], ...]:
+    """'G dead; Q=0.3' -> (('G dead', 1.0), ('Q', 0.3)); the engine checks the names."""
+    out = []
+    for part in (p.strip() for p in text.split(";")):
+        if not part:
+            continue
+        name, _, factor = part.rpartition("=") if "=" in part else (part, "", "1")
+        try:
+            value = float(factor)
+        except ValueError:
+            value, name = 1.0, part
+        out.append((name.strip(), value))
+    return tuple(out)
 
 
 def _scene_options(context):
@@ -226,6 +244,7 @@ class PLUMBFRAME_OT_analyze(bpy.types.Operator):
         scene["pf_analysis"] = {"unknowns": int(results.n_unknowns), "solver": str(results.solver),
                                 "dimension": int(results.dimension), "equilibrium_residual": float(worst),
                                 "cases": len(results.cases)}
+        drawing.store_stability(scene, results)
         settings = _settings(context)
         if results.cases and settings.case not in results.cases:
             settings.case = next(iter(results.cases))
@@ -251,6 +270,42 @@ class PLUMBFRAME_OT_show_deformed(bpy.types.Operator):
         obj, scale = drawing.draw_deformed(context.scene, s.results, case, _settings(context).deformed_scale)
         self.report({"INFO"}, f"{case}: largest displacement "
                               f"{readout.format_value('DISPLACEMENT', obj['pf_max_displacement'])}, drawn {scale:.4g}x")
+        return {"FINISHED"}
+
+
+class PLUMBFRAME_OT_show_shape(bpy.types.Operator):
+    """Draw the chosen buckling mode of the shown combination, or natural mode, at the shape scale"""
+
+    bl_idname = "plumbframe.show_shape"
+    bl_label = "Show Shape"
+    bl_options = {"REGISTER", "UNDO"}
+
+    def execute(self, context):
+        s = _need_results(self, context)
+        if s is None:
+            return {"CANCELLED"}
+        settings = _settings(context)
+        k = settings.shape_index - 1
+        if settings.shape_kind == "BUCKLING":
+            buckling = getattr(s.results, "buckling", None) or {}
+            case = settings.case if settings.case in buckling else next(iter(buckling), None)
+            found = buckling.get(case, []) if case is not None else []
+            if k >= len(found):
+                self.report({"ERROR"}, f"No buckling mode {k + 1} for {case or 'any load set'}: set 'Critical "
+                                       f"factors' and analyse again" if case else "No critical factors: set "
+                                       "'Critical factors' above 0 and analyse again")
+                return {"CANCELLED"}
+            mode = found[k]
+            label = f"{case}: buckling mode {k + 1}, critical factor {mode.factor:.4g}"
+        else:
+            modes = getattr(s.results, "modes", None) or []
+            if k >= len(modes):
+                self.report({"ERROR"}, f"No natural mode {k + 1}: set 'Natural modes' and analyse again")
+                return {"CANCELLED"}
+            mode = modes[k]
+            label = f"natural mode {k + 1}: {mode.frequency:.4g} Hz, period {mode.period:.4g} s"
+        obj, scale = drawing.draw_shape(context.scene, s.frame, mode.along, settings.shape_scale, label)
+        self.report({"INFO"}, f"{label} (largest translation drawn {scale:.3g} m)")
         return {"FINISHED"}
 
 
@@ -399,7 +454,7 @@ class PLUMBFRAME_OT_clear(bpy.types.Operator):
         scene = context.scene
         drawing.clear_all(scene)
         drop_session(scene)
-        for key in ("pf_cases", "pf_check", "pf_check_joints", "pf_analysis", "pf_governing", "pf_written",
+        for key in ("pf_cases", "pf_check", "pf_check_joints", "pf_analysis", "pf_stability", "pf_governing", "pf_written",
                     "pf_source_file", "pf_analysis_models", "pf_notes", "pf_diagnostics", "pf_route"):
             scene.pop(key, None)
         return {"FINISHED"}
@@ -410,6 +465,7 @@ OPERATORS = (
     PLUMBFRAME_OT_check,
     PLUMBFRAME_OT_analyze,
     PLUMBFRAME_OT_show_deformed,
+    PLUMBFRAME_OT_show_shape,
     PLUMBFRAME_OT_colour_members,
     PLUMBFRAME_OT_draw_diagrams,
     PLUMBFRAME_OT_select_governing,

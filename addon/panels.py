@@ -159,5 +159,45 @@ class PLUMBFRAME_PT_export(_Base, bpy.types.Panel):
         _wrapped(layout, CAUTION)
 
 
+class PLUMBFRAME_PT_stability(_Base, bpy.types.Panel):
+    bl_label = "Second Order, Buckling and Modes"
+    bl_parent_id = "PLUMBFRAME_PT_model"
+    bl_options = {"DEFAULT_CLOSED"}
+
+    def draw(self, context):
+        layout = self.layout
+        settings = context.scene.plumbframe
+        col = layout.column(align=True)
+        col.prop(settings, "theory")
+        col.prop(settings, "buckling_count")
+        col.prop(settings, "modes_count")
+        col.prop(settings, "mass_cases")
+        layout.label(text="Set these, then Analyse")
+        doc = context.scene.get("pf_stability")
+        if doc is None:
+            return
+        doc = doc.to_dict() if hasattr(doc, "to_dict") else dict(doc)
+        layout.label(text=f"Theory: {doc.get('theory', '')}")
+        buckling = dict(doc.get("buckling", {}))
+        if buckling:
+            box = layout.box()
+            box.label(text="Critical load factors (10 or more: first order acceptable)")
+            for name, factors in list(buckling.items())[:12]:
+                box.label(text=f"{name}: " + ", ".join(f"{float(a):.3g}" for a in list(factors)[:6]))
+        modes = list(doc.get("modes", ()))
+        if modes:
+            box = layout.box()
+            box.label(text=f"Natural modes (mass {float(doc.get('mass', 0.0)):.4g} kg)")
+            for k, m in enumerate(modes[:12], 1):
+                r = list(m["mass"])
+                box.label(text=f"{k}: {float(m['frequency']):.4g} Hz  x {r[0]:.2f} y {r[1]:.2f} z {r[2]:.2f}")
+        if buckling or modes:
+            row = layout.row(align=True)
+            row.prop(settings, "shape_kind", text="")
+            row.prop(settings, "shape_index")
+            layout.prop(settings, "shape_scale")
+            layout.operator("plumbframe.show_shape", icon="MOD_WAVE")
+
+
 PANELS = (PLUMBFRAME_PT_model, PLUMBFRAME_PT_check, PLUMBFRAME_PT_check_joints, PLUMBFRAME_PT_results,
-          PLUMBFRAME_PT_export)
+          PLUMBFRAME_PT_stability, PLUMBFRAME_PT_export)

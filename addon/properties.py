@@ -11,7 +11,7 @@ the panel does::
 from __future__ import annotations
 
 import bpy
-from bpy.props import BoolProperty, EnumProperty, FloatProperty, PointerProperty, StringProperty
+from bpy.props import BoolProperty, EnumProperty, FloatProperty, IntProperty, PointerProperty, StringProperty
 
 __all__ = ["PLUMBFRAME_PG_settings", "FORCE_ITEMS", "COLOUR_ITEMS", "register_pointer", "unregister_pointer"]
 
@@ -90,6 +90,26 @@ class PLUMBFRAME_PG_settings(bpy.types.PropertyGroup):
                                   description="Reduce the rotations at pinned member ends out of the unknowns")
     shear: BoolProperty(name="Shear deformation", default=False,
                         description="Include shear deformation where sections give shear areas")
+    theory: EnumProperty(name="Theory", description="First- or second-order analysis of the load cases",
+                         items=(("FIRST", "First order", "Linear elastic, first order"),
+                                ("SECOND", "Second order", "P-Delta and P-delta: every load case and combination "
+                                                           "analysed to second order as its own load set")),
+                         default="FIRST")
+    buckling_count: IntProperty(name="Critical factors", default=0, min=0, soft_max=20,
+                                description="How many elastic critical load factors to compute per combination "
+                                            "(per load case without combinations); 0: none")
+    modes_count: IntProperty(name="Natural modes", default=0, min=0, soft_max=30,
+                             description="How many natural modes to compute; 0: none")
+    mass_cases: StringProperty(name="Mass from", default="",
+                               description="Load cases whose gravity loads / g add mass to the modes, "
+                                           "CASE[=FACTOR] separated by ';' (members' own mass is always in)")
+    shape_kind: EnumProperty(name="Shape", description="Which kind of shape to draw",
+                             items=(("BUCKLING", "Buckling", "A buckling mode of the shown combination"),
+                                    ("MODE", "Natural mode", "A natural mode of vibration")),
+                             default="BUCKLING")
+    shape_index: IntProperty(name="Number", default=1, min=1, description="Which mode, lowest first")
+    shape_scale: FloatProperty(name="Shape scale", default=0.0, min=0.0, unit="LENGTH",
+                               description="Length of the largest translation as drawn; 0: one eighth of the model")
     case: EnumProperty(name="Load case", description="Load case or combination to show",
                        items=_list_items("cases", "pf_cases", "(analyse first)"))
     colour_quantity: EnumProperty(name="Colour by", description="Quantity that colours the members",

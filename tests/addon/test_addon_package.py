@@ -12,7 +12,7 @@ MODULE = "bl_ext.user_default.plumbframe"
 
 pytestmark = pytest.mark.addon
 
-OPERATORS = ("load_ifc", "check", "analyze", "show_deformed", "colour_members", "draw_diagrams",
+OPERATORS = ("load_ifc", "check", "analyze", "show_deformed", "show_shape", "colour_members", "draw_diagrams",
              "select_governing", "write_ifc", "clear")
 
 
