@@ -2,13 +2,15 @@
 
 Usage::
 
-    .venv/bin/python tools/real_models.py DIR [--timeout S] [--out TABLE.md] [-- EXTRA CLI OPTIONS]
+    .venv/bin/python tools/real_models.py DIR [--timeout S] [--out TABLE.md] [--maps MAPDIR] [-- EXTRA CLI OPTIONS]
 
 For each ``*.ifc`` file (sorted by name) three subprocesses run, each with the
 timeout: a probe (this script with ``--probe``: it reads the model as the CLI
 does and measures the included elements' body volumes with
 ``ifcopenshell.geom``), ``plumbframe check`` and ``plumbframe analyze … --json``.
-Options after ``--`` go to both commands (e.g. ``--materials map.toml``).
+Options after ``--`` go to both commands (e.g. ``--members frame``). With
+``--maps MAPDIR``, a file ``MAPDIR/<name>.toml`` beside a model's name is
+passed as its ``--materials`` map (the only per-file input).
 
 Columns: file; schema; elements (IfcBeam, IfcColumn, IfcMember in the file);
 included (elements that became members); left out by reason; materials by
@@ -16,8 +18,10 @@ source (elements); nodes, members, supports of the analytical frame; exit
 codes of check and analyze; seconds and peak resident memory of analyze; the
 largest equilibrium residual; the total vertical reaction of the
 "Self-weight" case beside ρ·g·V summed over the included elements (ρ of the
-element's member, V the volume of its body mesh) and their ratio; the first
-line of the error or mechanism, if any. The table is Markdown.
+element's member, V the volume of its body mesh; the number of included
+elements whose body the geometry kernel cannot build is given beside it, and
+then no ratio) and their ratio; the first line of the error or mechanism, if
+any. The table is Markdown.
 """
 from __future__ import annotations
 
@@ -193,9 +197,12 @@ def table(rows: list[dict]) -> str:
     lines = [head, "|" + "---|" * 18]
     for r in rows:
         rz, w = r.get("reaction_z"), r.get("rho_g_V")
-        ratio = f"{rz / w:.3f}" if rz is not None and w else "–"
+        missing = int(r.get("no_volume") or 0)
+        ratio = f"{rz / w:.3f}" if rz is not None and w and not missing else "–"
         res = r.get("residual")
         note = r.get("problem") or r.get("error") or r.get("probe") or ""
+        if r.get("map"):
+            note = f"material map {r['map']}" + (f"; {note}" if note else "")
         lines.append("| " + " | ".join([
             r["file"], str(r.get("schema", "–")), str(r.get("elements", "–")), str(r.get("included", "–")),
             _fmt_counts(r.get("left_out")), _fmt_counts(r.get("materials")), str(r.get("nodes", "–")),
@@ -203,7 +210,8 @@ def table(rows: list[dict]) -> str:
             str(r.get("check", "–")), str(r.get("analyze", "–")) if r.get("analyze") is not None else "timeout",
             f"{r.get('seconds', 0):.1f}", f"{r.get('peak_mb', 0):.0f}",
             f"{res:.1e}" if isinstance(res, float) else "–",
-            f"{rz / 1e3:.2f}" if rz is not None else "–", f"{w / 1e3:.2f}" if w else "–", ratio,
+            f"{rz / 1e3:.2f}" if rz is not None else "–",
+            (f"{w / 1e3:.2f}" if w else "–") + (f" ({missing} without geometry)" if missing else ""), ratio,
             note.replace("|", "/")]) + " |")
     return "\n".join(lines)
 
@@ -218,6 +226,7 @@ def main(argv: list[str] | None = None) -> int:
     p.add_argument("folder", nargs="?")
     p.add_argument("--timeout", type=float, default=600.0, help="seconds per subprocess (default 600)")
     p.add_argument("--out", help="also write the table to this file")
+    p.add_argument("--maps", metavar="MAPDIR", help="folder of per-model material maps <model name>.toml")
     p.add_argument("--probe", metavar="FILE", help=argparse.SUPPRESS)
     args = p.parse_args(argv)
     if args.probe:
@@ -228,7 +237,10 @@ def main(argv: list[str] | None = None) -> int:
     files = sorted(Path(args.folder).glob("*.ifc"))
     rows = []
     for path in files:
-        row = measure(path, args.timeout, extra)
+        own = Path(args.maps) / f"{path.stem}.toml" if args.maps else None
+        row = measure(path, args.timeout, extra + (["--materials", str(own)] if own is not None and own.exists() else []))
+        if own is not None and own.exists():
+            row["map"] = own.name
         rows.append(row)
         print(f"{path.name}: check {row.get('check')}, analyze {row.get('analyze')}, {row.get('seconds', 0):.1f} s",
               file=sys.stderr)
