@@ -772,7 +772,7 @@ def _dask(tasks: Sequence[ModelTask], progress: _Progress, verbose: bool, done: 
             n = max(1, min(workers or _cores(), len(tasks)))
             progress.con.progress(f"starting {n} Dask worker process{'es' if n > 1 else ''}")
             cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True, dashboard_address=None,
-                                   silence_logs=quiet_logs)
+                                   silence_logs=logging.CRITICAL if not verbose else logging.WARNING)
             client = Client(cluster)
             where = f"a local Dask cluster of {n} worker process{'es' if n > 1 else ''}"
         try:
