@@ -1104,6 +1104,7 @@ class JointCount:
     releases: int  # released bending rotations of member ends here
     own_rotations: int  # of those, the ones that are unknowns
     own_members: tuple[str, ...] = ()  # member ids whose hinged end here has its own rotation
+    entity: str = ""  # the IFC entity in words: the node's label, or the members meeting at a derived joint
 
     @property
     def count(self) -> int:
@@ -1169,6 +1170,7 @@ class _JointData:
     own_members: dict  # node -> [member id, ...]
     support: tuple[str, ...]  # per node
     terms: dict
+    meeting: dict  # node -> member labels meeting there (joints derived from physical elements only)
 
 
 def _joint_data(frame: Frame, dofs, R: np.ndarray, terms: dict) -> _JointData:
@@ -1220,7 +1222,13 @@ def _joint_data(frame: Frame, dofs, R: np.ndarray, terms: dict) -> _JointData:
         for k, e in zip(hinged_members.tolist(), hinged_ends.tolist()):
             own_members.setdefault(int(frame.members[k, e]), []).append(frame.member_ids[k])
     support = tuple(_support_words(dofs, k) for k in range(n))
-    return _JointData(frame=frame, active=active, cls=cls, by_row=by_row, rows=tuple(dofs.rows), expr_ptr=ptr,
+    meeting: dict[int, list[str]] = {}
+    if m and any(src is None for src in frame.node_sources):
+        for k, (i, j) in enumerate(frame.members.tolist()):
+            for node in (i, j):
+                if frame.node_sources[node] is None:
+                    meeting.setdefault(node, []).append(frame.member_labels[k])
+    return _JointData(meeting=meeting, frame=frame, active=active, cls=cls, by_row=by_row, rows=tuple(dofs.rows), expr_ptr=ptr,
                       expr_node=dofs.x_node[tmaster], expr_comp=dofs.x_comp[tmaster], releases=releases, own=own,
                       own_members=own_members, support=support, terms=dict(terms))
 
@@ -1271,11 +1279,19 @@ def _build_joint_counts(d: _JointData) -> tuple[JointCount, ...]:
         reduced += [("own rotation", "hinged member end, condensed out")] * condensed_own
         label = frame.node_labels[k]
         source = frame.node_sources[k]
+        if source is None and k in d.meeting:
+            meet = list(dict.fromkeys(d.meeting[k]))
+            more = f" and {len(meet) - 3} more" if len(meet) > 3 else ""
+            entity = f"{label}: where {', '.join(meet[:3])}{more} meet"
+        elif source and source not in label:
+            entity = f"{label} (source {source})"
+        else:
+            entity = label
         out.append(JointCount(node_id=frame.node_ids[k], label=label, source=source, components=names,
                               unknowns=tuple(unknowns), restrained=tuple(restrained), support=d.support[k],
                               eliminated=tuple(eliminated), reduced=tuple(reduced), releases=int(d.releases[k]),
                               own_rotations=int(d.own[k]),
-                              own_members=tuple(dict.fromkeys(d.own_members.get(k, ())))))
+                              own_members=tuple(dict.fromkeys(d.own_members.get(k, ()))), entity=entity))
     return tuple(out)
 
 
@@ -1302,9 +1318,8 @@ def format_joint_table(ind: Indeterminacy, width: int = 100) -> str:
     rule = "  " + "-" * (width - 4)
     lines.append(rule)
     for j in joints:
-        entity = j.label if not j.source or j.source in j.label else f"{j.label} (source {j.source})"
         lines.append(f"  {j.node_id:<14}{len(j.components):>5}{j.releases:>6}{len(j.restrained):>6}"
-                     f"{len(j.eliminated):>6}{len(j.reduced):>6}{j.count:>6}   {entity}")
+                     f"{len(j.eliminated):>6}{len(j.reduced):>6}{j.count:>6}   {j.entity}")
         lines += textwrap.wrap(j.details(), width=width, initial_indent=" " * 6, subsequent_indent=" " * 8)
     lines.append(rule)
     s = joint_totals(joints)

@@ -22,7 +22,7 @@ def joint_count_section(indeterminacy) -> str:
              "= unknowns", "Unknowns", "Restrained (support)", "Eliminated (by; in terms of)", "Not unknowns"]
     rows = []
     for j in joints:
-        entity = j.label if not j.source or j.source in j.label else f"{j.label} (source {j.source})"
+        entity = j.entity or j.label
         unknowns = " ".join(j.unknowns)
         if j.own_rotations:
             unknowns += f" + {j.own_rotations} own rotation{'s' if j.own_rotations != 1 else ''} ({', '.join(j.own_members)})"

@@ -37,7 +37,8 @@ def _sample_options(frame):
 def test_rows_add_up_on_every_sample_model(name):
     from analysis.ifc.reader import read_ifc
 
-    frame = read_ifc(str(sample_path(name))).frame
+    model = read_ifc(str(sample_path(name)))
+    frame = model.frame
     for options in _sample_options(frame):
         r = indeterminacy(frame, options)  # the conftest fixture checks the sums on every call
         dofs = build_dofs(frame, options)
@@ -53,6 +54,12 @@ def test_rows_add_up_on_every_sample_model(name):
         names = ("ux", "uy", "uz", "rx", "ry", "rz")
         solver = {(frame.node_ids[dofs.x_node[x]], names[dofs.x_comp[x]]) for x in masters if dofs.x_comp[x] < 6}
         assert listed == solver
+        # every row names its IFC entity: the analysis model's point connection, or for a frame derived
+        # from physical elements the elements meeting there
+        if model.route == "physical":
+            assert all(j.entity.startswith(j.label + ": where #") for j in r.joints)
+        else:
+            assert all("IfcStructuralPointConnection" in j.entity for j in r.joints)
 
 
 def pratt(inextensible_nodes_order=None):
