@@ -101,6 +101,9 @@ def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDAr
         tri = tri_all[(norm > 0) & (nrm[:, 2] > _UP * np.maximum(norm, 1e-300))]  # upward-facing faces
         if len(tri) == 0:
             continue
+        tri = tri[_plan_area(tri) > 1e-18]
+        if len(tri) == 0:
+            continue
         a, b, c = tri[:, 0], tri[:, 1], tri[:, 2]
         # barycentric coordinates of the plan point in each triangle's plan projection
         v0, v1 = (b - a)[:, :2], (c - a)[:, :2]
@@ -125,14 +128,22 @@ def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDAr
     return hit
 
 
+def _plan_area(tri: npt.NDArray[np.float64]) -> npt.NDArray[np.float64]:
+    """Twice the plan (XY) area of each triangle, unsigned."""
+    v0, v1 = (tri[:, 1] - tri[:, 0])[:, :2], (tri[:, 2] - tri[:, 0])[:, :2]
+    return np.abs(v0[:, 0] * v1[:, 1] - v1[:, 0] * v0[:, 1])
+
+
 def _inside(tri: npt.NDArray[np.float64], pts: npt.NDArray[np.float64]) -> npt.NDArray[np.bool_]:
     """Whether each point lies inside the closed triangulated surface (odd crossings of an upward ray)."""
     if len(pts) == 0:
         return np.zeros(0, dtype=bool)
+    okd = _plan_area(tri) > 1e-18
+    tri = tri[okd]  # faces seen edge-on from above play no part
     a, b, c = tri[:, 0], tri[:, 1], tri[:, 2]
     v0, v1 = (b - a)[:, :2], (c - a)[:, :2]
     den = v0[:, 0] * v1[:, 1] - v1[:, 0] * v0[:, 1]
-    okd = np.abs(den) > 1e-18
+    okd = okd[okd]
     out = np.zeros(len(pts), dtype=bool)
     # a slightly skewed plan point avoids rays through shared edges and vertices
     jitter = np.array([1.3e-7, 0.7e-7])

@@ -1495,8 +1495,8 @@ class _Deriver:
         den = aa * cc - bb * bb
         ok = den > 1e-12 * aa * cc  # not parallel (parallel pairs are elements on one line)
         with np.errstate(divide="ignore", invalid="ignore"):
-            s = (bb * ee - cc * dd) / den
-            t = (aa * ee - bb * dd) / den
+            s = np.where(ok, (bb * ee - cc * dd) / np.where(ok, den, 1.0), 0.0)
+            t = np.where(ok, (aa * ee - bb * dd) / np.where(ok, den, 1.0), 0.0)
         pi = A[i] + s[:, None] * u
         pj = A[j] + t[:, None] * v
         dist = np.linalg.norm(pi - pj, axis=1)
