@@ -646,8 +646,11 @@ def summary_table(model, results=None, ind=None, outputs: Sequence[tuple[str, st
                     continue
                 lines.append(f"    {action:<3} {_fmt(v, unit)}   {mid:<16} {case}")
             t, tn, tc, r, rn, rc = largest_displacement(results)
-            lines.append(f"  largest displacement {_fmt(t, 'mm').strip()} at node {tn} ({tc}); "
-                         f"rotation {_fmt(r, 'mrad').strip()} at node {rn} ({rc})")
+            if tn or rn:
+                lines.append(f"  largest displacement {_fmt(t, 'mm').strip()} at node {tn} ({tc}); "
+                             f"rotation {_fmt(r, 'mrad').strip()} at node {rn} ({rc})")
+            else:  # an all-rigid determinate truss, say: the supports and rigid members hold every joint
+                lines.append("  largest displacement none: no joint moves under any case")
             worst = max((cr.equilibrium_residual for cr in results.cases.values()
                          if math.isfinite(cr.equilibrium_residual)), default=0.0)
             ok = "ok" if worst < 1e-6 else "CHECK"

@@ -195,12 +195,20 @@ def test_cli_by_joint_and_json(tmp_path, capsys):
     assert sum(len(v["unknowns"]) + v["own_rotations"] for v in joints.values()) == doc["indeterminacy"]["kinematic"] == 0
     members = set(doc["members"])
     assert all(e["by"] in members and set(e) == {"component", "by"} for v in joints.values() for e in v["eliminated"])
-    # analyze --json carries the same block
+    # analyze --json carries the same block; the all-rigid truss is analysed and written back
     res = tmp_path / "results.json"
-    assert main(["analyze", str(path), "--plane", "-o", str(tmp_path / "out.ifc"), "--json", str(res), "-q"]) == 0
-    joints = json.loads(res.read_text())["indeterminacy"]["joints"]
-    assert sum(len(v["unknowns"]) + v["own_rotations"] for v in joints.values()) == \
-        json.loads(res.read_text())["indeterminacy"]["kinematic"]
+    out = tmp_path / "out.ifc"
+    assert main(["analyze", str(path), "--plane", "--condense-pinned", "--inextensible", "-o", str(out),
+                 "--json", str(res), "-q"]) == 0
+    doc = json.loads(res.read_text())
+    joints = doc["indeterminacy"]["joints"]
+    assert sum(len(v["unknowns"]) + v["own_rotations"] for v in joints.values()) == doc["indeterminacy"]["kinematic"]
+    import ifcopenshell
+    import ifcopenshell.validate
+
+    logger = ifcopenshell.validate.json_logger()
+    ifcopenshell.validate.validate(ifcopenshell.open(str(out)), logger, express_rules=True)
+    assert not [s for s in logger.statements if s.get("level") in ("error", "warning")]
     # without --by-joint the table is not printed
     assert main(["check", str(path), "--plane"]) == 0
     assert "Joint by joint" not in capsys.readouterr().out
