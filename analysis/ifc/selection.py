@@ -90,14 +90,31 @@ def reason_kind(reason: str) -> str:
     return reason.split(":", 1)[0].strip()
 
 
-def _predefined(element) -> str | None:
-    import ifcopenshell.util.element as ue
+def _types(ifc_file) -> dict[int, Any]:
+    """Element id -> its type object (IfcRelDefinesByType), read once."""
+    out: dict[int, Any] = {}
+    for rel in ifc_file.by_type("IfcRelDefinesByType"):
+        for o in rel.RelatedObjects or ():
+            out[o.id()] = rel.RelatingType
+    return out
 
-    try:
-        value = ue.get_predefined_type(element)
-    except Exception:  # an element class without PredefinedType and without a type object
+
+def _predefined(element, types: dict[int, Any]) -> str | None:
+    """The predefined type (the element's own, else its type object's; the user-defined text for USERDEFINED)."""
+    pt = getattr(element, "PredefinedType", None)
+    if pt == "USERDEFINED":
+        text = getattr(element, "ObjectType", None)
+        return str(text).upper() if text else None
+    if pt and pt != "NOTDEFINED":
+        return str(pt).upper()
+    t = types.get(element.id())
+    if t is None:
         return None
-    return str(value).upper() if value else None
+    tp = getattr(t, "PredefinedType", None)
+    if tp == "USERDEFINED":
+        text = getattr(t, "ElementType", None)
+        return str(text).upper() if text else None
+    return str(tp).upper() if tp and tp != "NOTDEFINED" else None
 
 
 def _load_bearing(ifc_file, elements) -> dict[int, bool]:
@@ -141,32 +158,39 @@ def _load_bearing(ifc_file, elements) -> dict[int, bool]:
     return out
 
 
-def _whole(element, cache: dict[int, str | None]) -> str | None:
+def _parents(ifc_file) -> dict[int, Any]:
+    """Part id -> the whole it belongs to (IfcRelAggregates, IfcRelNests), read once."""
+    out: dict[int, Any] = {}
+    for cls in ("IfcRelAggregates", "IfcRelNests"):
+        try:
+            rels = ifc_file.by_type(cls)
+        except RuntimeError:  # a schema without the relation
+            continue
+        for rel in rels:
+            for o in rel.RelatedObjects or ():
+                out.setdefault(o.id(), rel.RelatingObject)
+    return out
+
+
+def _whole(element, parents: dict[int, Any], cache: dict[int, str | None]) -> str | None:
     """Class of the non-structural whole (railing, stair…) the element is a part of, if any."""
     chain = []
-    e = element
+    eid = element.id()
     found: str | None = None
     for _ in range(32):  # decomposition depth guard
-        eid = e.id()
         if eid in cache:
             found = cache[eid]
             break
         chain.append(eid)
-        parent = None
-        for attr in ("Decomposes", "Nests"):
-            for rel in getattr(e, attr, None) or ():
-                parent = rel.RelatingObject
-                break
-            if parent is not None:
-                break
+        parent = parents.get(eid)
         if parent is None:
             break
         if any(parent.is_a(c) for c in NOT_FRAME_WHOLES):
             found = f"{parent.is_a()} #{parent.id()}"
             break
-        e = parent
-    for eid in chain:
-        cache[eid] = found
+        eid = parent.id()
+    for e_ in chain:
+        cache[e_] = found
     return found
 
 
@@ -219,6 +243,8 @@ def select_frame_elements(ifc_file, *, select: str | None = None, exclude: str |
                     seen.add(e.id())
                     candidates.append(e)
         bearing = _load_bearing(ifc_file, candidates)
+        types = _types(ifc_file)
+        parents = _parents(ifc_file)
         wholes: dict[int, str | None] = {}
         chosen = []
         for e in sorted(candidates, key=lambda e: e.id()):
@@ -226,11 +252,11 @@ def select_frame_elements(ifc_file, *, select: str | None = None, exclude: str |
             if bearing.get(e.id()) is False:
                 skipped[f"{base} with LoadBearing false in {COMMON_PSETS[base]}"] += 1
                 continue
-            pt = _predefined(e)
+            pt = _predefined(e, types)
             if pt in NOT_FRAME_TYPES[base]:
                 skipped[f"{base} of predefined type {pt}"] += 1
                 continue
-            whole = _whole(e, wholes)
+            whole = _whole(e, parents, wholes)
             if whole is not None:
                 skipped[f"{base} that is part of an {whole.split(' ', 1)[0]}"] += 1
                 continue
