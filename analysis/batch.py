@@ -826,6 +826,9 @@ def _failed_row(task: ModelTask, exc: BaseException) -> dict[str, Any]:
     name = type(exc).__name__
     if name == "KilledWorker":
         msg = f"the worker running it died each time it was tried (out of memory, or killed): {exc}"
+    elif isinstance(exc, ImportError):
+        msg = (f"a Dask worker cannot import plumbframe ({exc}): install the same plumbframe version on every "
+               "worker of the cluster")
     else:
         msg = f"internal error ({name}: {exc})"
     row.update(status="internal error", exit=1, message=msg)

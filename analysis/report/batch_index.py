@@ -33,7 +33,7 @@ table{border-collapse:collapse;font-size:13px;margin:0.5em 0 1.5em}
 th,td{border:1px solid #ccc;padding:3px 6px;text-align:right;vertical-align:top}
 th{background:#f1f1f1;cursor:pointer;user-select:none;white-space:nowrap}
 th[data-dir=asc]::after{content:' \\25B2'}th[data-dir=desc]::after{content:' \\25BC'}
-td.t{text-align:left}small{color:#666}
+td.t{text-align:left}small{color:#666}td.m{text-align:left;max-width:32em;font-size:12px}
 tr.s-unstable td{background:#fff4e0}tr.s-bad-input td,tr.s-internal-error td{background:#fde8e8}
 .note{color:#555;font-size:13px;max-width:60em}
 """
@@ -82,7 +82,7 @@ def _main_table(rows: list[dict[str, Any]], variants: bool) -> str:
             cells.append(_cell(_e(r.get("variant")), cls="t"))
         cells.append(_cell(_e(r.get("status")) + f" <small>(exit {_e(r.get('exit'))})</small>", r.get("status"), "t"))
         cells.append(_cell(_e(r.get("run")), cls="t"))
-        cells.append(_cell(_e(r.get("message")), cls="t"))
+        cells.append(_cell(_e(r.get("message")), cls="m"))
         cells += [_int(r, k) for k in ("nodes", "members", "kinematic", "static", "mechanisms")]
         d = _num(r.get("max_displacement"))
         cells.append(_cell("" if d is None else f"{d * 1e3:.2f}<br><small>{_e(r.get('max_displacement_node'))} · "
@@ -144,7 +144,10 @@ def index_html(doc: dict[str, Any]) -> str:
     rows = list(doc.get("rows", []))
     variant_names = list(doc.get("variants") or {})
     counts = doc.get("counts", {})
-    title = f"plumbframe batch — {len(rows)} model{'s' if len(rows) != 1 else ''}"
+    n_models = len({r.get("model") for r in rows})
+    title = f"plumbframe batch — {n_models} model{'s' if n_models != 1 else ''}"
+    if variant_names:
+        title += f", {len(variant_names)} variant{'s' if len(variant_names) != 1 else ''}, {len(rows)} rows"
     parts = [f"<!DOCTYPE html><html lang='en'><head><meta charset='utf-8'><title>{_e(title)}</title>"
              f"<style>{_CSS}</style></head><body><h1>{_e(title)}</h1>"]
     parts.append(f"<p class='note'>plumbframe {_e(doc.get('plumbframe'))}, {_e(doc.get('created'))}; ran "

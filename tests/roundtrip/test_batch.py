@@ -223,6 +223,45 @@ def test_rerun_is_up_to_date_then_force_and_changed_input(serial, inputs, tmp_pa
     assert rows_by_model(out)["unstable_frame"]["run"] == "up to date"
 
 
+def test_variant_material_map_contents_count_for_up_to_date(inputs, tmp_path):
+    (tmp_path / "maps").mkdir()
+    grades = tmp_path / "maps" / "grades.toml"
+    grades.write_text('default = "S235"\n')
+    variants = tmp_path / "variants.toml"
+    variants.write_text('[variants.mapped]\nmaterials = "maps/grades.toml"\n')  # relative to the variants file
+    out = tmp_path / "out"
+    argv = ["batch", inputs / "unstable_frame.ifc", "--out", out, "--serial", "-q", "--variants", variants]
+    assert run(argv)[0] == 3
+    assert rows_by_model(out)["unstable_frame/mapped"]["run"] == "now"
+    assert run(argv)[0] == 3
+    assert rows_by_model(out)["unstable_frame/mapped"]["run"] == "up to date"
+    grades.write_text('default = "S355"\n')  # the same file name, other contents: not up to date
+    assert run(argv)[0] == 3
+    assert rows_by_model(out)["unstable_frame/mapped"]["run"] == "now"
+
+
+def test_progress_bar_counts_on_a_terminal():
+    import io
+
+    from analysis.batch import _Progress
+    from analysis.cli import _Console
+
+    class Terminal(io.StringIO):
+        def isatty(self):
+            return True
+
+    err = Terminal()
+    bar = _Progress(_Console(out=io.StringIO(), err=err), 3)
+    bar.started("a")
+    bar.started("b")
+    bar.draw()
+    assert "0/3 models" in err.getvalue() and "running 2  finished 0  failed 0" in err.getvalue()
+    bar.finished({"folder": "a", "file": "a.ifc", "status": "analysed", "exit": 0, "seconds": 1.0, "run": "now"})
+    bar.finished({"folder": "b", "file": "b.ifc", "status": "unstable", "exit": 3, "seconds": 1.0, "run": "now",
+                  "message": "a mechanism"})
+    assert "2/3 models" in err.getvalue() and "running 0  finished 1  failed 1" in err.getvalue()
+
+
 def test_variants_rows_and_comparison(inputs, tmp_path):
     variants = tmp_path / "variants.toml"
     variants.write_text('[variants.as-drawn]\n\n[variants.with-shear]\nshear = true\nmerge-tolerance = 0.02\n')
