@@ -25,7 +25,7 @@ from .dynamics import mass_model, natural_modes
 from .interior import InteriorModel, piece_axial_forces
 from .loads import case_loads
 from .refined import RefinedModel
-from .stability import critical_factors, second_order_case
+from .stability import CriticalLoadError, critical_factors, critical_load_error, second_order_case
 from .subdivide import Subdivision, combination_case
 
 __all__ = ["extended_analysis", "buckling_load_sets"]
@@ -49,9 +49,10 @@ def extended_analysis(res, progress=None, kept: dict | None = None):
         return res
     say = progress or (lambda step: None)
     frame = res.frame
+    if not kept:
+        raise ValueError("extended_analysis needs the keep dict of the first-order analysis")
+    eig = None
     if opts.buckling or opts.modes:
-        if not kept:
-            raise ValueError("extended_analysis needs the keep dict of the first-order analysis")
         say("subdividing members")
         eig = InteriorModel(frame, res.options, kept, parts=opts.subdivisions)
         if opts.buckling:
@@ -66,7 +67,16 @@ def extended_analysis(res, progress=None, kept: dict | None = None):
             res.modes = natural_modes(eig, mass, opts.modes)
     if opts.second_order:
         say("second order")
-        _second_order(res, RefinedModel(frame, opts, parts=opts.subdivisions))
+        try:
+            _second_order(res, RefinedModel(frame, opts, parts=opts.subdivisions, factor=False))
+        except CriticalLoadError as exc:
+            # the critical factor for the message, on the first-order factorisation
+            eig = eig or InteriorModel(frame, res.options, kept, parts=opts.subdivisions)
+            name = exc.load_set
+            found = critical_factors(eig, piece_axial_forces(eig.sub, res.cases[name], res.L), 1)
+            alpha = found[0].factor if found else float("nan")
+            kind = res.cases[name].kind
+            raise critical_load_error(name, kind, alpha, "did not converge" not in str(exc)) from None
     return res
 
 
@@ -81,7 +91,7 @@ def _second_order(res, model: RefinedModel) -> None:
     n = frame.n_nodes
     second: dict = {}
     for name, kind, refined_case, case, factors in sets:
-        N0 = model.axial_forces(model.results.cases[name].end_forces)
+        N0 = piece_axial_forces(sub, res.cases[name], res.L)  # first order, exact along each member
         cr_ref, N, resid, _ = second_order_case(model, refined_case, kind, N0)
         ef = np.stack([cr_ref.end_forces[first_idx, 0], cr_ref.end_forces[last_idx, 1]], axis=1)
         ed = np.concatenate([cr_ref.end_displacements[first_idx, :6], cr_ref.end_displacements[last_idx, 6:]], axis=1)

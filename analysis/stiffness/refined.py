@@ -51,15 +51,23 @@ def condensation_map(k: np.ndarray, released: np.ndarray) -> np.ndarray:
 class RefinedModel:
     """A subdivided frame with its first-order results and its factorised reduced stiffness."""
 
-    def __init__(self, frame: Frame, options: AnalysisOptions, parts: int = 8, progress=None):
-        from .analyze import _analyze
+    def __init__(self, frame: Frame, options: AnalysisOptions, parts: int = 8, progress=None, factor: bool = True):
+        from .analyze import Assembly, _analyze, reduced_stiffness
+        from .dofs import build_dofs
 
         self.sub: Subdivision = subdivide(frame, parts)
         # pinned ends keep their own rotations: geometric stiffness and mass act on them exactly
         self.options = dataclasses.replace(options, condense_pinned=False,
                                            plane=bool(options.plane) if options.plane is not None else False)
         keep: dict = {}
-        self.results = _analyze(self.sub.frame, self.options, progress, keep=keep)
+        if factor:  # the first-order analysis of the subdivided frame, factorised
+            self.results = _analyze(self.sub.frame, self.options, progress, keep=keep)
+        else:  # numbering and assembly only (second order factors K + K_g itself)
+            self.results = None
+            dofs = build_dofs(self.sub.frame, self.options)
+            asm = Assembly(self.sub.frame, dofs, self.options)
+            Kxx, Kq, springs = reduced_stiffness(asm)
+            keep.update(dofs=dofs, asm=asm, Kxx=Kxx, Kq=Kq, springs=springs, factor=None)
         self.asm = keep["asm"]
         self.dofs = keep["dofs"]
         self.Kq: sp.csr_array = keep["Kq"]
