@@ -1303,6 +1303,8 @@ class _Deriver:
 
         # -- 3b. members crossing where they touch ---------------------------------
         P, node_count, link_offsets = self._crossings(elements, A, B, lengths, half, kinds, P, node_count, landings, elem_nodes)
+        # nodes made by different rules at one point (within the tolerance) are one node
+        link_offsets = self._merge_coincident(P, elem_nodes, landings, link_offsets, tol)
         same = elem_nodes[:, 0] == elem_nodes[:, 1]
         for k in np.flatnonzero(same).tolist():
             self._leave_out(elements[k], "zero length: both ends join the same node once eccentric ends are joined")
@@ -1453,6 +1455,29 @@ class _Deriver:
     def _project_name(self) -> str:
         projects = self.ifc_file.by_type("IfcProject")
         return str(projects[0].Name or "") if projects else ""
+
+    @staticmethod
+    def _merge_coincident(P, elem_nodes, landings, links, tol):
+        """Renumber nodes closer than ``tol`` to the oldest of them (in place); returns the offsets renumbered.
+
+        The positions are kept as they are (the gap, below the tolerance, is closed as when end points
+        merge); a crossing's rigid offset is changed to keep the upper member's true position.
+        """
+        if tol <= 0 or len(P) < 2:
+            return links
+        from scipy.spatial import cKDTree
+
+        pairs = cKDTree(P).query_pairs(r=tol, output_type="ndarray")
+        if len(pairs) == 0:
+            return links
+        labels = _union_find_clusters(len(P), pairs)
+        rep = np.full(int(labels.max()) + 1, len(P), dtype=np.int64)
+        np.minimum.at(rep, labels, np.arange(len(P)))
+        remap = rep[labels]
+        elem_nodes[:] = remap[elem_nodes]
+        for k, stops in landings.items():
+            landings[k] = [(tv, int(remap[p])) for tv, p in stops]
+        return {(k, int(remap[p])): vec + P[p] - P[remap[p]] for (k, p), vec in links.items()}
 
     def _crossings(self, elements, A, B, lengths, half, kinds, P, node_count, landings, elem_nodes):
         """Join members whose spans cross within touching distance (purlins on rafters, plates on joists, X-braces).
