@@ -67,8 +67,11 @@ def extended_analysis(res, progress=None, kept: dict | None = None):
             res.modes = natural_modes(eig, mass, opts.modes)
     if opts.second_order:
         say("second order")
+        refined = RefinedModel(frame, opts, parts=opts.subdivisions, factor=False)
+        if eig is None and not res.options.condense_pinned:
+            eig = InteriorModel(frame, res.options, kept, parts=opts.subdivisions)
         try:
-            _second_order(res, RefinedModel(frame, opts, parts=opts.subdivisions, factor=False))
+            _second_order(res, refined, eig)
         except CriticalLoadError as exc:
             # the critical factor for the message, on the first-order factorisation
             eig = eig or InteriorModel(frame, res.options, kept, parts=opts.subdivisions)
@@ -80,7 +83,7 @@ def extended_analysis(res, progress=None, kept: dict | None = None):
     return res
 
 
-def _second_order(res, model: RefinedModel) -> None:
+def _second_order(res, model: RefinedModel, interior=None) -> None:
     from ..results import CaseResult, Results
 
     frame, sub = res.frame, model.sub
@@ -92,7 +95,7 @@ def _second_order(res, model: RefinedModel) -> None:
     second: dict = {}
     for name, kind, refined_case, case, factors in sets:
         N0 = piece_axial_forces(sub, res.cases[name], res.L)  # first order, exact along each member
-        cr_ref, N, resid, _ = second_order_case(model, refined_case, kind, N0)
+        cr_ref, N, resid, _ = second_order_case(model, refined_case, kind, N0, interior=interior)
         ef = np.stack([cr_ref.end_forces[first_idx, 0], cr_ref.end_forces[last_idx, 1]], axis=1)
         ed = np.concatenate([cr_ref.end_displacements[first_idx, :6], cr_ref.end_displacements[last_idx, 6:]], axis=1)
         ref_res = Results(frame=model.frame, options=model.options, dofs=model.dofs, R=model.asm.R, L=model.asm.L,

@@ -137,7 +137,7 @@ def _pcg(A, b, solve, x0, rtol=1e-12, maxiter=200):
 
 
 def second_order_case(model: RefinedModel, case: LoadCase, kind: str, N0: np.ndarray,
-                      tol: float = 1e-9, max_iter: int = 50):
+                      tol: float = 1e-9, max_iter: int = 50, interior=None):
     """Second-order analysis of one load set of the subdivided frame.
 
     Parameters
@@ -146,6 +146,10 @@ def second_order_case(model: RefinedModel, case: LoadCase, kind: str, N0: np.nda
     case : the load set in the subdivided frame's members (a case, or a combination as one case).
     kind : 'case' or 'combination' (for messages and the result).
     N0 : first-order axial forces of the pieces (start of the iteration).
+    interior : an `interior.InteriorModel` of the same subdivision: when given (and the frame has no
+        axially rigid members and the load set no settlements), every solve runs by conjugate
+        gradients on the first-order factorisation and nothing new is factorised; the load set is
+        first checked against its critical factor.
 
     Returns
     -------
@@ -168,6 +172,9 @@ def second_order_case(model: RefinedModel, case: LoadCase, kind: str, N0: np.nda
     x0 = dofs.particular(u_r)
     T = dofs.T
     springs = model.springs
+    if (interior is not None and not any(r.kind == "axial" for r in dofs.rows) and not np.any(u_r)
+            and dofs.n_hinges == interior.dofs_o.n_hinges and frame.n_nodes == interior.frame.n_nodes):
+        return _second_order_on_first_factor(model, interior, case, kind, N0, loads, F_ext, fef, tol, max_iter)
     N = N0.copy()
     q = None
     factor = None
@@ -221,6 +228,68 @@ def second_order_case(model: RefinedModel, case: LoadCase, kind: str, N0: np.nda
                     end_forces=f[:, :, 0].reshape(-1, 2, 6).copy(), end_displacements=d[:, :, 0].copy(), loads=loads[0],
                     factors=((case.name, 1.0),), equilibrium_residual=resid)
     log.info("second order %s %r: %d iteration(s), residual %.1e", kind, case.name, it, resid)
+    return cr, N, resid, it
+
+
+def _second_order_on_first_factor(model: RefinedModel, interior, case: LoadCase, kind: str, N0: np.ndarray,
+                                  loads, F_ext, fef, tol: float, max_iter: int):
+    """The iteration of `second_order_case` with every solve preconditioned by the first-order factor."""
+    from ..results import CaseResult
+    from .analyze import _chord_rotations_of_bars, _constraint_forces, _end_forces, _fill_unattached_rotations, _reactions
+
+    asm, dofs, frame = model.asm, model.dofs, model.frame
+    found = critical_factors(interior, N0, 1)
+    alpha = found[0].factor if found else float("inf")
+    if alpha <= 1.0:
+        raise critical_load_error(case.name, kind, alpha)
+    # ext of the subdivided frame -> ext of the interior model (same joints, same own end rotations)
+    ref_to_int = np.concatenate([(interior.node_ext[:, None] + np.arange(6)).reshape(-1),
+                                 interior.asm_o.N6 + np.arange(dofs.n_hinges)])
+    F_int = np.zeros(interior.n_ext)
+    F_int[ref_to_int] = F_ext[:, 0]
+    b = interior.to_q_vector(F_int)
+    bnorm = max(float(np.linalg.norm(b)), 1e-300)
+    y = interior.solve(b)
+    lam0 = np.zeros((dofs.C.shape[0], 1))
+    N = N0.copy()
+    scale_N = max(float(np.abs(N0).max()) if N0.size else 0.0, 1e-300)
+    asm2 = copy.copy(asm)
+    for it in range(1, max_iter + 1):
+        kg = model.local_geometric(N)
+        Ky = sp.csr_array(interior.Kq + interior.geometric_q(N))
+        y_new = _pcg(Ky, b, interior.solve, y)
+        if y_new is None:
+            raise critical_load_error(case.name, kind, alpha)
+        y = y_new
+        u_int = np.zeros(interior.n_ext)
+        u_int[interior.x_ext] = interior.G @ y
+        u_ext = u_int[ref_to_int][:, None]
+        asm2.k = asm.k + kg
+        f, d = _end_forces(asm2, u_ext, fef, lam0)
+        f[asm.released] = 0.0
+        N_new = model.axial_forces(f[:, :, 0])
+        change = float(np.abs(N_new - N).max()) if N.size else 0.0
+        N = N_new
+        if change <= tol * scale_N:
+            break
+        if not np.all(np.isfinite(N)) or (N.size and np.abs(N).max() > 1e6 * scale_N):
+            raise critical_load_error(case.name, kind, alpha)
+    else:
+        raise critical_load_error(case.name, kind, alpha, converged=False)
+    resid = float(np.linalg.norm(Ky @ y - b)) / bnorm
+    # constraint forces and reactions once, from the assembled second-order stiffness
+    asm2.K_full = sp.csr_array(asm.K_full + model.assemble_ext(kg))
+    x = u_ext[asm.x_ext]
+    lam = _constraint_forces(asm2, F_ext, u_ext, model.springs, x)
+    reactions = _reactions(asm2, F_ext, u_ext, lam)
+    _chord_rotations_of_bars(asm, d)
+    disp = u_ext[: asm.N6].reshape(frame.n_nodes, 6, 1)
+    _fill_unattached_rotations(asm, disp, d)
+    cr = CaseResult(name=case.name, kind=kind, displacements=disp[:, :, 0].copy(), reactions=reactions[:, :, 0].copy(),
+                    end_forces=f[:, :, 0].reshape(-1, 2, 6).copy(), end_displacements=d[:, :, 0].copy(), loads=loads[0],
+                    factors=((case.name, 1.0),), equilibrium_residual=resid)
+    log.info("second order %s %r on the first-order factor: %d iteration(s), α_cr %.4g, residual %.1e",
+             kind, case.name, it, alpha, resid)
     return cr, N, resid, it
 
 
