@@ -305,8 +305,27 @@ def mesh_axes(meshes: Sequence[BodyMesh]) -> tuple[dict[int, BodyAxis], dict[int
     vol6 = np.einsum("ij,ij->i", P0, cross)  # 6 × signed tetra volumes (apex at the origin)
     volume = _sum(b.te, vol6, m) / 6.0
     closed = np.linalg.norm(area_sum, axis=1) <= 1e-6 * np.maximum(area_tot, 1e-300)
-    for k in np.flatnonzero(~closed).tolist():
-        failures[b.ids[k]] = "its body is not a closed surface (the section cannot be cut from it)"
+    # every directed edge once and its reverse once: a closed, consistently oriented (welded) surface
+    nv_all = np.int64(len(b.V))
+    ea = np.concatenate([b.F[:, 0], b.F[:, 1], b.F[:, 2]])
+    eb = np.concatenate([b.F[:, 1], b.F[:, 2], b.F[:, 0]])
+    fwd = ea * nv_all + eb
+    order_e = np.sort(fwd)
+    rev = eb * nv_all + ea
+    at = np.minimum(np.searchsorted(order_e, rev), len(order_e) - 1)
+    unpaired = order_e[at] != rev  # the reverse edge is missing
+    at_f = np.searchsorted(order_e, fwd)
+    twice = order_e[np.minimum(at_f + 1, len(order_e) - 1)] == fwd  # the same directed edge twice
+    twice[at_f + 1 >= len(order_e)] = False
+    unpaired |= twice
+    if unpaired.any():
+        closed[np.unique(np.tile(b.te, 3)[unpaired])] = False
+    loose: dict[int, BodyAxis] = {}
+    for k in np.flatnonzero(~closed).tolist():  # open or inconsistently oriented: one at a time, from its surface
+        try:
+            loose[b.ids[k]] = _surface_axis(meshes[k])
+        except ValueError as exc:
+            failures[b.ids[k]] = f"its body is not a closed surface and {exc}"
     bad |= ~closed
     inverted = closed & (volume < 0)
     if inverted.any():  # consistently inside-out: turn it round
@@ -503,7 +522,136 @@ def mesh_axes(meshes: Sequence[BodyMesh]) -> tuple[dict[int, BodyAxis], dict[int
             A=float(A[k]), Iy=float(I1[k]), Iz=float(I2[k]), J=float(J), Avy=float(Avy), Avz=float(Avz),
             depth=float(depth[k]), width=float(width[k]), volume=float(volume[k]), prismatic=bool(prismatic[k]),
             notes=tuple(notes))
+    out.update(loose)
     return out, failures
+
+
+def _surface_axis(mesh: BodyMesh) -> BodyAxis:
+    """Axis and section of a mesh that is not a closed, consistently oriented surface.
+
+    The direction from the area-weighted second moments of its triangles
+    (refined by the side faces as for closed bodies), the section from the
+    mid-length cut's segments chained into loops without their orientation
+    (the region is where an odd number of loops encloses a point).
+
+    Raises
+    ------
+    ValueError
+        The cut at mid-length gives no closed loop.
+    """
+    V = mesh.vertices - mesh.vertices.mean(axis=0)
+    F = mesh.faces
+    P0, P1, P2 = V[F[:, 0]], V[F[:, 1]], V[F[:, 2]]
+    cross = np.cross(P1 - P0, P2 - P0)
+    w = np.linalg.norm(cross, axis=1)
+    if not w.sum() > 0:
+        raise ValueError("it has no area")
+    cen = (P0 + P1 + P2) / 3.0
+    c = (w[:, None] * cen).sum(axis=0) / w.sum()
+    C = np.einsum("t,ti,tj->ij", w, cen - c, cen - c) / w.sum()
+    d = np.linalg.eigh(C)[1][:, 2]
+    nrm = cross / np.maximum(w, 1e-300)[:, None]
+    side = np.abs(nrm @ d) < SIDE_FACE_COSINE
+    N = np.einsum("t,ti,tj->ij", np.where(side, w, 0.0), nrm, nrm)
+    nvals, nvecs = np.linalg.eigh(N)
+    prismatic = bool(nvals[0] <= PRISMATIC_TOLERANCE * max(nvals.sum(), 1e-300))
+    if prismatic:
+        d = nvecs[:, 0] * (1.0 if nvecs[:, 0] @ d >= 0 else -1.0)
+    d = _orient(d[None, :] / np.linalg.norm(d))[0]
+    s = V @ d
+    smin, smax = float(s.min()), float(s.max())
+    length = smax - smin
+    mid = 0.5 * (smin + smax)
+    h = s - mid
+    for shift in (1.1e-4, -2.3e-4, 3.7e-3):
+        if not (np.abs(h) <= 1e-9 * length).any():
+            break
+        mid += shift * length
+        h = s - mid
+    u = np.linalg.eigh(C)[1][:, 1]
+    u = u - (u @ d) * d
+    if np.linalg.norm(u) < 1e-6:
+        u = np.cross(d, [0.0, 0.0, 1.0] if abs(d[2]) < 0.9 else [1.0, 0.0, 0.0])
+    u /= np.linalg.norm(u)
+    v = np.cross(d, u)
+    pos = h > 0
+    segs = []
+    for tri in F[(pos[F].any(axis=1)) & (~pos[F]).any(axis=1)]:
+        pts = []
+        for i, j in ((0, 1), (1, 2), (2, 0)):
+            a, b = tri[i], tri[j]
+            if pos[a] != pos[b]:
+                t = h[a] / (h[a] - h[b])
+                pts.append(V[a] + t * (V[b] - V[a]))
+        segs.append(pts)
+    if not segs:
+        raise ValueError("the cut at mid-length meets none of its faces")
+    q = np.array(segs)  # (k, 2, 3)
+    origin = mid * d
+    q2 = np.stack([(q - origin) @ u, (q - origin) @ v], axis=2)  # (k, 2, 2)
+    loops = _chain_unoriented(q2[:, 0], q2[:, 1])
+    sec = polygon_section(loops)
+    z3 = sec.z_axis[0] * u + sec.z_axis[1] * v
+    if abs(z3[2]) > 1e-6 and z3[2] < 0 or abs(z3[2]) <= 1e-6 and (z3[0] if abs(z3[0]) > 1e-6 else z3[1]) < 0:
+        z3 = -z3
+    y3 = np.cross(z3, d)
+    centre = mesh.vertices.mean(axis=0) + origin + sec.centroid[0] * u + sec.centroid[1] * v
+    notes = ["its body is not a closed, consistently oriented surface: the direction comes from its surface and the "
+             "section from the loops of the mid-length cut"]
+    if not prismatic:
+        notes.append("the body is not prismatic (its side faces are not all parallel to the axis): the axis is its "
+                     "principal direction and the section is the cut at mid-length")
+    return BodyAxis(
+        element_id=mesh.element_id, start=centre + (smin - mid) * d, end=centre + (smax - mid) * d,
+        z=None if sec.isotropic else z3, y=None if sec.isotropic else y3,
+        A=sec.A, Iy=sec.Iy, Iz=sec.Iz, J=sec.J, Avy=sec.Avy, Avz=sec.Avz, depth=sec.depth, width=sec.width,
+        volume=sec.A * length, prismatic=prismatic, notes=tuple(notes))
+
+
+def _chain_unoriented(pa: FloatArray, pb: FloatArray) -> list[FloatArray]:
+    """Closed loops from segments pa[i] – pb[i] of either direction (each end point shared by exactly two)."""
+    size = float(np.ptp(np.vstack([pa, pb]), axis=0).max())
+    if not size > 0:
+        raise ValueError("the cut at mid-length has no extent")
+    keys = np.round(np.vstack([pa, pb]) / (1e-7 * size)).astype(np.int64)
+    uniq, ids = np.unique(keys, axis=0, return_index=False, return_inverse=True)
+    ids = ids.ravel()
+    n = len(pa)
+    a_id, b_id = ids[:n], ids[n:]
+    keep = a_id != b_id
+    a_id, b_id = a_id[keep], b_id[keep]
+    pts = np.vstack([pa, pb])
+    where = np.zeros((len(uniq), 2), dtype=np.int64)
+    first = np.full(len(uniq), -1, dtype=np.int64)
+    for i, pid in enumerate(np.concatenate([a_id, b_id]).tolist()):
+        j = i % len(a_id)
+        if first[pid] < 0:
+            first[pid] = j
+            where[pid, 0] = j
+        else:
+            where[pid, 1] = j
+    counts = np.bincount(np.concatenate([a_id, b_id]), minlength=len(uniq))
+    if len(a_id) == 0 or (counts != 2).any():
+        raise ValueError("the cut at mid-length is not a set of closed loops")
+    point_of = {int(p): pts[np.flatnonzero(ids == p)[0]] for p in np.unique(np.concatenate([a_id, b_id])).tolist()}
+    used = np.zeros(len(a_id), dtype=bool)
+    loops = []
+    for s0 in range(len(a_id)):
+        if used[s0]:
+            continue
+        loop = []
+        seg, at = s0, int(a_id[s0])
+        while not used[seg]:
+            used[seg] = True
+            loop.append(point_of[at])
+            at = int(b_id[seg]) if int(a_id[seg]) == at else int(a_id[seg])
+            nxt = where[at, 0] if where[at, 0] != seg else where[at, 1]
+            seg = int(nxt)
+        if len(loop) >= 3:
+            loops.append(np.array(loop))
+    if not loops:
+        raise ValueError("the cut at mid-length has no closed loop")
+    return loops
 
 
 def _chain(pa: FloatArray, pb: FloatArray) -> list[FloatArray]:

@@ -472,3 +472,33 @@ def test_short_block_keeps_its_axis():
     assert frame.section_sources[0] == "file"
     np.testing.assert_allclose(frame.nodes[:, 1:], 0.0, atol=1e-9)  # both along world x
     np.testing.assert_allclose(sorted(frame.nodes[:, 0]), [0.0, 0.15, 3.15], atol=1e-9)
+
+
+def _i_mesh(L):
+    """The I-section prism as a world mesh along +x (consistently outward triangles)."""
+    m = Model("IFC4")
+    fs = m.triangulated_i(L)
+    V = np.array(fs.Coordinates.CoordList, dtype=float)
+    F = np.array(fs.CoordIndex, dtype=np.int64) - 1
+    return V, F
+
+
+def test_inconsistent_winding_and_open_ends():
+    """A closed mesh with randomly flipped triangles, and the same prism without its end caps, give the same section."""
+    L = 3.0
+    V, F = _i_mesh(L)
+    rng = np.random.default_rng(3)
+    flip = rng.random(len(F)) < 0.5
+    F_mixed = np.where(flip[:, None], F[:, ::-1], F)
+    caps = np.abs(np.cross(V[F[:, 1]] - V[F[:, 0]], V[F[:, 2]] - V[F[:, 0]])[:, 0]) > 1e-12  # normals along x
+    axes, failed = mesh_axes([BodyMesh(1, V, F_mixed), BodyMesh(2, V, F[~caps])])
+    assert not failed
+    A, Iy, Iz = _i_exact()
+    for k in (1, 2):
+        ax = axes[k]
+        assert (ax.A, ax.Iy, ax.Iz) == pytest.approx((A, Iy, Iz), rel=1e-9)
+        assert ax.J == pytest.approx(_i_torsion(), rel=0.03)
+        np.testing.assert_allclose(sorted([ax.start[0], ax.end[0]]), [0.0, L], atol=1e-9)
+        np.testing.assert_allclose(ax.start[1:], 0.0, atol=1e-9)
+        np.testing.assert_allclose(ax.z, [0.0, 0.0, 1.0], atol=1e-9)
+        assert any("not a closed" in n for n in ax.notes)
