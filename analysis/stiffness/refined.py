@@ -75,7 +75,7 @@ class RefinedModel:
         self.springs: np.ndarray = keep["springs"]
         self.factor = keep["factor"]
         self.X = condensation_map(self.asm.k, self.asm.released)
-        self._pattern = None
+        self._points: tuple[np.ndarray, np.ndarray] | None = None
 
     # ------------------------------------------------------------------ sizes
     @property
@@ -151,9 +151,8 @@ class RefinedModel:
         big = trans.ravel()[k]
         if big != 0.0:
             u = u / big
-        frame = self.sub.original
-        along = []
-        for m, inner in enumerate(self.sub.interior):
-            i, j = frame.members[m]
-            along.append(np.vstack([u[i], u[inner], u[j]]))
-        return u[: frame.n_nodes].copy(), tuple(along)
+        if self._points is None:
+            self._points = self.sub.member_points()
+        rows, splits = self._points
+        along = tuple(np.split(u[rows], splits)) if rows.size else ()
+        return u[: self.sub.original.n_nodes].copy(), along

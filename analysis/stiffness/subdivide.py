@@ -46,6 +46,14 @@ class Subdivision:
     h: np.ndarray  # (mp,) m
     interior: tuple[np.ndarray, ...]  # interior node rows of each member, end i to end j
 
+    def member_points(self) -> tuple[np.ndarray, np.ndarray]:
+        """Node rows of every member's points end i → end j, concatenated, and where each member's run ends."""
+        frame = self.original
+        rows = [np.concatenate([[frame.members[k, 0]], inner, [frame.members[k, 1]]])
+                for k, inner in enumerate(self.interior)]
+        counts = np.array([r.size for r in rows], dtype=np.int64)
+        return (np.concatenate(rows).astype(np.int64) if rows else np.zeros(0, np.int64)), np.cumsum(counts)[:-1]
+
     @property
     def first(self) -> np.ndarray:
         return np.array([p[0] for p in self.pieces], dtype=np.int64)
