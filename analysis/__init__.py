@@ -29,6 +29,8 @@ from .model import (
 )
 from .results import Results
 from .stiffness.analyze import analyze
+from .stiffness.dynamics import NaturalMode
+from .stiffness.stability import BucklingMode, CriticalLoadError
 
 __version__ = "0.1.0"
 
@@ -61,4 +63,7 @@ __all__ = [
     "Settlement",
     "Results",
     "analyze",
+    "BucklingMode",
+    "CriticalLoadError",
+    "NaturalMode",
 ]
