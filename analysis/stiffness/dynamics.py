@@ -111,7 +111,7 @@ def mass_model(model: InteriorModel, mass_cases: tuple[tuple[str, float], ...] =
                     nodal_mass[j] += m * a / h
         sources.append(f"{name} x {factor:g}")
         amounts.append(float((mu * L).sum() + nodal_mass.sum()) - before)
-    M_ext = model.assemble_ext(consistent_mass(L, mu, polar, frame.truss))
+    M_ext = model.assemble_ext(lambda rows: consistent_mass(L[rows], mu[rows], polar[rows], frame.truss[rows]))
     if nodal_mass.any():
         idx = (model.node_ext[:, None] + np.arange(3)).ravel()
         diag = np.zeros(model.n_ext)

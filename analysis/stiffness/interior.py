@@ -66,13 +66,21 @@ class InteriorModel:
         J = np.where(pf.truss, stand_in, pf.J)
         G = np.where(pf.truss & ~(pf.G > 0), pf.E, pf.G)
         Avy, Avz = (pf.Avy, pf.Avz) if options.shear else (None, None)
-        self.k = local_stiffness(self.L, pf.E, G, pf.A, Iy, Iz, J, Avy, Avz)
+        L_ = self.L
+
+        def stiffness(rows):  # local stiffness of pieces ``rows``, built chunk by chunk (memory)
+            return local_stiffness(L_[rows], pf.E[rows], G[rows], pf.A[rows], Iy[rows], Iz[rows], J[rows],
+                                   None if Avy is None else Avy[rows], None if Avz is None else Avz[rows])
+
         cond = np.zeros((mp, 2, 6), bool)
         cond[first, 0] = dofs_o.condensed[:, 0]
         cond[last, 1] = dofs_o.condensed[:, 1]
         self.released = cond.reshape(mp, 12)
-        self.X = condensation_map(self.k, self.released)
-        self._plain = ~self.released.any(axis=1)
+        # the condensation shapes of the pieces with released end actions (the others need none)
+        self._rel_rows = np.flatnonzero(self.released.any(axis=1))
+        self._rel_pos = np.full(mp, -1, dtype=np.int64)
+        self._rel_pos[self._rel_rows] = np.arange(self._rel_rows.size)
+        self._X = condensation_map(stiffness(self._rel_rows), self.released[self._rel_rows])
 
         # ext numbering: the first-order ext (joints of the model's nodes, own end rotations), then interior joints
         n_ext_o = asm_o.n_ext
@@ -106,7 +114,7 @@ class InteriorModel:
         T = dofs_o.T
         self.G = sp.csr_array(sp.block_diag([sp.csr_matrix(T), sp.identity(self.n_z, format="csr")], format="csr"))
         springs = np.concatenate([kept["springs"], np.zeros(self.n_z)])
-        K = self.to_q(self.assemble_ext(self.k))
+        K = self.to_q(self.assemble_ext(stiffness))
         if springs.any():
             K = sp.csr_array(K + self.G.T @ sp.diags_array(springs) @ self.G)
         self.Kq = sp.csr_array(K)
@@ -131,24 +139,35 @@ class InteriorModel:
         yz = z0 - self.factor_z.solve(self.K_zq @ yq)
         return np.concatenate([yq, yz])
 
-    def project(self, local: np.ndarray) -> np.ndarray:
-        """Xᵀ a X (released end actions condensed with the stiffness's own shape); plain pieces unchanged."""
-        out = local.copy()
-        r = np.flatnonzero(~self._plain)
-        if r.size:
-            X = self.X[r]
-            out[r] = np.swapaxes(X, 1, 2) @ local[r] @ X
-        return out
+    def _project(self, local: np.ndarray, rows: np.ndarray) -> np.ndarray:
+        """Xᵀ a X for pieces ``rows`` (released end actions condensed with the stiffness's own shape)."""
+        pos = self._rel_pos[rows]
+        sel = np.flatnonzero(pos >= 0)
+        if sel.size:
+            X = self._X[pos[sel]]
+            local = local.copy()
+            local[sel] = np.swapaxes(X, 1, 2) @ local[sel] @ X
+        return local
 
-    def assemble_ext(self, local: np.ndarray) -> sp.csr_array:
-        A, idx = self.A, self.idx
-        Ke = np.swapaxes(A, 1, 2) @ self.project(local) @ A
-        w = idx.shape[1]
-        r = np.broadcast_to(idx[:, :, None], (idx.shape[0], w, w)).ravel()
-        c = np.broadcast_to(idx[:, None, :], (idx.shape[0], w, w)).ravel()
-        v = Ke.ravel()
-        keep = (r >= 0) & (c >= 0) & (v != 0.0)
-        return sp.coo_array((v[keep], (r[keep], c[keep])), shape=(self.n_ext, self.n_ext)).tocsr()
+    def assemble_ext(self, local, chunk: int = 40000) -> sp.csr_array:
+        """Global (ext) matrix of the pieces' local matrices: an array ``(mp,12,12)`` or ``rows -> array``.
+
+        Assembled in chunks of pieces, so memory stays a few hundred MB on large models.
+        """
+        mp = self.A.shape[0]
+        out = sp.csr_array((self.n_ext, self.n_ext))
+        for start in range(0, mp, chunk):
+            rows = np.arange(start, min(mp, start + chunk))
+            loc = local(rows) if callable(local) else local[rows]
+            A, idx = self.A[rows], self.idx[rows]
+            Ke = np.swapaxes(A, 1, 2) @ self._project(loc, rows) @ A
+            w = idx.shape[1]
+            r = np.broadcast_to(idx[:, :, None], (idx.shape[0], w, w)).ravel()
+            c = np.broadcast_to(idx[:, None, :], (idx.shape[0], w, w)).ravel()
+            v = Ke.ravel()
+            keep = (r >= 0) & (c >= 0) & (v != 0.0)
+            out = out + sp.coo_array((v[keep], (r[keep], c[keep])), shape=(self.n_ext, self.n_ext)).tocsr()
+        return sp.csr_array(out)
 
     def to_q(self, M_ext: sp.csr_array) -> sp.csr_array:
         xe = self.x_ext
@@ -165,7 +184,8 @@ class InteriorModel:
         return r
 
     def geometric_q(self, N: np.ndarray) -> sp.csr_array:
-        return self.to_q(self.assemble_ext(geometric_stiffness(self.L, N, self.sub.frame.truss)))
+        truss = self.sub.frame.truss
+        return self.to_q(self.assemble_ext(lambda rows: geometric_stiffness(self.L[rows], N[rows], truss[rows])))
 
     @property
     def frame(self) -> Frame:

@@ -74,7 +74,9 @@ class RefinedModel:
         self.Kxx: sp.csr_array = keep["Kxx"]
         self.springs: np.ndarray = keep["springs"]
         self.factor = keep["factor"]
-        self.X = condensation_map(self.asm.k, self.asm.released)
+        rel = self.asm.released
+        self._rel_rows = np.flatnonzero(rel.any(axis=1))
+        self._X = condensation_map(self.asm.k[self._rel_rows], rel[self._rel_rows])
         self._points: tuple[np.ndarray, np.ndarray] | None = None
 
     # ------------------------------------------------------------------ sizes
@@ -94,8 +96,13 @@ class RefinedModel:
     # ------------------------------------------------------------------ assembly
     def project(self, local: np.ndarray) -> np.ndarray:
         """Xᵀ a X for batched local matrices ``(mp,12,12)`` (released end actions condensed)."""
-        X = self.X
-        return np.swapaxes(X, 1, 2) @ local @ X
+        r = self._rel_rows
+        if r.size == 0:
+            return local
+        out = local.copy()
+        X = self._X
+        out[r] = np.swapaxes(X, 1, 2) @ local[r] @ X
+        return out
 
     def assemble_ext(self, local: np.ndarray) -> sp.csr_array:
         """Global (ext) matrix of batched local member matrices, through the element map."""
