@@ -765,6 +765,9 @@ def _analyze(args, con) -> int:
         t0 = time.perf_counter()
         results = analyze(model.frame, options, progress=con.progress)
         con.info(f"analysed in {time.perf_counter() - t0:.2f} s with {results.solver}")
+        from .magnitudes import displacement_warnings
+
+        model.diagnostics.extend(displacement_warnings(results))  # kilometre displacements: a unit mistake
     except UnstableStructureError as exc:
         _print_unstable(con, exc, ind)
         return EXIT_UNSTABLE

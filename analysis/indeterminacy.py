@@ -1049,12 +1049,15 @@ def _rigid_note(frame: Frame, options: AnalysisOptions) -> str | None:
 # --------------------------------------------------------------------------- joint by joint
 #: how the eliminated components are attributed, in words (printed under the joint table)
 ATTRIBUTION_RULE = (
-    "Each independent constraint takes away one unknown. Of the components it moves (at least half as much as "
-    "the most), it takes one of the joint that comes last in the model's list of joints, so that component is "
-    "written in terms of the joints before it; at that joint a translation before a rotation, the one the "
-    "constraint moves most first, ties in the order ux, uy, uz. A rigid body or diaphragm takes its following "
-    "nodes' components and writes them in terms of its first node. A constraint that repeats others takes "
-    "nothing (it is redundant, listed in the notes).")
+    "Each independent constraint takes away one unknown, in two steps. (1) A constraint that alone moves some "
+    "components (no other constraint touches them) takes one of those: a rigid body or diaphragm takes its other "
+    "nodes' components and writes them in terms of its first node; a rigid member whose one end nothing else "
+    "ties takes a component of that end. (2) The other constraints are taken in turn (rigid members in the "
+    "model's order, then rigid bodies, then diaphragms), each from what the ones before it left. In both steps, "
+    "of the candidate components the constraint moves at least half as much as the most, it takes one of the "
+    "joint that comes last in the model's list of joints; at that joint a translation before a rotation, the "
+    "one moved most first, ties in the order ux, uy, uz. What it takes is written in terms of the remaining "
+    "unknowns. A constraint that repeats others takes nothing: it is redundant (listed in the notes).")
 
 # classes of a joint component in the by-joint count
 _INACTIVE, _UNKNOWN, _RESTRAINED, _ELIMINATED, _FREE, _PINNED, _SKEW = range(7)

@@ -248,12 +248,14 @@ def _pivot_key(mag: np.ndarray, best: np.ndarray, node: np.ndarray, comp: np.nda
     """Sort keys (last = primary, for `np.lexsort`) of candidate pivots, smaller = chosen first.
 
     The rule, in words: each independent constraint removes one unknown.
-    Of the components it moves at least half as much as the most, it
-    removes one of the joint that comes last in the model's list of joints
-    (so it is written in terms of the earlier joints); at that joint a
-    translation before a rotation, and the component it moves most, ties
-    going to ux, uy, uz (rx, ry, rz) in that order. Magnitudes are compared
-    to nine significant digits, so round-off never decides.
+    Of its candidate components (those it moves at least half as much as
+    the most; in the direct stage only the components no other constraint
+    touches), it removes one of the joint that comes last in the model's
+    list of joints; at that joint a translation before a rotation, and the
+    component it moves most, ties going to ux, uy, uz (rx, ry, rz) in that
+    order. Magnitudes are compared to nine significant digits, so
+    round-off never decides. ``indeterminacy.ATTRIBUTION_RULE`` says the
+    same for the user.
     """
     q = np.round(mag / np.where(best > 0, best, 1.0) * 1e9)
     return (comp, -q, comp >= 3, -node)
