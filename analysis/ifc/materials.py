@@ -746,6 +746,11 @@ class MaterialResolver:
             lines.append(f"  {what}: {u.count} element{'s' if u.count != 1 else ''}"
                          f" ({', '.join(f'{c} {k}' for k, c in sorted(u.classes.items()))}), {u.missing}; e.g. "
                          + "; ".join(u.examples))
+        physical = [u for u in items if any(not c.startswith("IfcStructural") for c in u.classes) and u.name
+                    and '"' not in u.name and " + " not in u.name]
+        if physical:
+            lines.append("Elements that are not part of the frame (bearing pads, pipes, insulation) can be left out, "
+                         f"e.g. --exclude 'IfcElement, material=\"{physical[0].name}\"'.")
         lines.append("Say what they are in a material map and pass it with --materials FILE.toml "
                      "(the README describes the format); for example, edit this:")
         lines.append("")

@@ -142,6 +142,8 @@ def test_unknown_materials_in_one_report_with_a_snippet(tmp_path, capsys):
     assert f"'Radial Gradient Fill 9': 1 element (1 IfcBeam)" in err and f"#{b1.id()} IfcBeam 'B1'" in err
     # recognised or absent materials are not in the report
     assert "S355J2" not in err.split("[materials]")[0].split("could not be identified")[1]
+    # elements that are not part of the frame: how to leave them out instead
+    assert """--exclude 'IfcElement, material="Solid"'""" in err
     # the ready-to-edit snippet is TOML naming exactly the unknown materials, grades left to fill in
     snippet = err[err.index("# materials.toml"):]
     doc = tomllib.loads(snippet)
