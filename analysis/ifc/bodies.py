@@ -40,10 +40,15 @@ Torsion and shear
     on the warping function) and the shear areas (Zhuravskii); the module
     docstring there names the sources.
 
-Requirements on the body: a closed, consistently oriented surface (the
-kernel's output for solids and closed face sets). An open surface, a mesh
-that the kernel cannot build or a cut that is not closed is reported as a
-failure with its reason, never an exception.
+The batched path needs a closed, consistently oriented surface (every
+directed edge once, and once reversed: the kernel's output for solids and
+closed face sets). Any other mesh (open ends, triangles wound either way)
+is taken one at a time: the direction from the area-weighted second
+moments of its triangles (refined by the side faces likewise), the section
+from the cut's segments chained into loops without their orientation
+(even-odd region), with a note. A mesh that the kernel cannot build, or
+whose cut gives no closed loop, is reported as a failure with its reason,
+never an exception.
 """
 from __future__ import annotations
 
@@ -70,9 +75,10 @@ SIDE_FACE_COSINE = 0.5
 #: smallest eigenvalue / trace of the side faces' normal tensor below which the body is prismatic
 PRISMATIC_TOLERANCE = 1e-6
 #: a suspect axis (shorter than its section depth) gives way to the body's principal direction only when the body
-#: is at least this many times longer along that direction; otherwise the body is a block (a cleat, a packing
-#: piece, a short stud) that is no longer in any direction, and the axis is kept
-SUSPECT_LENGTH_RATIO = 1.5
+#: is at least this many times longer along that direction than both the suspect axis and the section cut across
+#: it; otherwise the body is a block (a cleat, a packing piece, a short stud) that is no longer in any direction,
+#: and the axis is kept
+SUSPECT_LENGTH_RATIO = 3.0
 
 #: geometry kernels tried in this order: CGAL for what it builds (face sets, Breps: about 20× faster than
 #: OpenCASCADE on tessellated bodies, measured), OpenCASCADE for the rest (booleans, swept curves)

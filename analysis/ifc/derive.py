@@ -885,7 +885,7 @@ class _Deriver:
                                   f"({max(shape.depth, shape.width) * 1000:.4g} mm): suspect", length)
             if k in suspect:
                 why, given = suspect[k]
-                if shape.length < SUSPECT_LENGTH_RATIO * given:
+                if shape.length < SUSPECT_LENGTH_RATIO * max(given, shape.depth, shape.width):
                     self.diagnostics.append(Diagnostic(
                         "warning", el.eid, f"{el.label}: {why}; its body is no longer in any other direction (at most "
                         f"{shape.length * 1000:.4g} mm): the axis is kept"))
