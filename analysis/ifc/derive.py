@@ -846,8 +846,9 @@ class _Deriver:
         axis (``Axis`` curve or extrusion) is shorter than their section depth
         (suspect: a body extruded across the member), which are reported; the
         body's principal direction replaces a suspect axis when the body is
-        at least `SUSPECT_LENGTH_RATIO` times longer along it (else the body
-        is a block, no longer in any direction, and the axis is kept).
+        at least `SUSPECT_LENGTH_RATIO` times longer along it than both the
+        suspect axis and the section cut across it (else the body is a
+        block, no longer in any direction, and the axis is kept).
         Sets ``el.shape`` and ``el.shape_line``; returns the reasons of the
         elements the kernel gave nothing for.
         """
