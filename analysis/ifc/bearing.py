@@ -2,7 +2,9 @@
 
 `bearing_hits` answers, for points at member ends, whether an upward-facing
 face of one of the given elements' bodies lies directly below the underside
-of the member's section there, within a tolerance, or whether the end is
+of the member's section there, within a tolerance, or cuts the lower half of
+the section (the member seated in a notch, or on a sloping wall top, the face
+between the underside and the centroid), or whether the end is
 built into the body (a beam end in a wall pocket: the point lies inside it).
 The bodies come from ``ifcopenshell.geom`` (triangulated, world coordinates,
 metres); both tests cast a vertical ray from each point against those
@@ -73,7 +75,8 @@ def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDAr
     below : (q,) float
         Depth (m) of the section's underside below the points.
     tol : float
-        The gap (m) allowed between the underside and the face, either way.
+        The gap (m) allowed between the underside and the face, either way
+        (the face may also lie anywhere between the underside and the point).
     """
     q = len(points)
     hit = np.full(q, -1, dtype=np.int64)
@@ -118,7 +121,9 @@ def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDAr
             inside = okd[None, :] & (u >= -eps) & (t >= -eps) & (u + t <= 1 + eps)
             z = a[None, :, 2] + u * (b - a)[None, :, 2] + t * (c - a)[None, :, 2]
             gap = under[chunk, None] - z
-            good = inside & (np.abs(gap) <= tol)
+            # the face within the tolerance of the underside, or cutting the section's lower half
+            depth = (pts[chunk, 2] - under[chunk])[:, None]
+            good = inside & (gap <= tol) & (gap >= -(depth + tol))
             gapabs = np.where(good, np.abs(gap), np.inf).min(axis=1)
             for i, g in zip(chunk, gapabs):
                 o = owner[i]

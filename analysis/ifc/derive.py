@@ -714,6 +714,7 @@ class _Deriver:
         self.support_specs = [parse_supports(s, self.support_kind) for s in self.support_queries]
         self.placements = PlacementCache()
         self._card_cache: dict = {}
+        self._rescue: set[int] = set()  # element ids of groups found loose: their joints may snap in the next pass
         self._profile_sizes: dict[int, float] = {}  # extruded profile id -> largest extent (file units)
 
     # ------------------------------------------------------------------ run
@@ -1230,7 +1231,12 @@ class _Deriver:
         offsets = np.zeros((m, 2, 3))
         node_half = np.zeros(node_count)
         np.maximum.at(node_half, end_node, np.concatenate([half, half]))
-        free = np.flatnonzero((degree == 1) & ~on_span)
+        # joints of a group found loose in an earlier pass may move too (all their ends), towards another group
+        resc = np.array([el.eid in self._rescue for el in elements], dtype=bool)
+        rescue_any = np.zeros(node_count, dtype=bool)
+        if resc.any():
+            rescue_any[end_node[np.concatenate([resc, resc])]] = True
+        free = np.flatnonzero(((degree == 1) | rescue_any) & ~on_span)
         new_points: list[np.ndarray] = []
         eccentric = []
         if len(free):
@@ -1247,14 +1253,18 @@ class _Deriver:
                     continue
                 e = int(first_end[node])
                 k, end = int(end_elem[e]), int(e >= m)
+                joint = bool(rescue_any[node] and degree[node] > 1)  # a whole joint of a loose group
+                own = node_half[node] if joint else half[k]
                 best = None
                 loose = None  # the nearest other free end: taken only when no joint and no centre line is in reach
                 for c in cands:
                     if c == node or c in elem_nodes[k] or c in moved_away or degree[c] == 0 and not on_span[c]:
                         continue
+                    if rescue_any[node] and rescue_any[c]:
+                        continue  # a loose group reaches for another group, not for itself
                     d = float(np.linalg.norm(P[c] - P[node]))
                     # snap distance at this joint: half the sum of the section sizes meeting (their faces touch), plus the tolerance
-                    if d <= node_half[c] + half[k] + tol:
+                    if d <= node_half[c] + own + tol:
                         if degree[c] > 1 or on_span[c] or c in received:
                             if best is None or d < best[0]:
                                 best = (d, c)
@@ -1265,7 +1275,8 @@ class _Deriver:
                     target = best[1]
                 else:
                     # the centre line of another member within the snap distance
-                    lines = self._nearest_line(A, B, lengths, half, P[node], k, tol)
+                    lines = self._nearest_line(A, B, lengths, half, P[node], k, tol, own_half=own,
+                                               exclude=resc if rescue_any[node] else None)
                     if lines is None and loose is not None:
                         target = loose[1]
                     if lines is not None:
@@ -1284,7 +1295,11 @@ class _Deriver:
                 moved_away.add(int(node))
                 received.add(int(target))
                 pos = P[node]
-                eccentric.append((k, end, target, pos))
+                if joint:
+                    for e_ in np.flatnonzero(end_node == node).tolist():
+                        eccentric.append((int(end_elem[e_]), int(e_ >= m), target, pos))
+                else:
+                    eccentric.append((k, end, target, pos))
         if new_points:
             P = np.vstack([P, np.array(new_points)])
             node_count = len(P)
@@ -1591,8 +1606,12 @@ class _Deriver:
                               + _names(joined) + ".")
         return P, node_count, links
 
-    def _nearest_line(self, A, B, lengths, half, x, k, tol):
-        """(element, t, distance) of the nearest other centre line within its half size + tol of ``x``."""
+    def _nearest_line(self, A, B, lengths, half, x, k, tol, own_half=None, exclude=None):
+        """(element, t, distance) of the nearest other centre line within the snap distance of ``x``.
+
+        The snap distance is half the other member's size plus ``own_half`` (default element k's half
+        size) plus ``tol``; elements where ``exclude`` is true are not considered.
+        """
         if getattr(self, "_mid_tree", None) is None:
             from scipy.spatial import cKDTree
 
@@ -1600,13 +1619,15 @@ class _Deriver:
             self._mid_reach = float((0.5 * lengths + half).max() + half.max()) + tol
         cand = np.array(self._mid_tree.query_ball_point(x, r=self._mid_reach), dtype=np.int64)
         cand = cand[cand != k]
+        if exclude is not None:
+            cand = cand[~exclude[cand]]
         if len(cand) == 0:
             return None
         d = B[cand] - A[cand]
         tv = np.clip(np.sum((x - A[cand]) * d, axis=1) / lengths[cand] ** 2, 0.0, 1.0)
         dist = np.linalg.norm(A[cand] + tv[:, None] * d - x, axis=1)
         # snap distance: half the sum of the two section sizes (their faces touch), plus the tolerance
-        ok = (dist <= half[cand] + half[k] + tol) & (tv * lengths[cand] > tol) & ((1 - tv) * lengths[cand] > tol)
+        ok = (dist <= half[cand] + (half[k] if own_half is None else own_half) + tol) & (tv * lengths[cand] > tol) & ((1 - tv) * lengths[cand] > tol)
         if not ok.any():
             return None
         j = int(np.flatnonzero(ok)[np.argmin(dist[ok])])
@@ -1944,6 +1965,10 @@ class _Deriver:
         if not loose_seg.any():
             return False
         loose_elems = sorted(set(seg_elem[loose_seg].tolist()))
+        fresh = {elements[k].eid for k in loose_elems} - self._rescue
+        if fresh:  # once: let their joints reach for a supported group, then derive again
+            self._rescue |= fresh
+            return True
         sizes = Counter(int(label[members[s, 0]]) for s in np.flatnonzero(loose_seg))
         group_of = {int(seg_elem[s]): int(label[members[s, 0]]) for s in np.flatnonzero(loose_seg)}
         for k in loose_elems:
