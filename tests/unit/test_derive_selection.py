@@ -335,3 +335,20 @@ def test_beam_end_built_into_a_wall_is_supported():
     assert fr.restraints.any(axis=1).sum() == 2 and fr.restraints[:, :3].all()
     assert sum("bears on #" in d.message for d in diags) == 2
     np.testing.assert_allclose(_reaction_z(fr), _weight(fr), rtol=1e-9)
+
+
+def test_loose_group_hanging_from_a_beam_is_joined_by_its_joints():
+    m = portal()
+    # a frame hung under B1: its top joints (hanger and top rail meet there) touch B1's underside
+    m.element("IfcColumn", "H1", (2, 0, 2), (2, 0, 3.75), (0.1, 0.1))
+    m.element("IfcColumn", "H2", (4, 0, 2), (4, 0, 3.75), (0.1, 0.1))
+    m.element("IfcBeam", "T", (2, 0, 3.75), (4, 0, 3.75), (0.1, 0.1))
+    m.element("IfcBeam", "L", (2, 0, 2), (4, 0, 2), (0.1, 0.1))
+    fr, diags, notes = m.derive()
+    assert not any("left out" in d.message for d in diags)
+    for name, x in (("H1", 2.0), ("H2", 4.0)):
+        i = fr.member_index(name)
+        assert fr.members[i, 1] == node_at(fr, (x, 0, 4))
+        np.testing.assert_allclose(fr.offsets[i, 1], [0, 0, -0.25], atol=1e-12)
+    assert any("merged with" in lab and "'T'" in lab for lab in fr.member_labels)  # T lies along B1 now
+    np.testing.assert_allclose(_reaction_z(fr), RHO * G * (2 * 0.09 * 4 + 0.08 * 6 + 0.01 * (2 * 1.75 + 2 * 2)), rtol=1e-9)
