@@ -79,10 +79,11 @@ def _saint_venant_rectangle(a, b):
 class Model:
     """A tiny physical model in metres; every element of material S355 (grade table) and placed by ``placement``."""
 
-    def __init__(self, schema="IFC4"):
+    def __init__(self, schema="IFC4", mm=False):
         self.f = f = ifcopenshell.file(schema=schema)
         self.schema = schema
-        units = [f.create_entity("IfcSIUnit", UnitType="LENGTHUNIT", Name="METRE"),
+        self.scale = 1000.0 if mm else 1.0  # file length units per metre (triangulated_i and placements only)
+        units = [f.create_entity("IfcSIUnit", UnitType="LENGTHUNIT", Prefix="MILLI" if mm else None, Name="METRE"),
                  f.create_entity("IfcSIUnit", UnitType="FORCEUNIT", Name="NEWTON"),
                  f.create_entity("IfcSIUnit", UnitType="PLANEANGLEUNIT", Name="RADIAN"),
                  f.create_entity("IfcSIUnit", UnitType="MASSUNIT", Prefix="KILO", Name="GRAM")]
@@ -111,7 +112,8 @@ class Model:
         f = self.f
         rep = f.create_entity("IfcShapeRepresentation", ContextOfItems=self.body_ctx, RepresentationIdentifier="Body",
                               RepresentationType=rep_type, Items=[item])
-        placement = f.create_entity("IfcLocalPlacement", RelativePlacement=self.axis2(origin, axis, ref))
+        placement = f.create_entity("IfcLocalPlacement",
+                                    RelativePlacement=self.axis2([c * self.scale for c in origin], axis, ref))
         e = f.create_entity(cls, GlobalId=ifcopenshell.guid.new(), Name=name, ObjectPlacement=placement,
                             Representation=f.create_entity("IfcProductDefinitionShape", Representations=[rep]))
         f.create_entity("IfcRelAssociatesMaterial", GlobalId=ifcopenshell.guid.new(), RelatedObjects=[e],
@@ -143,6 +145,7 @@ class Model:
 
     def triangulated_i(self, L):
         pts, cap = _i_outline()
+        pts, L = pts * self.scale, L * self.scale
         verts, sides = self._prism([pts], L)
         n = len(pts)
         tris = []
@@ -258,9 +261,9 @@ def test_polygon_i_and_hollow_against_formulas():
 
 
 # --------------------------------------------------------------------------- bodies through the kernel
-@pytest.mark.parametrize("schema", ["IFC4", "IFC4X3_ADD2"])
-def test_triangulated_i_section(schema):
-    m = Model(schema)
+@pytest.mark.parametrize("schema,mm", [("IFC4", False), ("IFC4", True), ("IFC4X3_ADD2", False)])
+def test_triangulated_i_section(schema, mm):
+    m = Model(schema, mm=mm)
     L = 4.0
     e = m.element(m.triangulated_i(L), rep_type="Tessellation")
     axes, failed = body_axes(m.f, [e])
