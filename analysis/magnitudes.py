@@ -19,7 +19,7 @@ import numpy as np
 from .errors import ModelError
 from .model import Frame, LineLoad, PointLoad
 
-__all__ = ["check_magnitudes", "BOUNDS"]
+__all__ = ["check_magnitudes", "plausibility_warnings", "displacement_warnings", "BOUNDS"]
 
 #: (lowest allowed magnitude of a non-zero value, highest), SI units.
 BOUNDS: dict[str, tuple[float, float]] = {
@@ -139,3 +139,94 @@ def _check_case(case) -> None:
         why = _bad(float(s.value), "settlement")
         if why:
             raise ModelError(f"{_where(case, s.source)}: the settlement of node {s.node} ({s.dof}) {why}")
+
+
+# --------------------------------------------------------------------------- plausibility (warnings, not errors)
+# Typical ranges per material family, SI (E, G in Pa, density in kg/m3); a value outside the wide range is
+# reported. Steel: EN 1993-1-1 3.2.6 gives E = 210 GPa, G = 81 GPa, density 7850 (EN 1991-1-1 Annex A);
+# concrete: EN 1992-1-1 Table 3.1, Ecm 27-44 GPa; timber: EN 338, E0,mean 7-20 GPa, density 290-1080;
+# aluminium: EN 1999-1-1 3.2.5, E = 70 GPa, density 2700 (from memory). The wide ranges are common practice.
+_FAMILIES: tuple[tuple[str, str, dict[str, tuple[float, float]]], ...] = (
+    ("steel", r"steel|stahl|acier|\bS\s?[2-9]\d\d|\bA\s?(36|572|992|500|588|913)\b|\bgrade\s*\d+",
+     {"E": (150e9, 250e9), "G": (60e9, 100e9), "density": (7000.0, 8500.0)}),
+    ("concrete", r"concrete|beton|\bL?C\s?\d{2,3}\s*/\s*\d{2,3}",
+     {"E": (5e9, 60e9), "G": (2e9, 27e9), "density": (1500.0, 3000.0)}),
+    ("timber", r"timber|wood|holz|softwood|hardwood|glulam|\bGL\s?\d{2}|\b[CD]\s?\d{2}\b|\bLVL\b|\bCLT\b",
+     {"E": (1e9, 30e9), "G": (0.05e9, 2e9), "density": (250.0, 1200.0)}),
+    ("aluminium", r"alumin|\bEN\s?AW|\b[5-7]\d{3}-T\d",
+     {"E": (60e9, 80e9), "G": (20e9, 30e9), "density": (2500.0, 2900.0)}),
+)
+_ANY = {"E": (1e8, 5e11), "G": (1e7, 2e11), "density": (1.0, 25000.0)}
+
+
+def _family(name: str) -> tuple[str, dict[str, tuple[float, float]]]:
+    import re
+
+    for family, pattern, ranges in _FAMILIES:
+        if re.search(pattern, name or "", re.IGNORECASE):
+            return family, ranges
+    return "", _ANY
+
+
+def plausibility_warnings(frame: Frame) -> list:
+    """Warnings for E, G and density far outside the range of the material's family (by its name).
+
+    One warning per material and value, naming the material, the value, the
+    range and the number of members; a unit mistake (psi for ksi, mass for
+    force) shows up here long before it shows as kilometre displacements.
+    """
+    from .errors import Diagnostic
+
+    out = []
+    names = list(frame.material_names) if len(frame.material_names) == frame.n_members else [""] * frame.n_members
+    seen: dict[tuple[str, str, float], int] = {}
+    for k in range(frame.n_members):
+        family, ranges = _family(names[k])
+        for key, values in (("E", frame.E), ("G", frame.G), ("density", frame.density)):
+            v = float(values[k])
+            low, high = ranges[key]
+            if v == 0.0 and key != "E":
+                continue  # not given (a bar's G, a weightless member)
+            if not low <= v <= high:
+                seen[(names[k], key, v)] = seen.get((names[k], key, v), 0) + 1
+    for (name, key, v), count in seen.items():
+        family, ranges = _family(name)
+        low, high = ranges[key]
+        unit, scale = ("GPa", 1e9) if key in ("E", "G") else ("kg/m3", 1.0)
+        what = f"{family} " if family else ""
+        out.append(Diagnostic("warning", None, f"material {name or '(unnamed)'!r}: {key} = {v / scale:.4g} {unit} is "
+                                               f"outside the plausible range of {what or 'structural '}materials "
+                                               f"({low / scale:.4g} to {high / scale:.4g} {unit}) on {count} "
+                                               "member(s): check the value and its unit"))
+    return out
+
+
+def displacement_warnings(results, ratio: float = 1.0 / 50.0) -> list:
+    """A warning when the largest translation exceeds ``ratio`` of the frame's size (a unit or stiffness mistake).
+
+    Span/50 is far beyond any serviceability limit (span/250 to span/500 are
+    usual; common practice, no source): a linear analysis is not valid there.
+    """
+    from .errors import Diagnostic
+
+    frame = results.frame
+    if frame.n_nodes < 2:
+        return []
+    size = float(np.max(np.ptp(np.asarray(frame.nodes, dtype=float), axis=0)))
+    if size <= 0.0:
+        return []
+    worst, where = 0.0, ("", "")
+    for name, cr in results.cases.items():
+        d = np.asarray(cr.displacements, dtype=float)
+        if not d.size:
+            continue
+        t = np.linalg.norm(d[:, :3], axis=1)
+        i = int(np.argmax(t))
+        if t[i] > worst:
+            worst, where = float(t[i]), (frame.node_ids[i], name)
+    if worst <= ratio * size:
+        return []
+    return [Diagnostic("warning", None, f"the largest displacement, {worst * 1e3:.4g} mm at node {where[0]} "
+                                        f"({where[1]}), is 1/{size / worst:.3g} of the frame's size ({size:.4g} m): "
+                                        "far beyond what a linear analysis represents; check the units of E, the "
+                                        "sections and the loads")]

@@ -224,6 +224,7 @@ def _declared_scale(ifc_file, assignment, via_project: bool, unit_type: str) -> 
         logger.warning("%d units of type %s are assigned (#%s, all the same); the first one is used",
                        len(units), unit_type, ", #".join(str(u.id()) for u in units))
     unit = units[0]
+    weight = _check_dimensions(unit, unit_type)
     if via_project and len(units) == 1:
         scale = float(ifc_unit.calculate_unit_scale(ifc_file, unit_type))
     else:
@@ -235,6 +236,7 @@ def _declared_scale(ifc_file, assignment, via_project: bool, unit_type: str) -> 
         name = str(getattr(unit, "Name", "") or "").upper()
         if "FAHRENHEIT" in name:
             scale = 5.0 / 9.0
+    scale *= weight
     if not math.isfinite(scale) or scale <= 0.0:
         from .errors import UnitError
 
@@ -257,6 +259,69 @@ _PLAUSIBLE = {
     "TIMEUNIT": (1e-6, 1e9, "time units from microsecond to decades"),
     "PLANEANGLEUNIT": (1e-6, 10.0, "angle units from microradian to a turn"),
 }
+
+
+# Dimensions (length, mass, time) each unit type must have: force = M L T^-2 (common practice, no source).
+_DIMENSIONS = {
+    "LENGTHUNIT": (1, 0, 0), "MASSUNIT": (0, 1, 0), "TIMEUNIT": (0, 0, 1), "FORCEUNIT": (1, 1, -2),
+    "AREAUNIT": (2, 0, 0), "VOLUMEUNIT": (3, 0, 0), "PRESSUREUNIT": (-1, 1, -2),
+    "MODULUSOFELASTICITYUNIT": (-1, 1, -2), "SHEARMODULUSUNIT": (-1, 1, -2), "PLANARFORCEUNIT": (-1, 1, -2),
+    "MASSDENSITYUNIT": (-3, 1, 0), "MASSPERLENGTHUNIT": (-1, 1, 0), "LINEARFORCEUNIT": (0, 1, -2),
+    "LINEARMOMENTUNIT": (1, 1, -2), "TORQUEUNIT": (2, 1, -2), "MOMENTOFINERTIAUNIT": (4, 0, 0),
+    "SECTIONMODULUSUNIT": (3, 0, 0), "WARPINGCONSTANTUNIT": (6, 0, 0), "LINEARSTIFFNESSUNIT": (0, 1, -2),
+    "ROTATIONALSTIFFNESSUNIT": (2, 1, -2), "MODULUSOFLINEARSUBGRADEREACTIONUNIT": (-1, 1, -2),
+    "MODULUSOFSUBGRADEREACTIONUNIT": (-2, 1, -2), "MODULUSOFROTATIONALSUBGRADEREACTIONUNIT": (1, 1, -2),
+}
+_DIMENSION_WORDS = {(1, 1, -2): "force (N)", (-1, 1, -2): "force per area (N/m2)", (-2, 1, 0): "mass per area (kg/m2)",
+                    (-3, 1, 0): "mass per volume (kg/m3)", (0, 1, -2): "force per length (N/m)",
+                    (2, 1, -2): "force times length (N*m)", (0, 1, 0): "mass (kg)", (1, 0, 0): "length (m)",
+                    (-1, 1, 0): "mass per length (kg/m)"}
+
+
+def _words(dims: tuple[int, ...]) -> str:
+    if dims in _DIMENSION_WORDS:
+        return _DIMENSION_WORDS[dims]
+    return "m^{} kg^{} s^{}".format(*dims)
+
+
+STANDARD_GRAVITY = 9.80665  # m/s2, the conventional value (3rd CGPM, 1901)
+
+
+def _check_dimensions(unit, unit_type: str) -> float:
+    """A derived or conversion-based unit must have the dimensions of its unit type; returns a factor for its scale.
+
+    A unit built from a mass where its type needs a force (pound per square
+    inch declared as a MODULUSOFELASTICITYUNIT, a frequent exporter slip for
+    pound-force per square inch) is read as the weight of that mass: its
+    scale times standard gravity, with a warning. Any other mismatch is a
+    UnitError.
+    """
+    want = _DIMENSIONS.get(unit_type)
+    if want is None or unit.is_a("IfcSIUnit"):
+        return 1.0
+    try:
+        if unit.is_a("IfcDerivedUnit"):
+            import ifcopenshell.util.unit as ifc_unit
+
+            dims = tuple(int(v) for v in ifc_unit.get_unit_dimensions(unit))[:3]
+        else:
+            d = getattr(unit, "Dimensions", None)
+            if d is None:
+                return 1.0
+            dims = (int(d.LengthExponent), int(d.MassExponent), int(d.TimeExponent))
+    except Exception:  # an unreadable unit: the scale check that follows reports it
+        return 1.0
+    if dims == want:
+        return 1.0
+    if tuple(w - d for w, d in zip(want, dims)) == (1, 0, -2):  # a mass where a force is meant
+        logger.warning("%s: declared as %s, which is %s, but its dimensions are %s: read as the weight of that mass "
+                       "(times standard gravity %g m/s2); check the unit's elements",
+                       _unit_label(unit), unit_type, _words(want), _words(dims), STANDARD_GRAVITY)
+        return STANDARD_GRAVITY
+    from .errors import UnitError
+
+    raise UnitError(f"{_unit_label(unit)}: declared as {unit_type}, which is {_words(want)}, but its dimensions are "
+                    f"{_words(dims)}: values in this unit cannot be converted; fix the unit's elements", unit.id())
 
 
 def _unit_label(unit) -> str:

@@ -355,7 +355,7 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
             strict=strict, members=members)
         frame, diagnostics, derive_notes = derived.frame, derived.diagnostics, derived.notes
         physical = {mid: src for mid, src in zip(frame.member_ids, frame.member_sources) if src}
-        _check_magnitudes(frame, path)
+        source.diagnostics.extend(_check_magnitudes(frame, path))
         return IfcModel(frame=frame, diagnostics=source.diagnostics + list(diagnostics), route="physical", schema=schema,
                         analysis_models=[], path=path, units=scales, notes=notes + list(derive_notes), physical=physical,
                         source_stamp=source.stamp, left_out=list(derived.left_out))
@@ -368,7 +368,7 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
         notes.append(f"Read the structural analysis model {entity_label(chosen)}.")
     reader = _StructuralReader(ifc_file, chosen, scales, defaults)
     frame = reader.read()
-    _check_magnitudes(frame, path)
+    source.diagnostics.extend(_check_magnitudes(frame, path))
     plane = str(getattr(chosen, "PredefinedType", None) or "") == "IN_PLANE_LOADING_2D"
     if plane:
         notes.append(f"{entity_label(chosen)} declares in-plane 2D loading: analysed as a plane frame in its own "
@@ -378,15 +378,16 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
                     physical=reader.physical, plane=plane, source_stamp=source.stamp)
 
 
-def _check_magnitudes(frame: Frame, path: str) -> None:
+def _check_magnitudes(frame: Frame, path: str) -> list[Diagnostic]:
     """Every number finite and representable (`analysis.magnitudes`), as an IfcInputError naming the element."""
     from ..errors import ModelError
-    from ..magnitudes import check_magnitudes
+    from ..magnitudes import check_magnitudes, plausibility_warnings
 
     try:
         check_magnitudes(frame)
     except ModelError as exc:
         raise IfcInputError(f"{path}: {exc}") from None
+    return plausibility_warnings(frame)
 
 
 def _open(path: str):

@@ -730,3 +730,58 @@ def test_open_source_errors_are_input_errors(tmp_path):
     with pytest.raises(IfcInputError, match="does not exist"):
         open_source(tmp_path / "missing.ifc")
     assert issubclass(PlacementError, IfcInputError)
+
+
+# --------------------------------------------------------------------------- plausibility of units and values
+_PSI_AS_MASS = ("#16=IFCUNITASSIGNMENT((#8,",
+                "#340=IFCCONVERSIONBASEDUNIT(#341,.MASSUNIT.,'pound',#342);\n"
+                "#341=IFCDIMENSIONALEXPONENTS(0,1,0,0,0,0,0);\n"
+                "#342=IFCMEASUREWITHUNIT(IFCMASSMEASURE(0.45359237),#343);\n"
+                "#343=IFCSIUNIT(*,.MASSUNIT.,.KILO.,.GRAM.);\n"
+                "#344=IFCSIUNIT(*,.LENGTHUNIT.,.MILLI.,.METRE.);\n"
+                "#345=IFCDERIVEDUNITELEMENT(#340,1);\n#346=IFCDERIVEDUNITELEMENT(#344,-2);\n"
+                "#347=IFCDERIVEDUNIT((#345,#346),.MODULUSOFELASTICITYUNIT.,$);\n"
+                "#16=IFCUNITASSIGNMENT((#347,#8,")
+
+
+def test_modulus_unit_built_from_a_mass_is_read_as_its_weight(capsys, tmp_path, portal_text):
+    # E = 2.1E+11 in "pound per mm2" read as pound-force per mm2: 1 lbf = 0.45359237 kg x 9.80665 m/s2
+    # (standard gravity, 3rd CGPM 1901; the pound by the 1959 international agreement)
+    from analysis.ifc.reader import read_ifc
+
+    lbf_per_mm2 = 0.45359237 * 9.80665 / 1e-6
+    text = portal_text.replace(*_PSI_AS_MASS).replace("IFCMODULUSOFELASTICITYMEASURE(2.1E+11)",
+                                                      f"IFCMODULUSOFELASTICITYMEASURE({2.1e11 / lbf_per_mm2:.12E})")
+    text = text.replace("IFCMODULUSOFELASTICITYMEASURE(8.1E+10)", f"IFCMODULUSOFELASTICITYMEASURE({8.1e10 / lbf_per_mm2:.12E})")
+    src = tmp_path / "lb.ifc"
+    src.write_text(text)
+    model = read_ifc(str(src))
+    np.testing.assert_allclose(model.frame.E, 2.1e11, rtol=1e-9)
+    r = run(capsys, "analyze", src, "-o", tmp_path / "o.ifc")
+    assert r.code == 0, r
+    assert "#347 IfcDerivedUnit: declared as MODULUSOFELASTICITYUNIT" in r.out and "weight of that mass" in r.out
+    assert "attribute values where the schema has" not in r.out
+
+
+def test_modulus_unit_of_the_wrong_dimensions_is_refused(capsys, tmp_path, portal_text):
+    old, new = _PSI_AS_MASS
+    new = new.replace("#346=IFCDERIVEDUNITELEMENT(#344,-2);", "#346=IFCDERIVEDUNITELEMENT(#344,-1);")
+    src = edited(tmp_path, portal_text, old, new)
+    analyse_refused(capsys, tmp_path, src, "#347 IfcDerivedUnit", "MODULUSOFELASTICITYUNIT", "cannot be converted")
+
+
+def test_steel_modulus_orders_of_magnitude_off_is_warned(capsys, tmp_path, portal_text):
+    # 29 where 29,000,000 psi (200 GPa) was meant: E = 29 Pa here, warned against steel's range
+    # (EN 1993-1-1 3.2.6: E = 210 GPa) and by the displacement it causes
+    src = edited(tmp_path, portal_text, "IFCMODULUSOFELASTICITYMEASURE(2.1E+11)", "IFCMODULUSOFELASTICITYMEASURE(2.9E+5)")
+    r = run(capsys, "analyze", src, "-o", tmp_path / "o.ifc")
+    assert r.code == 0, r
+    assert "material 'Steel S355': E = 0.00029 GPa is outside the plausible range of steel" in r.out
+    assert "largest displacement" in r.out and "of the frame's size" in r.out
+
+
+def test_plausible_model_gives_no_plausibility_warning(capsys, tmp_path, portal_text):
+    src = tmp_path / "W.ifc"
+    src.write_text(portal_text)
+    r = run(capsys, "analyze", src, "-o", tmp_path / "o.ifc")
+    assert r.code == 0 and "warnings   none" in r.out, r
