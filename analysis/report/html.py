@@ -179,7 +179,8 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
             if names:
                 rel.append(f"{tag}: {' '.join(names)}")
         mem_rows.append([mid, frame.node_ids[frame.members[k, 0]], frame.node_ids[frame.members[k, 1]],
-                         f"{results.L[k]:.3f}", frame.section_names[k] or "–", frame.material_names[k] or "–",
+                         f"{results.L[k]:.3f}", _sourced(frame.section_names[k], frame.section_sources[k]),
+                         _sourced(frame.material_names[k], frame.material_sources[k]),
                          "axial only" if frame.truss[k] else "frame", "; ".join(rel) or "–", frame.member_labels[k]])
     parts.append(_table(["Member", "i", "j", "L [m]", "Section", "Material", "Kind", "Releases", "Source"],
                         mem_rows, left_cols=3))
@@ -276,3 +277,8 @@ def write_report(path, model, results, indeterminacy=None, *, date: _dt.datetime
 
     atomic_text(path, text, suffix=".html")
     return path
+
+
+def _sourced(name: str, source: str) -> str:
+    """A section or material name, with where its values came from unless that is the file."""
+    return (name or "–") + (f" ({source})" if source and source != "file" else "")
