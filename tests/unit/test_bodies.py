@@ -108,14 +108,18 @@ class Model:
                                     RefDirection=self.dir(ref) if ref is not None else None)
 
     def element(self, item, *, cls="IfcBeam", name="B1", origin=(1.0, 2.0, 3.0), axis=(0.0, 0.0, 1.0), ref=(0.0, 1.0, 0.0),
-                rep_type="Brep", material=None):
+                rep_type="Brep", material=None, axis_curve=None):
         f = self.f
-        rep = f.create_entity("IfcShapeRepresentation", ContextOfItems=self.body_ctx, RepresentationIdentifier="Body",
-                              RepresentationType=rep_type, Items=[item])
+        reps = [f.create_entity("IfcShapeRepresentation", ContextOfItems=self.body_ctx, RepresentationIdentifier="Body",
+                                RepresentationType=rep_type, Items=[item])]
+        if axis_curve is not None:
+            line = f.create_entity("IfcPolyline", Points=[self.pt(c) for c in axis_curve])
+            reps.append(f.create_entity("IfcShapeRepresentation", ContextOfItems=self.body_ctx, RepresentationIdentifier="Axis",
+                                        RepresentationType="Curve3D", Items=[line]))
         placement = f.create_entity("IfcLocalPlacement",
                                     RelativePlacement=self.axis2([c * self.scale for c in origin], axis, ref))
         e = f.create_entity(cls, GlobalId=ifcopenshell.guid.new(), Name=name, ObjectPlacement=placement,
-                            Representation=f.create_entity("IfcProductDefinitionShape", Representations=[rep]))
+                            Representation=f.create_entity("IfcProductDefinitionShape", Representations=reps))
         f.create_entity("IfcRelAssociatesMaterial", GlobalId=ifcopenshell.guid.new(), RelatedObjects=[e],
                         RelatingMaterial=material or self.material)
         self.elements.append(e)
@@ -505,3 +509,26 @@ def test_inconsistent_winding_and_open_ends():
         np.testing.assert_allclose(ax.start[1:], 0.0, atol=1e-9)
         np.testing.assert_allclose(ax.z, [0.0, 0.0, 1.0], atol=1e-9)
         assert any("not a closed" in n for n in ax.notes)
+
+
+@pytest.mark.parametrize("schema", ["IFC2X3", "IFC4"])
+def test_axis_curve_with_a_brep_body(schema):
+    """An Axis along the body keeps its ends, moved onto the body's centroid line; an Axis shorter than the section
+    depth of a clearly longer body gives way to the body's principal direction."""
+    m = Model(schema)
+    L = 3.0
+    # element coordinates: the body runs along local x from 0 to L; the Axis runs 50 mm off it (a cardinal point)
+    # and 0.2 m short at the far end
+    near = m.element(m.brep_hollow(L), name="B1", origin=(0.0, 0.0, 0.0), axis=None, ref=None,
+                     axis_curve=[(0.0, 0.0, 0.05), (L - 0.2, 0.0, 0.05)])
+    m.element(m.brep_hollow(L), name="B2", origin=(0.0, 5.0, 0.0), axis=None, ref=None,
+              axis_curve=[(1.0, 0.0, 0.0), (1.1, 0.0, 0.0)])
+    frame, diags, notes, left = _derive(m)
+    assert not left
+    got = sorted(map(tuple, np.round(frame.nodes, 9)))
+    assert (0.0, 0.0, 0.0) in got and (L - 0.2, 0.0, 0.0) in got  # B1: the Axis' extent on the centroid line
+    assert (0.0, 5.0, 0.0) in got and (L, 5.0, 0.0) in got  # B2: the body's own extent
+    assert any(d.entity_id == near.id() and "moved 50 mm onto the centroid line" in d.message for d in diags)
+    assert any("'Axis' is 100 mm long, shorter than its section depth" in d.message and "instead" in d.message
+               for d in diags)
+    assert list(frame.section_sources) == ["body geometry", "body geometry"]
