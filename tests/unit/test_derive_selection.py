@@ -135,6 +135,10 @@ def test_cli_strict_exit_code_and_left_out_count(tmp_path, capsys):
     assert "left out   1 elements (1 connected to no support" in out
     assert main(["check", str(path), "--strict"]) == 2
     assert "IfcBeam 'Loose'" in capsys.readouterr().err
+    assert main(["check", str(path), "--exclude", "IfcBeam, Name=Loose", "--members", "frame",
+                 "--supports", "IfcColumn:pinned"]) == 3  # a portal on pins: a mechanism out of its plane
+    assert main(["check", str(path), "--select", "IfcBeam, (("]) == 2
+    assert "not a valid ifcopenshell selector query" in capsys.readouterr().err
 
 
 def test_summary_counts_every_warning():
@@ -170,6 +174,11 @@ def test_roof_grid_on_walls_is_supported_where_it_bears():
     assert any("bear on 6 IfcWall" in n for n in notes)
     assert sum("bears on #" in d.message for d in diags) == 6
     np.testing.assert_allclose(_reaction_z(fr), _weight(fr), rtol=1e-9)
+    # named: the ends bearing on the walls, fixed
+    fr2, _, notes2 = m.derive(supports=["IfcWall:fixed"])
+    assert fr2.restraints.all(axis=1).sum() == 6 and fr2.restraints.any(axis=1).sum() == 6
+    assert any("--supports 'IfcWall' (fixed): 0 lowest ends of 0 frame elements, and member ends bearing on 6 IfcWall" in n
+               for n in notes2)
 
 
 def test_lowest_nodes_pinned_when_nothing_bears():
