@@ -237,3 +237,23 @@ def test_table_ships_with_the_package():
     header = next(line for line in text.splitlines() if not line.startswith("#"))
     assert header.split(",") == ["family", "grade", "E_MPa", "G_MPa", "nu", "density_kg_m3", "strength_MPa", "standard", "source"]
     assert math.isclose(grade_table()["S355"].E, 210e9)
+
+
+def test_any_name_is_read_without_error():
+    from hypothesis import given
+    from hypothesis import strategies as st
+
+    @given(st.text(max_size=40), st.one_of(st.none(), st.text(max_size=20)))
+    def check(name, category):
+        found = recognise_grade(name, category)
+        assert found is None or found.grade.name in grade_table()
+
+    check()
+
+
+@pytest.mark.parametrize("prefix", ["", "STEEL/", "Steel ", "MAT_", "Structural steel - "])
+@pytest.mark.parametrize("grade", ["S235", "S275", "S355", "S460"])
+@pytest.mark.parametrize("suffix", ["", "JR", "J0", " J2H", "-K2", "NL", "ML", "+N"])
+def test_steel_designations_with_prefixes_and_suffixes(prefix, grade, suffix):
+    found = recognise_grade(f"{prefix}{grade}{suffix}")
+    assert found is not None and found.grade.name == grade and found.how == "grade"
