@@ -402,3 +402,19 @@ def test_the_readme_example_is_a_valid_map():
     block = section[section.index("```toml") + len("```toml"):]
     mm = parse_material_map(tomllib.loads(block[:block.index("```")]), "README.md")
     assert mm.default is not None and mm.names and mm.classes
+
+
+def test_element_material_of_one_element():
+    from analysis.ifc.materials import element_material
+    from analysis.units import unit_scales
+
+    m = two_bays()
+    scales = unit_scales(m.f)
+    mat, diags = element_material(m.f, m.elements["B2"], scales)
+    assert (mat.name, mat.E, mat.source, diags) == ("S355J2", 210e9, "grade table", [])
+    mat, diags = element_material(m.f, m.elements["C3"], scales)
+    assert mat.source == "default" and diags[0].level == "warning"
+    with pytest.raises(UnknownMaterialsError, match="'Solid': 1 element"):
+        element_material(m.f, m.elements["C1"], scales)
+    mat, _ = element_material(m.f, m.elements["C1"], scales, ReaderDefaults(E=30e9, poisson=0.2, density=2400.0))
+    assert (mat.E, mat.G, mat.density, mat.source) == (30e9, pytest.approx(12.5e9), 2400.0, "default")
