@@ -683,7 +683,12 @@ class MaterialResolver:
         self.f = ifc_file
         self.scales = scales
         self.defaults = defaults
-        self.map = materials if materials is not None else getattr(defaults, "materials", None) if defaults is not None else None
+        found: Any = materials if materials is not None else getattr(defaults, "materials", None) if defaults is not None else None
+        if found is not None and not hasattr(found, "for_name"):  # a path: read the map
+            from .material_map import load_material_map
+
+            found = load_material_map(found)
+        self.map: MaterialMap | None = found
         self._values: dict[Any, dict[str, float]] = {}
         self._resolved: dict[Any, _Resolution] = {}
         self._unknown: dict[str, _Unknown] = {}

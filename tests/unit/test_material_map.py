@@ -418,3 +418,13 @@ def test_element_material_of_one_element():
         element_material(m.f, m.elements["C1"], scales)
     mat, _ = element_material(m.f, m.elements["C1"], scales, ReaderDefaults(E=30e9, poisson=0.2, density=2400.0))
     assert (mat.E, mat.G, mat.density, mat.source) == (30e9, pytest.approx(12.5e9), 2400.0, "default")
+
+
+def test_derive_takes_the_map_as_a_path_in_its_defaults(tmp_path):
+    from analysis.ifc.derive import derive_frame
+    from analysis.units import unit_scales
+
+    m = two_bays()
+    (tmp_path / "m.toml").write_text('[materials]\n"Solid" = "C30/37"\n"Radial*" = "S355"\n')
+    fr, _, _ = derive_frame(m.f, scales=unit_scales(m.f), defaults={"materials": str(tmp_path / "m.toml")})
+    assert fr.material_sources[member_of(fr, "C1")] == "user map"
