@@ -882,6 +882,8 @@ def _redundant_combinations(dofs, scale, rows, red_set, group_of) -> dict[int, l
         if r in group_of:
             by_group.setdefault(group_of[r], []).append(r)
     out: dict[int, list[tuple[int, float]]] = {}
+    # the elimination's own dependencies (rows: a redundant row less its combination of independent ones)
+    deps = {int(ridx[0]): Z for ridx, Z in dofs.consistency if len(ridx)}
     for gi, reds in by_group.items():
         ridx, cidx = dofs.groups[gi]
         M = dofs.C[ridx][:, cidx].toarray() * scale[cidx][None, :]
@@ -889,7 +891,13 @@ def _redundant_combinations(dofs, scale, rows, red_set, group_of) -> dict[int, l
         pos = np.array([int(np.flatnonzero(ridx == r)[0]) for r in reds], dtype=np.int64)
         if indep.size == 0:
             continue
-        A = np.linalg.lstsq(M[indep].T, M[pos].T, rcond=None)[0]  # (indep, reds)
+        Z = deps.get(int(ridx[0]))
+        all_red = np.setdiff1d(np.arange(len(ridx)), indep)
+        if Z is not None and Z.shape == (all_red.size, len(ridx)):
+            at = np.searchsorted(all_red, pos)
+            A = (-Z[at][:, indep] / Z[at, pos][:, None]).T  # (indep, reds)
+        else:  # pragma: no cover - the elimination always records them
+            A = np.linalg.lstsq(M[indep].T, M[pos].T, rcond=None)[0]
         base = np.linalg.norm(M[indep], axis=1)
         for q, (r, p) in enumerate(zip(reds, pos)):
             a = A[:, q]

@@ -669,11 +669,9 @@ def _eliminate(C: sp.csr_array, scale: np.ndarray, n_x: int, x_node: np.ndarray,
             M = Cs[ridx][:, cidx].toarray()
             groups.append((ridx, cidx))
             # independent rows in their given order (a row depending on earlier ones is redundant)
-            if np.linalg.matrix_rank(M, tol=RANK_TOL * max(np.abs(M).max(), 1e-300)) == M.shape[0]:
-                indep = list(range(M.shape[0]))
-            else:
-                indep = _independent_rows(M)
-            redundant += [int(ridx[k]) for k in range(len(ridx)) if k not in indep]
+            indep = _independent_rows(M)
+            indep_set = set(indep)
+            redundant += [int(ridx[k]) for k in range(len(ridx)) if k not in indep_set]
             Mi = M[indep]
             rk = len(indep)
             rank += rk
@@ -695,9 +693,7 @@ def _eliminate(C: sp.csr_array, scale: np.ndarray, n_x: int, x_node: np.ndarray,
             slave_rhs.append((sl, W, ridx[indep]))
             if len(indep) < len(ridx):
                 # combinations of the group's rows that vanish on x must vanish on the right side too
-                Z = scipy.linalg.null_space(M.T).T
-                if Z.size:
-                    consistency.append((ridx, Z))
+                consistency.append((ridx, _dependencies(M, indep, Q, R11, piv[:rk])))
     masters = np.flatnonzero(~is_slave)
     qcol = np.full(n_x, -1)
     qcol[masters] = np.arange(masters.size)
@@ -714,6 +710,21 @@ def _eliminate(C: sp.csr_array, scale: np.ndarray, n_x: int, x_node: np.ndarray,
     else:
         T, direct = T2, ()
     return T, rank, sorted(redundant), slave_rhs, consistency, groups, direct, slave_row
+
+
+def _dependencies(M: np.ndarray, indep: list[int], Q: np.ndarray, R11: np.ndarray, sl: np.ndarray) -> np.ndarray:
+    """(k, rows) unit rows z with z M = 0: each redundant row less its combination of the independent ones.
+
+    A redundant row m lies in the span of the independent rows Mi, m = aᵀ Mi;
+    on the slave columns Mi[:, sl] = Q R11 is square and regular, so
+    a = Q R11⁻ᵀ m[sl].
+    """
+    red = np.setdiff1d(np.arange(M.shape[0]), indep)
+    A = Q @ scipy.linalg.solve_triangular(R11, M[red][:, sl].T, trans="T")  # (rk, k)
+    Z = np.zeros((red.size, M.shape[0]))
+    Z[np.arange(red.size), red] = 1.0
+    Z[:, indep] = -A.T
+    return Z / np.linalg.norm(Z, axis=1)[:, None]
 
 
 def _slave_factor(Mi: np.ndarray, node: np.ndarray, comp: np.ndarray):
@@ -777,19 +788,36 @@ def _direct_map(C: sp.csr_array, rows1, slaves1, pivots1, n_x: int) -> sp.csr_ar
     return sp.coo_array((data, (rows, cols)), shape=(n_x, n_x)).tocsr()
 
 
-def _independent_rows(M: np.ndarray) -> list[int]:
-    """Rows of M independent of the rows before them (greedy, Gram-Schmidt twice)."""
-    basis: list[np.ndarray] = []
-    indep: list[int] = []
+def _independent_rows(M: np.ndarray, block: int = 64) -> list[int]:
+    """Rows of M independent of the rows before them (greedy Gram-Schmidt, each projection done twice).
+
+    A row is independent when what is left of it after taking out the span
+    of the independent rows before it is not small against the row (relative
+    ``RANK_TOL``) nor against the largest row. Rows are taken in blocks: the
+    basis found so far is projected out of a whole block at once (matrix
+    products), then the rows of the block are decided one by one.
+    """
+    r, nc = M.shape
     norms = np.linalg.norm(M, axis=1)
-    ref = max(float(norms.max()), 1e-300)
-    for k, row in enumerate(M):
-        v = row.copy()
-        for _ in range(2):
-            for b in basis:
-                v -= (b @ v) * b
-        nv = np.linalg.norm(v)
-        if nv > RANK_TOL * max(norms[k], ref * 1e-3) and nv > 1e-12 * ref:
-            basis.append(v / nv)
-            indep.append(k)
+    ref = max(float(norms.max()) if r else 0.0, 1e-300)
+    B = np.empty((min(r, nc), nc))  # orthonormal rows spanning the independent rows so far
+    nb = 0
+    indep: list[int] = []
+    for s0 in range(0, r, block):
+        V = M[s0:s0 + block].copy()
+        if nb:
+            for _ in range(2):
+                V -= (V @ B[:nb].T) @ B[:nb]
+        nb0 = nb
+        for t in range(V.shape[0]):
+            v = V[t]
+            if nb > nb0:
+                for _ in range(2):
+                    v = v - (B[nb0:nb] @ v) @ B[nb0:nb]
+            nv = float(np.linalg.norm(v))
+            k = s0 + t
+            if nv > RANK_TOL * max(float(norms[k]), ref * 1e-3) and nv > 1e-12 * ref and nb < B.shape[0]:
+                B[nb] = v / nv
+                nb += 1
+                indep.append(k)
     return indep
