@@ -15,7 +15,7 @@ A target that exists and is not a regular file (``/dev/null``, a terminal,
 a named pipe) is never replaced: the staged bytes are copied into it as a
 stream when the set is committed.
 
-Temporary names carry the process id (``.plumbframe-<pid>-XXXX<suffix>``), so
+Temporary names carry the process id and a host tag (``.plumbframe-<pid>@<host>-XXXX<suffix>``), so
 a later run can tell the leftovers of a killed run (`remove_stale_temporaries`)
 from the live temporaries of a run going on at the same time.
 """
@@ -42,7 +42,19 @@ __all__ = ["atomic_write", "atomic_text", "output_set", "OutputSet", "remove_sta
 _PREFIX = ".plumbframe-"
 _STALE_AGE = 60.0  # seconds: a leftover younger than this is never touched (another host may be writing it)
 _LEGACY_AGE = 24 * 3600.0  # names without a process id (older versions): removed when older than a day
-_NAME = re.compile(r"^\.plumbframe-(?:(\d+)-)?[A-Za-z0-9_]{6,}")
+_NAME = re.compile(r"^\.plumbframe-(?:(\d+)(?:@([0-9a-f]{6}))?-)?[A-Za-z0-9_]{6,}")
+
+
+def _host_tag() -> str:
+    import hashlib
+    import socket
+
+    return hashlib.sha1(socket.gethostname().encode("utf-8", "replace")).hexdigest()[:6]
+
+
+def _tmp_prefix() -> str:
+    """``.plumbframe-<pid>@<host>-``: a later run on this host can tell whether the writer still runs."""
+    return f"{_PREFIX}{os.getpid()}@{_host_tag()}-"
 
 
 def _public_mode(path: str) -> None:
@@ -177,7 +189,7 @@ def output_set() -> Iterator[OutputSet]:
 
 def _write_temporary(path: str, folder: str, write: Callable[[str], None], suffix: str) -> str:
     try:
-        fd, tmp = tempfile.mkstemp(dir=folder, prefix=f"{_PREFIX}{os.getpid()}-", suffix=suffix)
+        fd, tmp = tempfile.mkstemp(dir=folder, prefix=_tmp_prefix(), suffix=suffix)
     except OSError as exc:
         raise AnalysisError(f"{path}: cannot write in {folder} ({exc.strerror or exc})") from None
     os.close(fd)
@@ -204,7 +216,7 @@ def _backup(target: str) -> str | None:
         return None
     folder = os.path.dirname(os.path.abspath(target))
     for _ in range(5):
-        name = os.path.join(folder, f"{_PREFIX}{os.getpid()}-{os.urandom(4).hex()}.bak")
+        name = os.path.join(folder, f"{_tmp_prefix()}{os.urandom(4).hex()}.bak")
         try:
             os.link(target, name)
             return name
@@ -299,10 +311,13 @@ def _alive(pid: int) -> bool:
 def remove_stale_temporaries(folders, now: float | None = None) -> list[str]:
     """Remove temporaries of our own naming that a killed run left in ``folders``; returns their paths.
 
-    A file counts as stale when the process named in it no longer runs (and
-    it is older than a minute), or, for names without a process id, when it
-    is older than a day.
+    A file counts as stale when it was written on this host by a process
+    that no longer runs; when it was written by a process of this id without
+    a host tag (or on another host sharing the folder) once it is also older
+    than a minute (a day for another host); names without a process id when
+    older than a day.
     """
+    host = _host_tag()
     now = time.time() if now is None else now
     removed: list[str] = []
     for folder in dict.fromkeys(os.path.abspath(f) for f in folders):
@@ -323,7 +338,10 @@ def remove_stale_temporaries(folders, now: float | None = None) -> list[str]:
                 continue
             age = now - st.st_mtime
             pid = int(m.group(1)) if m.group(1) else None
-            if pid is not None:
+            tag = m.group(2)
+            if pid is not None and tag == host:
+                stale = pid != os.getpid() and not _alive(pid)
+            elif pid is not None and tag is None:
                 stale = age > _STALE_AGE and pid != os.getpid() and not _alive(pid)
             else:
                 stale = age > _LEGACY_AGE

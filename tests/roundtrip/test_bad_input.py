@@ -563,6 +563,11 @@ def test_stale_temporaries_of_a_killed_run_are_removed(capsys, tmp_path, portal_
     for p in stale:
         p.write_text("partial")
         os.utime(p, (time.time() - 3600, time.time() - 3600))
+    from analysis.fileio import _host_tag
+
+    fresh = tmp_path / f".plumbframe-{dead}@{_host_tag()}-qwerty12.json"  # this host, a dead writer: stale at once
+    fresh.write_text("{")
+    stale.append(fresh)
     other = tmp_path / ".plumbframe-notes.txt"  # not of our naming pattern with a dead pid: kept
     other.write_text("keep")
     live = tmp_path / f".plumbframe-{os.getpid()}-zzzzzzzz.json"  # a live run's temporary: kept
@@ -570,7 +575,7 @@ def test_stale_temporaries_of_a_killed_run_are_removed(capsys, tmp_path, portal_
     os.utime(live, (time.time() - 3600, time.time() - 3600))
     r = run(capsys, "analyze", src, "-o", tmp_path / "out.ifc")
     assert r.code == 0, r
-    assert "removed 2 temporary file(s) left by an interrupted earlier run" in r.err
+    assert "removed 3 temporary file(s) left by an interrupted earlier run" in r.err
     assert not any(p.exists() for p in stale) and other.exists() and live.exists()
 
 
