@@ -111,6 +111,9 @@ def mass_model(model: InteriorModel, mass_cases: tuple[tuple[str, float], ...] =
                     nodal_mass[j] += m * a / h
         sources.append(f"{name} x {factor:g}")
         amounts.append(float((mu * L).sum() + nodal_mass.sum()) - before)
+    if sum(amounts) <= 0.0:
+        raise ModelError("natural modes need mass: the members have no density and no load case was named "
+                         "to give mass (--mass CASE)")
     M_ext = model.assemble_ext(lambda rows: consistent_mass(L[rows], mu[rows], polar[rows], frame.truss[rows]))
     if nodal_mass.any():
         idx = (model.node_ext[:, None] + np.arange(3)).ravel()

@@ -86,7 +86,11 @@ def largest_generalized(A: sp.csr_array, K: sp.csr_array, solve, count: int) -> 
     # a wider Krylov basis than ARPACK's default restarts less (each step costs one solve);
     # tol 1e-10 on the Ritz residuals gives the eigenvalues to about 1e-14 relative (they converge quadratically)
     ncv = min(n - 1, max(2 * k + 1, 3 * k + 10, 20))
-    w, V = spla.eigsh(sp.csr_matrix(A), k=k, M=sp.csr_matrix(K), Minv=Minv, which="LA", ncv=ncv, tol=1e-10)
+    try:
+        w, V = spla.eigsh(sp.csr_matrix(A), k=k, M=sp.csr_matrix(K), Minv=Minv, which="LA", ncv=ncv, tol=1e-10)
+    except spla.ArpackNoConvergence as exc:  # keep what converged, say so
+        w, V = exc.eigenvalues, exc.eigenvectors
+        log.warning("the eigenvalue iteration converged for %d of the %d values asked for", len(w), k)
     order = np.argsort(-w)
     return w[order], V[:, order]
 

@@ -139,3 +139,11 @@ def test_frequencies_scale_with_root_E_and_inverse_root_rho(scale):
     f_r = analyze(beam("cantilever", material=heavy), AnalysisOptions(modes=3, plane=True)).modes
     assert_allclose([m.frequency for m in f_e], [m.frequency * math.sqrt(scale) for m in base], rtol=1e-8)
     assert_allclose([m.frequency for m in f_r], [m.frequency / math.sqrt(scale) for m in base], rtol=1e-8)
+
+
+def test_no_mass_is_a_clear_error():
+    from analysis import ModelError
+
+    frame = beam("cantilever", material=Material("massless", E=E, G=81e9, density=0.0))
+    with pytest.raises(ModelError, match="natural modes need mass"):
+        analyze(frame, AnalysisOptions(modes=2, plane=True))
