@@ -104,7 +104,10 @@ def _amplification(results, buckling) -> str:
     return ("<h3>Second-order amplification</h3><p>Every load case and combination was analysed to second order "
             "(P-Δ and P-δ, each combination as its own load set; axial forces iterated to convergence). The "
             "results elsewhere in this report are the second-order ones; here they stand beside first order. "
-            "1/(1 − 1/α_cr) is the simple amplification estimate from the lowest critical factor.</p>"
+            "1/(1 − 1/α_cr) is the simple amplification estimate from the lowest critical factor. The equilibrium "
+            "residuals of second-order results are those of the second-order equations (equilibrium in the "
+            "deflected geometry): in the undeflected geometry the loads and reactions differ by the P-Δ "
+            "moments, as they should.</p>"
             + _table(["Load set", "max |u| 1st [mm]", "max |u| 2nd [mm]", "ratio", "max |M| 1st [kN·m]",
                       "max |M| 2nd [kN·m]", "ratio", "1/(1 − 1/α_cr)"], rows))
 
