@@ -852,16 +852,19 @@ def _explain_redundant(frame: Frame, dofs) -> list[str]:
 
     scale = _column_scale(frame, dofs.node_dof, dofs.hinge_dof, dofs.n_x)
     C_r = dofs.C_r.tocsr()
+    C_r_t = C_r.T.tocsc()
     out = []
     explained = red[:MAX_EXPLAINED]
     combos = _redundant_combinations(dofs, scale, explained, red_set, group_of)
     for r in explained:
         row = dofs.rows[r]
         coeffs = combos.get(r, [])
-        resid = C_r[[r]].toarray().reshape(-1)
+        own = C_r_t[:, [r]].toarray().reshape(-1)
+        w = np.zeros(C_r.shape[0])
         for q, a in coeffs:
-            resid = resid - a * C_r[[q]].toarray().reshape(-1)
-        ref = max(float(np.abs(C_r[[r]].toarray()).max()), float(np.abs(resid).max()), 1e-300)
+            w[q] -= a
+        resid = own + C_r_t @ w  # the row less its combination, on the restrained components
+        ref = max(float(np.abs(own).max(initial=0.0)), float(np.abs(resid).max(initial=0.0)), 1e-300)
         supports = np.flatnonzero(np.abs(resid) > 1e-8 * ref)
         out.append(_sentence(frame, dofs, row, [dofs.rows[q] for q, _ in coeffs], supports))
     if len(red) > MAX_EXPLAINED:
