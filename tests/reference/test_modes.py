@@ -147,3 +147,14 @@ def test_no_mass_is_a_clear_error():
     frame = beam("cantilever", material=Material("massless", E=E, G=81e9, density=0.0))
     with pytest.raises(ModelError, match="natural modes need mass"):
         analyze(frame, AnalysisOptions(modes=2, plane=True))
+
+
+def test_a_mass_case_with_self_weight_does_not_count_the_members_twice():
+    frame = beam("cantilever")
+    with_sw = frame.replace(load_cases=(LoadCase("G", nodal=(NodalLoad("B", (0, 0, -2e3, 0, 0, 0)),),
+                                                 self_weight=(0, 0, -1)),))
+    res = analyze(with_sw, AnalysisOptions(modes=1, mass=(("G", 1.0),), plane=True))
+    assert res.mass.total == pytest.approx(RHO * A * L + 2e3 / G)
+    # a tip mass M on a cantilever of mass m: ω² ≈ 3EI / (L³ (M + 0.2357 m)) (Rayleigh, from memory)
+    M, m = 2e3 / G, RHO * A * L
+    assert res.modes[0].omega == pytest.approx(math.sqrt(3 * E * I / (L**3 * (M + 0.2357 * m))), rel=0.01)
