@@ -211,7 +211,12 @@ def build_parser() -> argparse.ArgumentParser:
     p.add_argument("-o", "--output", metavar="OUT.ifc", help="where the IFC with results goes "
                    "(default: MODEL.results.ifc beside the input)")
     p.add_argument("--json", metavar="RESULTS.json", help="also write the results as plumbframe.results/1 JSON")
-    p.add_argument("--report", metavar="REPORT.html", help="also write a self-contained HTML report")
+    p.add_argument("--report", metavar="REPORT.html", help="also write a self-contained HTML report "
+                   "(with the complete tables as CSV files beside it)")
+    p.add_argument("--stations", choices=("ends", "extremes", "all"), default="extremes",
+                   help="stations of the member diagrams written to the IFC: the member ends; the ends, the "
+                        "extremes of each internal force and deflection and both sides of concentrated loads "
+                        "(default); or every station (the JSON always has every station)")
     p.add_argument("--overwrite-input", action="store_true",
                    help="allow -o to name the input file itself (it is never overwritten otherwise)")
     _add_stability_options(p)
@@ -511,7 +516,17 @@ def _finite(obj: Any) -> Any:
 
 
 def _write_json(path: str, doc: dict) -> None:
-    _atomic_text(path, json.dumps(_finite(doc), indent=1, allow_nan=False) + "\n")
+    """The document as compact UTF-8 JSON (numpy arrays allowed; NaN/infinity -> null), atomically."""
+    from .fileio import atomic_write
+    from .jsonio import dumps
+
+    data = dumps(doc)
+
+    def write(tmp: str) -> None:
+        with open(tmp, "wb") as fh:
+            fh.write(data)
+
+    atomic_write(path, write, suffix=".json")
 
 
 def check_document(frame, ind: dict | None, options=None) -> dict:
@@ -786,11 +801,12 @@ def _analyze(args, con) -> int:
 
     with output_set() as staged:  # all outputs or none: each is staged, then all are moved into place
         con.progress("writing the IFC")
-        write_results(args.input, out, model, results, ind, overwrite=args.overwrite_input, progress=con.progress)
+        write_results(args.input, out, model, results, ind, overwrite=args.overwrite_input, progress=con.progress,
+                      stations=getattr(args, "stations", "extremes"))
         outputs.append(("IFC", out))
         if args.json:
             con.progress("writing JSON")
-            _write_json(args.json, results.to_dict(indeterminacy=d))
+            _write_json(args.json, results.to_dict(indeterminacy=d, arrays=True))
             outputs.append(("JSON", args.json))
         if args.report:
             from .report import write_report

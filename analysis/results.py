@@ -177,16 +177,55 @@ class Results:
     # ------------------------------------------------------------------ envelopes
     def envelopes(self) -> dict[str, dict[str, list[float]]]:
         """Per member and action: [min, max] over all cases and combinations."""
-        out: dict[str, dict[str, list[float]]] = {}
-        for k, mid in enumerate(self.frame.member_ids):
-            lo = np.full(6, np.inf)
-            hi = np.full(6, -np.inf)
-            for name in self.cases:
-                F = self.diagram(name, k).forces
-                lo = np.minimum(lo, F.min(axis=0))
-                hi = np.maximum(hi, F.max(axis=0))
-            out[mid] = {a: [float(lo[i]), float(hi[i])] for i, a in enumerate(ACTION_NAMES)} if self.cases else {}
-        return out
+        if not self.cases:
+            return {mid: {} for mid in self.frame.member_ids}
+        ranges = [self.force_ranges(name) for name in self.cases]
+        lo = np.minimum.reduce([r[0] for r in ranges]).tolist()
+        hi = np.maximum.reduce([r[1] for r in ranges]).tolist()
+        return {mid: {a: [lo[k][i], hi[k][i]] for i, a in enumerate(ACTION_NAMES)}
+                for k, mid in enumerate(self.frame.member_ids)}
+
+    def force_ranges(self, case: str) -> tuple[np.ndarray, np.ndarray]:
+        """Smallest and largest N, Vy, Vz, T, My, Mz of every member over its stations: two (m,6) arrays (cached)."""
+        key = ("ranges", case)
+        hit = self._diagram_cache.get(key)
+        if hit is None:
+            m = self.frame.n_members
+            if m == 0:
+                return np.zeros((0, 6)), np.zeros((0, 6))
+            diagrams = [self.diagram(case, k) for k in range(m)]
+            F = np.concatenate([dg.forces for dg in diagrams])
+            starts = np.concatenate([[0], np.cumsum([len(dg.stations) for dg in diagrams])[:-1]])
+            hit = (np.minimum.reduceat(F, starts, axis=0), np.maximum.reduceat(F, starts, axis=0))
+            self._diagram_cache[key] = hit
+        return hit
+
+    def axis_deflections(self, case: str) -> tuple[np.ndarray, np.ndarray]:
+        """Per member (m,): the largest distance of its deflected axis from the chord between its displaced
+        ends, and the largest deflection (both from dy, dz at the stations; cached)."""
+        key = ("deflections", case)
+        hit = self._diagram_cache.get(key)
+        if hit is None:
+            m = self.frame.n_members
+            if m == 0:
+                return np.zeros(0), np.zeros(0)
+            diagrams = [self.diagram(case, k) for k in range(m)]
+            sizes = np.array([len(dg.stations) for dg in diagrams])
+            starts = np.concatenate([[0], np.cumsum(sizes)[:-1]])
+            owner = np.repeat(np.arange(m), sizes)
+            S = np.concatenate([dg.stations for dg in diagrams])
+            D = np.concatenate([dg.deflections for dg in diagrams])
+            L = np.asarray(self.L, float)
+            ok = L > 0
+            with np.errstate(divide="ignore", invalid="ignore"):
+                t = S / L[owner]
+            first, last = D[starts], D[starts + sizes - 1]
+            chord = first[owner] * (1 - t)[:, None] + last[owner] * t[:, None]
+            rel = np.maximum.reduceat(np.linalg.norm(D - chord, axis=1), starts)
+            total = np.maximum.reduceat(np.linalg.norm(D, axis=1), starts)
+            hit = (np.where(ok, rel, 0.0), np.where(ok, total, 0.0))
+            self._diagram_cache[key] = hit
+        return hit
 
     # ------------------------------------------------------------------ checks
     def check_equilibrium(self) -> None:
@@ -229,8 +268,12 @@ class Results:
             cr.equilibrium_residual = float(np.abs(resid).max() / scale) if scale > 0 else 0.0
 
     # ------------------------------------------------------------------ export
-    def to_dict(self, indeterminacy: dict | None = None, include_cases: bool = True) -> dict:
-        """The ``plumbframe.results/1`` document (see ARCHITECTURE.md)."""
+    def to_dict(self, indeterminacy: dict | None = None, include_cases: bool = True, arrays: bool = False) -> dict:
+        """The ``plumbframe.results/1`` document (see ARCHITECTURE.md).
+
+        ``arrays=True`` leaves the member stations and values as numpy arrays
+        (for a JSON writer that serialises them directly, `analysis.jsonio`).
+        """
         frame = self.frame
         comps = self._reported_components()
         doc: dict = {
@@ -247,7 +290,7 @@ class Results:
         if indeterminacy is not None:
             doc["indeterminacy"] = indeterminacy
         if include_cases:
-            doc["cases"] = {name: self._case_dict(cr, comps) for name, cr in self.cases.items()}
+            doc["cases"] = {name: self._case_dict(cr, comps, arrays) for name, cr in self.cases.items()}
             doc["envelopes"] = self.envelopes()
         from .stiffness.extended_json import extended_keys
         doc.update(extended_keys(self))
@@ -256,18 +299,20 @@ class Results:
     def _reported_components(self) -> list[int]:
         return sorted(self.dofs.active)
 
-    def _case_dict(self, cr: CaseResult, comps: list[int]) -> dict:
+    def _case_dict(self, cr: CaseResult, comps: list[int], arrays: bool = False) -> dict:
         frame = self.frame
         supported = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
-        members = {}
+        members: dict = {}
+        keys = ("stations", *ACTION_NAMES, "dy", "dz")
         for k, mid in enumerate(frame.member_ids):
             dg = self.diagram(cr.name, k)
-            entry = {"stations": [float(s) for s in dg.stations]}
-            for a in ACTION_NAMES:
-                entry[a] = [float(v) for v in dg[a]]
-            entry["dy"] = [float(v) for v in dg["dy"]]
-            entry["dz"] = [float(v) for v in dg["dz"]]
-            members[mid] = entry
+            # one (9, s) block per member: stations, six forces, two deflections; its rows are the entries
+            block = np.empty((9, len(dg.stations)))
+            block[0] = dg.stations
+            block[1:7] = dg.forces.T
+            block[7:] = dg.deflections.T
+            columns = block if arrays else block.tolist()
+            members[mid] = dict(zip(keys, columns))
         return {
             "kind": cr.kind,
             "displacements": {nid: {DOF_NAMES[c]: float(cr.displacements[i, c]) for c in comps}

@@ -36,6 +36,72 @@ def ipe300():
     return Section("IPE 300", A=53.8e-4, Iy=8356e-8, Iz=603.8e-8, J=20.1e-8, Avy=32.3e-4, Avz=25.7e-4)
 
 
+# --------------------------------------------------------------------------- IFC validation of written files
+@pytest.fixture(scope="session")
+def assert_valid_ifc():
+    """A function that checks a written IFC file with ``ifcopenshell.validate``: schema and where-rules.
+
+    ifcopenshell's rule executor parses, rewrites and compiles the schema's
+    rules on every call (about 8 s); here the compiled rules are kept per
+    schema for the session, so a check costs the checking only.
+    """
+    import ast
+
+    import ifcopenshell
+    import ifcopenshell.validate
+    from ifcopenshell.express import rule_executor as rx
+
+    codes: dict[str, object] = {}
+    saved = (rx.__dict__.get("ast"), rx.__dict__.get("compile"))
+
+    class _CachedAst:
+        def __getattr__(self, name):
+            return getattr(ast, name)
+
+        def parse(self, source, *args, **kw):
+            return ast.parse("") if source in codes else ast.parse(source, *args, **kw)
+
+    current: list[str] = []
+
+    def _compile(tree, filename, mode, *args, **kw):
+        key = current[-1]
+        if key not in codes:
+            codes[key] = compile(tree, filename, mode, *args, **kw)
+        return codes[key]
+
+    real_read = rx.__dict__.get("open")
+    rx.ast = _CachedAst()
+    rx.compile = _compile
+
+    def _open(fn, *args, **kw):
+        fh = open(fn, *args, **kw)
+        if str(fn).endswith(".py"):
+            source = fh.read()
+            fh.close()
+            current.append(source)
+            import io
+
+            return io.StringIO(source)
+        return fh
+
+    rx.open = _open
+
+    def check(path) -> None:
+        f = path if isinstance(path, ifcopenshell.file) else ifcopenshell.open(str(path))
+        logger = ifcopenshell.validate.json_logger()
+        ifcopenshell.validate.validate(f, logger, express_rules=True)
+        problems = [s for s in logger.statements if s.get("level") in ("error", "warning")]
+        assert not problems, f"{path}: {len(problems)} validation problem(s), first: " + \
+            "; ".join(str(p.get("message"))[:600] for p in problems[:3])
+
+    yield check
+    for name, value in zip(("ast", "compile", "open"), (*saved, real_read)):
+        if value is None:
+            rx.__dict__.pop(name, None)
+        else:
+            setattr(rx, name, value)
+
+
 # --------------------------------------------------------------------------- the count joint by joint
 def assert_joint_count_adds_up(result) -> None:
     """The by-joint rows of an `Indeterminacy` add up to its terms and to the kinematic count.

@@ -19,7 +19,9 @@ What is written (everything tagged so that a later run can find and replace it):
   whose ``IfcStructuralLoadConfiguration`` holds the internal forces
   N, Vy, Vz, T, My, Mz as ForceX, ForceY, ForceZ, MomentX, MomentY, MomentZ
   of one ``IfcStructuralLoadSingleForce`` per station (``Locations``: the
-  distance from the member's start), and a second one with the deflections
+  distance from the member's start; which stations: `analysis.stations`,
+  by default the ends, the extremes and both sides of concentrated loads),
+  and a second one with the deflections
   dy, dz of the member axis (``IfcStructuralLoadSingleDisplacement``). IFC2X3
   has neither entity: there the member forces go to property sets only;
 * where the input had no structural analysis model (route 'physical'), the
@@ -33,8 +35,13 @@ What is written (everything tagged so that a later run can find and replace it):
   ``PF_AnalysisSummary`` (the analysis model; also the IfcProject on route
   'physical').
 
-Entities are created with ``create_entity`` (``ifcopenshell.api`` calls are
-much slower per entity).
+The few entities that existing ones refer to (result groups, the derived
+model) are created with ``create_entity``; the bulk (reactions, loads,
+relationships, property sets: hundreds of thousands on a building) is
+formatted as STEP lines numbered after the file's highest id and appended to
+the DATA section ifcopenshell writes (`analysis.ifc.step`), which costs a
+fraction of creating them one by one. Numbers carry
+`analysis.ifc.step.SIGNIFICANT_DIGITS` significant digits.
 """
 from __future__ import annotations
 
@@ -130,7 +137,7 @@ def idealisation_text(results) -> str:
 
 # --------------------------------------------------------------------------- entry point
 def write_results(source_path, out_path, model, results, indeterminacy=None, *, overwrite: bool = False,
-                  date: _dt.datetime | None = None, progress=None) -> WriteSummary:
+                  date: _dt.datetime | None = None, progress=None, stations: str = "extremes") -> WriteSummary:
     """Write ``results`` into a copy of ``source_path`` at ``out_path``.
 
     Parameters
@@ -143,6 +150,8 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
     overwrite : allow ``out_path`` to be the source file itself.
     date : the analysis date written to the property sets (default: now, UTC).
     progress : optional callable(step: str).
+    stations : the stations of the curve reactions: 'ends', 'extremes' (default) or 'all'
+        (see `analysis.stations`); the property sets and the JSON always use every station.
 
     Returns
     -------
@@ -156,6 +165,10 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
         The source cannot be opened, or an entity the frame refers to is missing.
     """
     say = progress or (lambda step: None)
+    from ..stations import STATION_SETS
+
+    if stations not in STATION_SETS:
+        raise ValueError(f"stations must be one of {', '.join(STATION_SETS)}, got {stations!r}")
     source_path, out_path = os.fspath(source_path), os.fspath(out_path)
     if not os.path.isfile(source_path):
         raise AnalysisError(f"{source_path}: no such file")
@@ -177,13 +190,14 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
     read_stamp = getattr(model, "source_stamp", None)
     if read_stamp is not None:  # the file may have been saved again since it was read and analysed
         verify_unchanged(source_path, read_stamp, source.stamp)
-    w = _Writer(f, model, results, indeterminacy, date or _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0))
+    w = _Writer(f, model, results, indeterminacy, date or _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0),
+                stations=stations, say=say)
     say("removing earlier results")
     w.removed = remove_earlier_results(f, keep_derived=getattr(model, "route", "structural") == "structural")
     say("writing results")
     w.run()
-    say("saving")
-    _atomic_write(f, out_path)
+    say(f"writing IFC: saving {len(w.out):,} new entities")
+    _atomic_write(f, out_path, w.out.lines)
     return w.summary(out_path)
 
 
@@ -196,11 +210,33 @@ def _same_file(a: str, b: str) -> bool:
     return os.path.abspath(a) == os.path.abspath(b)
 
 
-def _atomic_write(f, out_path: str) -> None:
+def _atomic_write(f, out_path: str, lines: list[str]) -> None:
+    """Write ``f`` with the bulk ``lines`` appended to its DATA section, atomically.
+
+    The lines are STEP text, so they are appended to a STEP file; another
+    format (``.ifczip``, ``.ifcxml``) is written from that file by ifcopenshell.
+    """
     suffix = os.path.splitext(out_path)[1] or ".ifc"
     from ..fileio import atomic_write
+    from .step import append_data
 
-    atomic_write(out_path, f.write, suffix=suffix)
+    def write(tmp: str) -> None:
+        if suffix.lower() == ".ifc":
+            f.write(tmp)
+            append_data(tmp, lines)
+            return
+        import ifcopenshell
+
+        step = tmp + ".step.ifc"
+        try:
+            f.write(step)
+            append_data(step, lines)
+            ifcopenshell.open(step).write(tmp)
+        finally:
+            if os.path.exists(step):
+                os.remove(step)
+
+    atomic_write(out_path, write, suffix=suffix)
 
 
 # --------------------------------------------------------------------------- removal of earlier runs
@@ -305,7 +341,8 @@ class _Target:
 
 
 class _Writer:
-    def __init__(self, f, model, results, indeterminacy, date: _dt.datetime):
+    def __init__(self, f, model, results, indeterminacy, date: _dt.datetime, stations: str = "extremes",
+                 say=None):
         from ..units import unit_scales
 
         self.f = f
@@ -322,7 +359,9 @@ class _Writer:
         self.notes: list[str] = []
         self.owner = self._owner_history()
         self.counts: defaultdict[str, int] = defaultdict(int)
-        self._properties: dict[tuple[str, str, Any], Any] = {}  # shared IfcPropertySingleValue by content
+        self._properties: dict[tuple[str, str], int] = {}  # shared IfcPropertySingleValue by content
+        self.stations = stations
+        self.say = say or (lambda step: None)
         self.derived = False
         self._by_guid: dict[str, Any] = {}
 
@@ -394,11 +433,15 @@ class _Writer:
             self.derived = True
             self.physical = self._physical_targets()
         self.load_groups = self._load_groups()
-        self._write_result_groups()
+        groups = self._result_groups()
+        self._start_bulk()  # nothing is created through ifcopenshell after this
+        self._write_results(groups)
+        self.say(f"writing IFC: property sets, {len(self.out):,} entities")
         self._write_member_psets()
         self._write_support_psets()
         self._write_summary_pset()
         self._write_stability_pset()
+        self._flush_psets()
 
     def summary(self, path: str) -> WriteSummary:
         return WriteSummary(path=path, schema=self.schema, route=self.route,
@@ -466,13 +509,21 @@ class _Writer:
 
     def _derive_model(self):
         f, frame = self.f, self.frame
-        placement = f.create_entity("IfcLocalPlacement", RelativePlacement=f.create_entity(
-            "IfcAxis2Placement3D", Location=f.create_entity("IfcCartesianPoint", Coordinates=[0.0, 0.0, 0.0])))
+        origin = f.create_entity("IfcAxis2Placement3D",
+                                 Location=f.create_entity("IfcCartesianPoint", Coordinates=[0.0, 0.0, 0.0]))
+        shared = None if self.ifc2x3 else f.create_entity("IfcLocalPlacement", RelativePlacement=origin)
+
+        def placement():
+            # IFC2X3: an IfcObjectPlacement places exactly one product (PlacesObject [1:1]); IFC4 shares one
+            if self.ifc2x3:
+                return f.create_entity("IfcLocalPlacement", RelativePlacement=origin)
+            return shared
+
         ctx = self._context()
         attrs = dict(Name=(frame.name or "plumbframe") + " (analytical, derived)", Description=DERIVED_TAG,
                      PredefinedType="LOADING_3D")
         if not self.ifc2x3:
-            attrs["SharedPlacement"] = placement
+            attrs["SharedPlacement"] = shared
         amodel = self._root("IfcStructuralAnalysisModel", **attrs)
         vertices = []
         self.node_items = []
@@ -484,7 +535,7 @@ class _Writer:
                 RepresentationType="Vertex", Items=[vp])])
             cond = self._node_condition(i)
             self.node_items.append(self._root("IfcStructuralPointConnection", Name=nid, Description=TAG,
-                                              ObjectPlacement=placement, Representation=rep, AppliedCondition=cond))
+                                              ObjectPlacement=placement(), Representation=rep, AppliedCondition=cond))
         R = self.results.R
         self.member_items = []
         for k, mid in enumerate(frame.member_ids):
@@ -493,7 +544,7 @@ class _Writer:
             rep = f.create_entity("IfcProductDefinitionShape", Representations=[f.create_entity(
                 "IfcTopologyRepresentation", ContextOfItems=ctx, RepresentationIdentifier="Reference",
                 RepresentationType="Edge", Items=[edge])])
-            attrs = dict(Name=mid, Description=TAG, ObjectPlacement=placement, Representation=rep,
+            attrs = dict(Name=mid, Description=TAG, ObjectPlacement=placement(), Representation=rep,
                          PredefinedType="PIN_JOINED_MEMBER" if frame.truss[k] else "RIGID_JOINED_MEMBER")
             if not self.ifc2x3:
                 attrs["Axis"] = self._direction(R[k][2])
@@ -579,73 +630,202 @@ class _Writer:
         return groups
 
     # -- result groups ----------------------------------------------------------
-    def _write_result_groups(self) -> None:
-        f, frame, res = self.f, self.frame, self.results
-        active = self._active()
-        supported = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
+    def _result_groups(self) -> list:
+        """One IfcStructuralResultGroup per case and combination (created in the file itself: HasResults)."""
+        second = getattr(self.results, "theory", "") == "second-order"
+        theory, linear = ("SECOND_ORDER_THEORY", False) if second else ("FIRST_ORDER_THEORY", True)
         groups = []
+        used: set[int] = set()
+        for name in self.results.cases:
+            lg = self.load_groups.get(name)
+            if lg is not None:
+                taken = [g for g in (getattr(lg, "SourceOfResultGroup", None) or ()) if g.Description != TAG]
+                if lg.id() in used or taken:  # ResultGroupFor is 0..1: never a second result group on one load group
+                    self.notes.append(f"{name}: the load group {lg.is_a()} #{lg.id()} already has a result group; "
+                                      "the results are not linked to it (ResultForLoadGroup left empty)")
+                    lg = None
+                else:
+                    used.add(lg.id())
+            groups.append(self._root("IfcStructuralResultGroup", Name=name, Description=TAG,
+                                     TheoryType=theory, ResultForLoadGroup=lg, IsLinear=linear))
+            self.counts["groups"] += 1
+        existing = [g for g in (self.analysis_model.HasResults or ())]
+        self.analysis_model.HasResults = existing + groups if (existing or groups) else None
+        return groups
+
+    def _start_bulk(self) -> None:
+        """From here on entities are STEP lines numbered after the file's highest id (see `analysis.ifc.step`)."""
+        from .step import EntityTemplates, StepLines
+
+        self.tpl = EntityTemplates(getattr(self.f, "schema_identifier", None) or self.schema)
+        self.out = StepLines(int(self.f.get_max_id()) + 1)
+        self._guid_pool: list[str] = []
+        self._owner_ref = f"#{self.owner.id()}" if self.owner is not None else "$"
+        self._formats: dict[tuple[str, tuple[str, ...]], str] = {}
+        self._pending: list[tuple[str, list, list[tuple[str, str, Any]]]] = []
+        self._stats: dict[str, tuple[list, list, list, list]] | None = None
+        self._lengths: list[float] = []
+
+    def _fmt(self, ifc_class: str, names: tuple[str, ...]) -> str:
+        """A format string ``IFCCLASS(...)`` with ``{name}`` fields for ``names``, ``$`` for the rest."""
+        key = (ifc_class, names)
+        fmt = self._formats.get(key)
+        if fmt is None:
+            upper, attrs, derived = self.tpl.attributes(ifc_class)
+            missing = set(names) - set(attrs)
+            if missing:
+                raise ValueError(f"{ifc_class} has no attribute {sorted(missing)[0]!r} in {self.schema}")
+            parts = ["{%s}" % a if a in names else ("*" if d else "$") for a, d in zip(attrs, derived)]
+            fmt = self._formats[key] = f"{upper}({','.join(parts)})"
+        return fmt
+
+    def _new_guid(self) -> str:
+        if not self._guid_pool:
+            from .step import new_guids
+
+            self._guid_pool = new_guids(8192)
+        return self._guid_pool.pop()
+
+    def _add_root(self, ifc_class: str, **values: str) -> int:
+        """A rooted entity as a STEP line (values already formatted); returns its id."""
+        fmt = self._fmt(ifc_class, ("GlobalId", "OwnerHistory", *values))
+        return self.out.add(fmt.format(GlobalId=f"'{self._new_guid()}'", OwnerHistory=self._owner_ref, **values))
+
+    def _write_results(self, groups) -> None:
+        from .step import reals, string
+
+        frame, res = self.frame, self.results
+        active = set(self._active())
+        supported = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
         curve_ok = not self.ifc2x3
         if not curve_ok:
             self.notes.append("IFC2X3 has no curve reactions: member internal forces are written to the "
                               "PF_MemberForces property sets only")
         chains = self._member_chains() if curve_ok else {}
-        second = getattr(res, "theory", "") == "second-order"
-        theory, linear = ("SECOND_ORDER_THEORY", False) if second else ("FIRST_ORDER_THEORY", True)
-        for name, cr in res.cases.items():
-            group = self._root("IfcStructuralResultGroup", Name=name, Description=TAG,
-                               TheoryType=theory, ResultForLoadGroup=self.load_groups.get(name),
-                               IsLinear=linear)
-            groups.append(group)
-            self.counts["groups"] += 1
-            reactions = []
-            for i in supported.tolist():
-                item = self.node_items[i]
-                if item is None:
+        u = self.units
+        f_scale = np.array([u.force] * 3 + [u.moment] * 3)
+        d_scale = np.array([u.length] * 3 + [u.angle] * 3)
+        force_fmt = self._line("IfcStructuralLoadSingleForce", ("Name", "ForceX", "ForceY", "ForceZ", "MomentX",
+                                                                 "MomentY", "MomentZ"))
+        disp_fmt = self._line("IfcStructuralLoadSingleDisplacement", (
+            "Name", "DisplacementX", "DisplacementY", "DisplacementZ", "RotationalDisplacementRX",
+            "RotationalDisplacementRY", "RotationalDisplacementRZ"))
+        nodes = [i for i, e in enumerate(self.node_items) if e is not None]
+        with_item = np.zeros(frame.n_nodes, bool)
+        with_item[nodes] = True
+        sup = [int(i) for i in supported if with_item[i]]
+        item_refs = [f"#{e.id()}" if e is not None else "$" for e in self.node_items]
+        inactive = [c for c in range(6) if c not in active]
+        tag = string(TAG)
+        out = self.out
+        for group, (name, cr) in zip(groups, res.cases.items()):
+            self.say(f"writing IFC: {name}: reactions and displacements of {len(nodes):,} nodes")
+            reactions: list[int] = []
+            for what, rows, values, scale, fmt in (("reaction", sup, cr.reactions, f_scale, force_fmt),
+                                                   ("displacement", nodes, cr.displacements, d_scale, disp_fmt)):
+                if not rows:
                     continue
-                load = f.create_entity("IfcStructuralLoadSingleForce", Name=f"{name}: reaction",
-                                       **self._six(cr.reactions[i], active, ("ForceX", "ForceY", "ForceZ",
-                                                                             "MomentX", "MomentY", "MomentZ"),
-                                                   force=True))
-                reactions.append(self._reaction("IfcStructuralPointReaction", f"{frame.node_ids[i]} reaction",
-                                                load, "GLOBAL_COORDS", item))
-            for i in range(frame.n_nodes):
-                item = self.node_items[i]
-                if item is None:
-                    continue
-                load = f.create_entity("IfcStructuralLoadSingleDisplacement", Name=f"{name}: displacement",
-                                       **self._six(cr.displacements[i], active,
-                                                   ("DisplacementX", "DisplacementY", "DisplacementZ",
-                                                    "RotationalDisplacementRX", "RotationalDisplacementRY",
-                                                    "RotationalDisplacementRZ"), force=False))
-                reactions.append(self._reaction("IfcStructuralPointReaction", f"{frame.node_ids[i]} displacement",
-                                                load, "GLOBAL_COORDS", item))
+                V = values[rows] / scale
+                V[:, inactive] = np.nan  # '$': not a component of this analysis
+                tok = reals(V)
+                first = out.block(len(rows))
+                load_name = string(f"{name}: {what}")
+                out.extend([f"#{first + n}={fmt % (load_name, *tok[6 * n:6 * n + 6])};\n" for n in range(len(rows))])
+                names = [string(f"{frame.node_ids[i]} {what}") for i in rows]
+                reactions += self._activities("IfcStructuralPointReaction", names, list(range(first, first + len(rows))),
+                                              ".GLOBAL_COORDS.", [item_refs[i] for i in rows], tag)
             self.counts["point"] += len(reactions)
-            for item, segments in chains.items():
-                reactions += self._curve_reactions(name, item, segments)
+            if chains:
+                reactions += self._curve_results(name, chains, tag)
             if reactions:
-                self._root("IfcRelAssignsToGroup", RelatedObjects=reactions, RelatingGroup=group)
-        missing = sum(1 for e in self.node_items if e is None)
+                self._add_root("IfcRelAssignsToGroup", RelatedObjects="(" + ",".join(f"#{r}" for r in reactions) + ")",
+                               RelatingGroup=f"#{group.id()}")
+        missing = frame.n_nodes - len(nodes)
         if missing:
             self.notes.append(f"{missing} node(s) have no IfcStructuralPointConnection in the file: "
                               "their displacements and reactions are in the results JSON only")
-        existing = [g for g in (self.analysis_model.HasResults or ())]
-        self.analysis_model.HasResults = existing + groups if (existing or groups) else None
 
-    def _six(self, values, active, names, force: bool) -> dict:
-        out = {}
-        for c, n in enumerate(names):
-            if c not in active:
-                continue
-            if force:
-                out[n] = self._force(values[c]) if c < 3 else self._moment(values[c])
-            else:
-                out[n] = self._length(values[c]) if c < 3 else self._angle(values[c])
-        return out
+    def _line(self, ifc_class: str, names: tuple[str, ...]) -> str:
+        """A %-format ``IFCCLASS(...)`` taking ``names`` in the order given (the schema's order of them)."""
+        upper, attrs, derived = self.tpl.attributes(ifc_class)
+        order = [a for a in attrs if a in names]
+        if tuple(order) != tuple(names):
+            raise ValueError(f"{ifc_class}: give {names} in the schema's order {tuple(order)}")
+        parts = ["%s" if a in names else ("*" if d else "$") for a, d in zip(attrs, derived)]
+        return f"{upper}({','.join(parts)})"
 
-    def _reaction(self, ifc_class, name, load, coords, item, **extra):
-        r = self._root(ifc_class, Name=name, Description=TAG, AppliedLoad=load, GlobalOrLocal=coords, **extra)
-        self._root("IfcRelConnectsStructuralActivity", RelatingElement=item, RelatedStructuralActivity=r)
-        return r
+    def _activities(self, ifc_class: str, names: list[str], loads: list[int], coords: str, items: list[str],
+                    tag: str, predefined: str | None = None) -> list[int]:
+        """Reactions (one per load) with their IfcRelConnectsStructuralActivity to ``items``; returns their ids."""
+        from .step import new_guids
+
+        n = len(loads)
+        keys = ("GlobalId", "OwnerHistory", "Name", "Description", "AppliedLoad", "GlobalOrLocal") + \
+            (("PredefinedType",) if predefined else ())
+        fmt = self._line(ifc_class, keys)
+        rel = self._line("IfcRelConnectsStructuralActivity", ("GlobalId", "OwnerHistory", "RelatingElement",
+                                                               "RelatedStructuralActivity"))
+        guids = new_guids(2 * n)
+        first = self.out.block(2 * n)
+        owner = self._owner_ref
+        extra = (predefined,) if predefined else ()
+        lines = [f"#{first + 2 * j}={fmt % (repr_guid(guids[2 * j]), owner, names[j], tag, f'#{loads[j]}', coords, *extra)};\n"
+                 f"#{first + 2 * j + 1}={rel % (repr_guid(guids[2 * j + 1]), owner, items[j], f'#{first + 2 * j}')};\n"
+                 for j in range(n)]
+        self.out.extend(lines)
+        return list(range(first, first + 2 * n, 2))
+
+    def _curve_results(self, case: str, chains: dict, tag: str) -> list[int]:
+        """Internal forces and deflections of every IFC curve member at the chosen stations (`analysis.stations`)."""
+        from ..stations import select_stations
+        from .step import reals, string
+
+        res, u, out = self.results, self.units, self.out
+        S, F, D, counts = [], [], [], []
+        for n, (item, segments) in enumerate(chains.items()):
+            if n % 4000 == 0:
+                self.say(f"writing IFC: {case}: member diagrams, {n:,} of {len(chains):,} members")
+            c = 0
+            for k, offset in segments:
+                dg = res.diagram(case, k)
+                idx = select_stations(dg.stations, dg.forces, dg.deflections, self.stations)
+                S.append(offset + dg.stations[idx])
+                F.append(dg.forces[idx])
+                D.append(dg.deflections[idx])
+                c += idx.size
+            counts.append(c)
+        total = int(sum(counts))
+        fs = np.array([u.force] * 3 + [u.moment] * 3)
+        tok_s = reals(np.concatenate(S) / u.length)
+        tok_f = reals(np.concatenate(F) / fs)
+        tok_d = reals(np.concatenate(D) / u.length)
+        force_fmt = self._line("IfcStructuralLoadSingleForce", ("ForceX", "ForceY", "ForceZ", "MomentX", "MomentY",
+                                                                 "MomentZ"))
+        defl_fmt = self._line("IfcStructuralLoadSingleDisplacement", ("DisplacementY", "DisplacementZ"))
+        f0 = out.block(total)
+        out.extend([f"#{f0 + j}={force_fmt % tuple(tok_f[6 * j:6 * j + 6])};\n" for j in range(total)])
+        d0 = out.block(total)
+        out.extend([f"#{d0 + j}={defl_fmt % (tok_d[2 * j], tok_d[2 * j + 1])};\n" for j in range(total)])
+        config_fmt = self._line("IfcStructuralLoadConfiguration", ("Name", "Values", "Locations"))
+        names = {what: string(f"{case}: {what}") for what in ("internal forces", "deflections")}
+        n_items = len(counts)
+        c0 = out.block(2 * n_items)
+        lines, starts = [], np.concatenate([[0], np.cumsum(counts)]).tolist()
+        items, labels = [], []
+        for j, (item, segments) in enumerate(chains.items()):
+            a, b = starts[j], starts[j + 1]
+            where = "(" + ",".join(f"({t})" for t in tok_s[a:b]) + ")"
+            label = item.Name or self.frame.member_ids[segments[0][0]]
+            for w, (what, base) in enumerate((("internal forces", f0), ("deflections", d0))):
+                values = "(" + ",".join(f"#{base + x}" for x in range(a, b)) + ")"
+                lines.append(f"#{c0 + 2 * j + w}={config_fmt % (names[what], values, where)};\n")
+                labels.append(string(f"{label} {what}"))
+                items.append(f"#{item.id()}")
+        out.extend(lines)
+        result = self._activities("IfcStructuralCurveReaction", labels, list(range(c0, c0 + 2 * n_items)),
+                                  ".LOCAL_COORDS.", items, tag, predefined=".DISCRETE.")
+        self.counts["curve"] += len(result)
+        return result
 
     def _member_chains(self) -> dict[Any, list[tuple[int, float]]]:
         """Per IFC curve member: its frame members with their start distance along it (m)."""
@@ -681,54 +861,75 @@ class _Writer:
             out[items[iid]] = chain
         return out
 
-    def _curve_reactions(self, case: str, item, segments) -> list:
-        f, res = self.f, self.results
-        locations, forces, defl = [], [], []
-        for k, offset in segments:
-            dg = res.diagram(case, k)
-            for s, F, d in zip(dg.stations, dg.forces, dg.deflections):
-                locations.append([self._length(offset + s)])
-                forces.append(f.create_entity(
-                    "IfcStructuralLoadSingleForce", ForceX=self._force(F[0]), ForceY=self._force(F[1]),
-                    ForceZ=self._force(F[2]), MomentX=self._moment(F[3]), MomentY=self._moment(F[4]),
-                    MomentZ=self._moment(F[5])))
-                defl.append(f.create_entity("IfcStructuralLoadSingleDisplacement", DisplacementY=self._length(d[0]),
-                                            DisplacementZ=self._length(d[1])))
-        name = item.Name or self.frame.member_ids[segments[0][0]]
-        out = []
-        for what, values in (("internal forces", forces), ("deflections", defl)):
-            config = f.create_entity("IfcStructuralLoadConfiguration", Name=f"{case}: {what}", Values=values,
-                                     Locations=[list(x) for x in locations])
-            out.append(self._reaction("IfcStructuralCurveReaction", f"{name} {what}", config, "LOCAL_COORDS", item,
-                                      PredefinedType="DISCRETE"))
-        self.counts["curve"] += len(out)
-        return out
-
     # -- property sets ----------------------------------------------------------
-    def _value(self, ifc_type: str, v):
-        if ifc_type == "IfcDateTime" and self.ifc2x3:
-            ifc_type = "IfcLabel"
-        return self.f.create_entity(ifc_type, v)
+    _TEXT_TYPES = ("IfcLabel", "IfcText", "IfcDateTime", "IfcIdentifier")
 
-    def _property(self, pname: str, t: str, v: Any):
-        """One IfcPropertySingleValue, shared by every property set that states the same thing.
+    def _pset(self, name: str, objects: list, props: list[tuple[str, str, Any]]) -> None:
+        """Queue a property set for ``objects``; `_flush_psets` writes them all at once."""
+        self._pending.append((name, objects, [p for p in props if p[2] is not None]))
+        self.counts["psets"] += 1
+
+    def _flush_psets(self) -> None:
+        """Every queued property set, its properties (each IfcPropertySingleValue shared by content) and relation.
 
         An IfcProperty may belong to several property sets; sharing the
         repeated ones (date, version, units, idealisation, governing case
-        names) halves the entities a large model gets.
+        names, equal values) halves the entities a large model gets.
         """
-        key = (pname, t, v)
-        prop = self._properties.get(key)
-        if prop is None:
-            prop = self.f.create_entity("IfcPropertySingleValue", Name=pname, NominalValue=self._value(t, v))
-            self._properties[key] = prop
-        return prop
+        from .step import new_guids, reals, string
 
-    def _pset(self, name: str, objects: list, props: list[tuple[str, str, Any]]) -> None:
-        values = [self._property(pname, t, v) for pname, t, v in props if v is not None]
-        pset = self._root("IfcPropertySet", Name=name, Description=TAG, HasProperties=values)
-        self._root("IfcRelDefinesByProperties", RelatedObjects=objects, RelatingPropertyDefinition=pset)
-        self.counts["psets"] += 1
+        pending, self._pending = self._pending, []
+        if not pending:
+            return
+        flat = [p for _, _, props in pending for p in props]
+        numeric = [k for k, (_, t, _) in enumerate(flat) if t not in self._TEXT_TYPES and t not in ("IfcInteger", "IfcBoolean")]
+        tokens = reals(np.array([float(flat[k][2]) for k in numeric])) if numeric else []
+        text: list[str | None] = [None] * len(flat)
+        tok: str | None
+        for k, number in zip(numeric, tokens):
+            text[k] = number
+        names: dict[str, str] = {}
+        prop_fmt = self._line("IfcPropertySingleValue", ("Name", "NominalValue"))
+        ids: list[int] = []
+        lines: list[str] = []
+        cache = self._properties
+        out = self.out
+        prefixes: dict[str, str] = {}
+        for k, (pname, t, v) in enumerate(flat):
+            tok = text[k]
+            if tok is None:
+                if t in self._TEXT_TYPES:
+                    tok = string(v)
+                elif t == "IfcInteger":
+                    tok = str(int(v))
+                else:
+                    tok = ".T." if v else ".F."
+            prefix = prefixes.get(t)
+            if prefix is None:
+                prefix = prefixes[t] = ("IFCLABEL(" if t == "IfcDateTime" and self.ifc2x3 else f"{t.upper()}(")
+            key = (pname, prefix + tok + ")")
+            pid = cache.get(key)
+            if pid is None:
+                pid = cache[key] = out.reserve()
+                quoted = names.get(pname)
+                if quoted is None:
+                    quoted = names[pname] = string(pname)
+                lines.append(f"#{pid}={prop_fmt % (quoted, key[1])};\n")
+            ids.append(pid)
+        pset_fmt = self._line("IfcPropertySet", ("GlobalId", "OwnerHistory", "Name", "Description", "HasProperties"))
+        rel_fmt = self._line("IfcRelDefinesByProperties", ("GlobalId", "OwnerHistory", "RelatedObjects",
+                                                            "RelatingPropertyDefinition"))
+        guids = new_guids(2 * len(pending))
+        first = out.block(2 * len(pending))
+        tag, owner = string(TAG), self._owner_ref
+        at = 0
+        for j, (name, objects, props) in enumerate(pending):
+            mine = ids[at:at + len(props)]
+            at += len(props)
+            pset = first + 2 * j
+            lines.append(f"#{pset}={pset_fmt % (repr_guid(guids[2 * j]), owner, string(name), tag, '(' + ','.join(f'#{i}' for i in mine) + ')')};\n"
+                         f"#{pset + 1}={rel_fmt % (repr_guid(guids[2 * j + 1]), owner, '(' + ','.join(f'#{o.id()}' for o in objects) + ')', f'#{pset}')};\n")
+        out.extend(lines)
 
     def _common(self) -> list[tuple[str, str, Any]]:
         from .. import __version__
@@ -741,25 +942,27 @@ class _Writer:
     def member_extremes(self, members: list[int]) -> list[tuple[str, str, Any]]:
         """Property list of PF_MemberForces for the frame members ``members`` (file units)."""
         res = self.results
-        lo = np.full(6, np.inf)
-        hi = np.full(6, -np.inf)
+        lo = [math.inf] * 6
+        hi = [-math.inf] * 6
         lo_case = [""] * 6
         hi_case = [""] * 6
         defl, defl_case, ratio, disp, disp_case = 0.0, "", math.inf, 0.0, ""
+        stats = self._member_stats()
+        lengths = self._lengths
         for name in res.cases:
+            mins, maxs, rels, totals = stats[name]
             for k in members:
-                dg = res.diagram(name, k)
-                mn, mx = dg.forces.min(axis=0), dg.forces.max(axis=0)
+                mn, mx = mins[k], maxs[k]
                 for a in range(6):
                     if mn[a] < lo[a]:
                         lo[a], lo_case[a] = mn[a], name
                     if mx[a] > hi[a]:
                         hi[a], hi_case[a] = mx[a], name
-                d_rel, d_abs = _relative_deflection(dg.stations, dg.deflections, float(res.L[k]))
+                d_rel, d_abs = rels[k], totals[k]
                 if d_rel > defl:
                     defl, defl_case = d_rel, name
                 if d_rel > 0:
-                    ratio = min(ratio, float(res.L[k]) / d_rel)
+                    ratio = min(ratio, lengths[k] / d_rel)
                 if d_abs > disp:
                     disp, disp_case = d_abs, name
         props = []
@@ -777,6 +980,18 @@ class _Writer:
                   ("MaxAxisDisplacementCase", "IfcLabel", disp_case or None),
                   ("Members", "IfcText", ", ".join(self.frame.member_ids[k] for k in members))]
         return props + self._common()
+
+    def _member_stats(self) -> dict[str, tuple[list, list, list, list]]:
+        """Per case, as lists: force minima and maxima (m,6), axis deflection from the chord and total (m,)."""
+        if self._stats is None:
+            res = self.results
+            self._stats = {}
+            for name in res.cases:
+                lo, hi = res.force_ranges(name)
+                rel, total = res.axis_deflections(name)
+                self._stats[name] = (lo.tolist(), hi.tolist(), rel.tolist(), total.tolist())
+            self._lengths = np.asarray(res.L, float).tolist()
+        return self._stats
 
     def _write_member_psets(self) -> None:
         if not self.results.cases:
@@ -852,6 +1067,11 @@ class _Writer:
         if not props:
             return
         self._pset("PF_StabilityAndModes", [self.analysis_model], props + self._common())
+
+
+def repr_guid(guid: str) -> str:
+    """A GlobalId as a STEP string (its 64 characters need no escaping)."""
+    return f"'{guid}'"
 
 
 def _relative_deflection(stations, deflections, L: float) -> tuple[float, float]:

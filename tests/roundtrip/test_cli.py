@@ -56,7 +56,7 @@ def counts(path) -> Counter:
 
 
 @pytest.fixture(scope="module")
-def analysed(tmp_path_factory):
+def analysed(tmp_path_factory, assert_valid_ifc):
     """Every stable sample analysed once: (input, output, json doc, stdout)."""
     from analysis.cli import main
 
@@ -69,6 +69,7 @@ def analysed(tmp_path_factory):
         code = main(["analyze", str(src), "--json", str(d / "r.json"), "-q", *EXTRA.get(name, [])])
         assert code == 0, name
         assert src.read_bytes() == before, f"{name}: the input was modified"
+        assert_valid_ifc(d / f"{name}.results.ifc")
         out[name] = (src, d / f"{name}.results.ifc", json.loads((d / "r.json").read_text()))
     return out
 
@@ -133,9 +134,10 @@ def test_reactions_on_supported_connections(analysed, name):
                     and any(rel.RelatingGroup.Name == case_name for rel in a.HasAssignments)]
             assert len(mine) == 1
             load = mine[0].AppliedLoad
-            assert (load.ForceZ or 0.0) == pytest.approx(r.get("fz", 0.0) / force, abs=1e-9 * force + 1e-9)
+            # the IFC carries 12 significant digits (analysis.ifc.step): equal to 1e-9 relative
+            assert (load.ForceZ or 0.0) == pytest.approx(r.get("fz", 0.0) / force, rel=1e-9, abs=1e-9)
             ps = ue.get_psets(conn)["PF_SupportReactions"]
-            assert ps[f"{case_name}: fz"] == pytest.approx(r["fz"] / force, abs=1e-9)
+            assert ps[f"{case_name}: fz"] == pytest.approx(r["fz"] / force, rel=1e-9, abs=1e-9)
 
 
 @pytest.mark.parametrize("name", ["workshop_portal", "workshop_portal_mm", "roof_truss"])
@@ -152,9 +154,56 @@ def test_curve_reactions_hold_the_member_diagrams(analysed, name):
             assert len(r) == 1
             cfg = r[0].AppliedLoad
             js = case["members"][mid]
-            assert np.allclose([loc[0] for loc in cfg.Locations], np.array(js["stations"]) / length)
-            assert np.allclose([v.ForceX for v in cfg.Values], np.array(js["N"]) / force, atol=1e-9)
-            assert np.allclose([v.MomentY for v in cfg.Values], np.array(js["My"]) / (force * length), atol=1e-9)
+            # the default station set: ends, extremes and concentrated loads, each a station of the JSON
+            at = _json_stations(js["stations"], [loc[0] * length for loc in cfg.Locations])
+            assert at[0] == 0 and at[-1] == len(js["stations"]) - 1
+            for action in ("N", "Vz", "My"):  # the extremes of each force are among them
+                assert at.count(int(np.argmax(js[action]))) or np.isclose(max(js[action]), max(
+                    js[action][i] for i in at), rtol=1e-9, atol=1e-9 * max(map(abs, js[action])) + 1e-12)
+            assert np.allclose([v.ForceX for v in cfg.Values], np.array(js["N"])[at] / force, atol=1e-9)
+            assert np.allclose([v.MomentY for v in cfg.Values], np.array(js["My"])[at] / (force * length), atol=1e-9)
+
+
+def _json_stations(stations, locations) -> list[int]:
+    """Index into the JSON stations of each IFC location (both sides of a load share a position: in order)."""
+    out: list[int] = []
+    for x in locations:
+        hits = [i for i, s in enumerate(stations) if abs(s - x) <= 1e-9 * max(1.0, abs(x)) and i not in out]
+        assert hits, f"IFC station {x} is not a station of the JSON"
+        out.append(hits[0])
+    return out
+
+
+@pytest.mark.parametrize("name", ["workshop_portal_mm", "braced_office"])
+def test_default_and_full_station_sets_agree(analysed, name, tmp_path, capsys, assert_valid_ifc):
+    """--stations all writes every JSON station; the default writes a subset with the same values there."""
+    src, out, doc = analysed[name]
+    full = tmp_path / "all.ifc"
+    code, _, _ = run(["analyze", src, "-o", full, "--stations", "all", "-q"], capsys)
+    assert code == 0
+    assert_valid_ifc(full)
+
+    def curves(path):
+        f = ifcopenshell.open(str(path))
+        got = {}
+        for r in f.by_type("IfcStructuralCurveReaction"):
+            cfg = r.AppliedLoad
+            rows = [[v.ForceX, v.ForceY, v.ForceZ, v.MomentX, v.MomentY, v.MomentZ] if v.is_a(
+                "IfcStructuralLoadSingleForce") else [v.DisplacementY or 0.0, v.DisplacementZ or 0.0]
+                for v in cfg.Values]
+            got[(r.AssignedToStructuralItem[0].RelatingElement.Name, cfg.Name)] = (  # derived members get new ids
+                [loc[0] for loc in cfg.Locations], np.array(rows, float))
+        return got
+
+    every, default = curves(full), curves(out)
+    assert set(every) == set(default) and every
+    fewer = 0
+    for key, (locs, values) in default.items():
+        all_locs, all_values = every[key]
+        at = _json_stations(all_locs, locs)
+        assert np.array_equal(values, all_values[at])  # the same numbers at the stations both carry
+        fewer += len(all_locs) - len(locs)
+    assert fewer > 0
 
 
 def test_physical_route_writes_the_derived_model(analysed):

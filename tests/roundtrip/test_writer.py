@@ -60,8 +60,13 @@ def make_cantilever_ifc(path, schema="IFC4", mm_kn=False, with_group=True, struc
                           CoordinateSpaceDimension=3, Precision=1e-5,
                           WorldCoordinateSystem=f.create_entity("IfcAxis2Placement3D", Location=origin))
     project = root("IfcProject", Name="Cantilever test", RepresentationContexts=[ctx], UnitsInContext=_units(f, mm_kn))
-    placement = f.create_entity("IfcLocalPlacement", RelativePlacement=f.create_entity(
-        "IfcAxis2Placement3D", Location=f.create_entity("IfcCartesianPoint", Coordinates=[0.0, 0.0, 0.0])))
+    origin3d = f.create_entity("IfcAxis2Placement3D",
+                               Location=f.create_entity("IfcCartesianPoint", Coordinates=[0.0, 0.0, 0.0]))
+    shared = f.create_entity("IfcLocalPlacement", RelativePlacement=origin3d) if schema != "IFC2X3" else None
+
+    def placement_():  # IFC2X3: a placement places exactly one product
+        return f.create_entity("IfcLocalPlacement", RelativePlacement=origin3d) if schema == "IFC2X3" else shared
+
     if not structural:
         beam = root("IfcBeam", Name="B-1")
         f.write(str(path))
@@ -83,13 +88,13 @@ def make_cantilever_ifc(path, schema="IFC4", mm_kn=False, with_group=True, struc
             else:
                 t = f.create_entity("IfcBoolean", True)
                 bc = f.create_entity("IfcBoundaryNodeCondition", "fixed", t, t, t, t, t, t)
-        conns.append(root("IfcStructuralPointConnection", Name=name, ObjectPlacement=placement, Representation=rep,
+        conns.append(root("IfcStructuralPointConnection", Name=name, ObjectPlacement=placement_(), Representation=rep,
                           AppliedCondition=bc))
     edge = f.create_entity("IfcEdge", vps[0], vps[1])
     rep = f.create_entity("IfcProductDefinitionShape", Representations=[f.create_entity(
         "IfcTopologyRepresentation", ContextOfItems=ctx, RepresentationIdentifier="Reference",
         RepresentationType="Edge", Items=[edge])])
-    attrs = dict(Name="M1", ObjectPlacement=placement, Representation=rep, PredefinedType="RIGID_JOINED_MEMBER")
+    attrs = dict(Name="M1", ObjectPlacement=placement_(), Representation=rep, PredefinedType="RIGID_JOINED_MEMBER")
     if schema != "IFC2X3":
         attrs["Axis"] = f.create_entity("IfcDirection", [0.0, 0.0, 1.0])
     member = root("IfcStructuralCurveMember", **attrs)
@@ -105,6 +110,12 @@ def make_cantilever_ifc(path, schema="IFC4", mm_kn=False, with_group=True, struc
             root("IfcStructuralLoadGroup", Name="tip", PredefinedType="LOAD_CASE", ActionType="VARIABLE_Q",
                  ActionSource="LIVE_LOAD_Q", Coefficient=1.0)
         amodel.LoadedBy = [group]
+        # the tip load the hand-built frame carries, so that the load group holds what it stands for
+        load = f.create_entity("IfcStructuralLoadSingleForce", Name="tip", ForceZ=-P / (1000.0 if mm_kn else 1.0))
+        action = root("IfcStructuralPointAction", Name="tip load", AppliedLoad=load, GlobalOrLocal="GLOBAL_COORDS",
+                      DestabilizingLoad=False)
+        root("IfcRelConnectsStructuralActivity", RelatingElement=conns[1], RelatedStructuralActivity=action)
+        root("IfcRelAssignsToGroup", RelatedObjects=[action], RelatingGroup=group)
     f.write(str(path))
     return {"A": conns[0].GlobalId, "B": conns[1].GlobalId, "M1": member.GlobalId, "beam": beam.GlobalId,
             "model": amodel.GlobalId, "group": group.GlobalId if group else None, "project": project.GlobalId}
@@ -148,7 +159,7 @@ def psets_of(entity):
 
 @pytest.fixture(params=[("IFC4", False), ("IFC4", True), ("IFC4X3", False), ("IFC2X3", False)],
                 ids=["IFC4-m-N", "IFC4-mm-kN", "IFC4X3", "IFC2X3"])
-def written(request, tmp_path):
+def written(request, tmp_path, assert_valid_ifc):
     from analysis import analyze
     from analysis.ifc.writer import write_results
 
@@ -161,6 +172,7 @@ def written(request, tmp_path):
     before = src.read_bytes()
     summary = write_results(src, out, model, res)
     assert src.read_bytes() == before  # the input is never modified
+    assert_valid_ifc(out)
     return types.SimpleNamespace(src=src, out=out, ids=ids, model=model, res=res, summary=summary,
                                  schema=schema, mm=mm, scale_f=1000.0 if mm else 1.0, scale_l=1e-3 if mm else 1.0)  # value_ifc * scale == SI
 
@@ -205,18 +217,36 @@ def test_curve_reaction_carries_the_json_values(written):
         assert any("IFC2X3" in n for n in w.summary.notes)
         return
     doc = w.res.to_dict()
+    from analysis.ifc.writer import write_results
+
+    every = w.out.with_name("every.ifc")
+    write_results(w.src, every, w.model, w.res, stations="all")
+    f_every = ifcopenshell.open(str(every))  # kept: its entities live as long as the file
+    full = f_every.by_guid(w.ids["M1"])
+    full_acts = [r.RelatedStructuralActivity for r in full.AssignedStructuralActivity or ()]
     for case in ("tip", "1.5 tip"):
-        forces = [a for a in acts if a.is_a("IfcStructuralCurveReaction")
-                  and a.AppliedLoad.Name == f"{case}: internal forces"]
-        assert len(forces) == 1
-        r = forces[0]
-        assert r.PredefinedType == "DISCRETE" and r.GlobalOrLocal == "LOCAL_COORDS"
-        cfg = r.AppliedLoad
         js = doc["cases"][case]["members"]["M1"]
+        # --stations all: every station of the JSON
+        cfg = _curve_config(full_acts, case, "internal forces")
         assert [loc[0] for loc in cfg.Locations] == pytest.approx(np.array(js["stations"]) / w.scale_l)
         assert [v.ForceX for v in cfg.Values] == pytest.approx(np.array(js["N"]) / w.scale_f, abs=1e-9)
         assert [v.MomentY for v in cfg.Values] == pytest.approx(np.array(js["My"]) / (w.scale_f * w.scale_l))
         assert [v.ForceZ for v in cfg.Values] == pytest.approx(np.array(js["Vz"]) / w.scale_f)
+        # the default: a cantilever under a tip load has linear N, V, M and a monotonic deflection: the ends
+        cfg = _curve_config(acts, case, "internal forces")
+        assert [loc[0] for loc in cfg.Locations] == pytest.approx([0.0, L / w.scale_l])
+        assert [v.MomentY for v in cfg.Values] == pytest.approx(np.array(js["My"])[[0, -1]] / (w.scale_f * w.scale_l))
+        dz = _curve_config(acts, case, "deflections")
+        assert [v.DisplacementZ for v in dz.Values] == pytest.approx(np.array(js["dz"])[[0, -1]] / w.scale_l, rel=1e-9,
+                                                                     abs=1e-15)
+
+
+def _curve_config(acts, case, what):
+    found = [a for a in acts if a.is_a("IfcStructuralCurveReaction") and a.AppliedLoad.Name == f"{case}: {what}"]
+    assert len(found) == 1
+    r = found[0]
+    assert r.PredefinedType == "DISCRETE" and r.GlobalOrLocal == "LOCAL_COORDS" and r.Description == "plumbframe"
+    return r.AppliedLoad
 
 
 def test_member_psets_on_analytical_and_physical(written):

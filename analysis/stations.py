@@ -1,0 +1,61 @@
+"""Which stations of a member diagram go into the results IFC (``--stations ends|extremes|all``).
+
+A member diagram (`analysis.results.MemberDiagram`) holds every station the
+analysis computed: an even grid, both sides of every concentrated load and
+the points where a shear force or a slope vanishes. The design team's model
+needs far fewer to show what matters:
+
+* ``ends``: the two member ends;
+* ``extremes`` (the default): the ends, both sides of every concentrated
+  load (a jump in the diagram), and for each of N, Vy, Vz, T, My, Mz, dy and
+  dz the stations of its smallest and largest value where that lies inside
+  the member (beyond the end values by more than a round-off margin);
+* ``all``: every station.
+
+Every subset is a subset of ``all``, with the same values at the stations
+they share.
+"""
+from __future__ import annotations
+
+import numpy as np
+
+__all__ = ["STATION_SETS", "DEFAULT_STATIONS", "select_stations"]
+
+STATION_SETS = ("ends", "extremes", "all")
+DEFAULT_STATIONS = "extremes"
+_MARGIN = 1e-9  # relative to the column's largest magnitude: beyond the ends by less than this is not an extreme
+
+
+def select_stations(stations: np.ndarray, forces: np.ndarray, deflections: np.ndarray, which: str) -> np.ndarray:
+    """Indices (sorted) into ``stations`` of the station set ``which`` (see the module docstring).
+
+    Parameters
+    ----------
+    stations : (s,) m from end i, ascending (a concentrated load appears twice, both sides).
+    forces : (s,6) N, Vy, Vz, T, My, Mz.
+    deflections : (s,2) dy, dz.
+    which : 'ends', 'extremes' or 'all'.
+    """
+    s = np.asarray(stations, float)
+    n = s.size
+    if which not in STATION_SETS:
+        raise ValueError(f"station set must be one of {', '.join(STATION_SETS)}, got {which!r}")
+    if which == "all" or n <= 2:
+        return np.arange(n)
+    keep = np.zeros(n, bool)
+    keep[0] = keep[-1] = True
+    if which == "ends":
+        return np.flatnonzero(keep)
+    same = np.diff(s) == 0.0  # both sides of a concentrated load
+    keep[:-1] |= same
+    keep[1:] |= same
+    values = np.concatenate([np.asarray(forces, float).reshape(n, -1), np.asarray(deflections, float).reshape(n, -1)],
+                            axis=1)
+    ends_lo = np.minimum(values[0], values[-1])
+    ends_hi = np.maximum(values[0], values[-1])
+    margin = _MARGIN * np.abs(values).max(axis=0)
+    lo, hi = values.argmin(axis=0), values.argmax(axis=0)
+    cols = np.arange(values.shape[1])
+    keep[lo[values[lo, cols] < ends_lo - margin]] = True
+    keep[hi[values[hi, cols] > ends_hi + margin]] = True
+    return np.flatnonzero(keep)
