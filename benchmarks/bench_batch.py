@@ -93,6 +93,35 @@ def _load() -> str:
         return "?"
 
 
+def _spin(seconds_of_work: int) -> float:
+    t0 = time.perf_counter()
+    x = 0
+    for k in range(seconds_of_work * 4_000_000):
+        x += k * k
+    return time.perf_counter() - t0
+
+
+def spare_cores(work: int = 1) -> float:
+    """Time of two pure-Python loops run at once in two processes / the same two one after the other.
+
+    0.5 on an idle 2-core machine; near 1.0 when other work leaves about one core free. It is the
+    best ratio any two-process batch could reach at that moment.
+    """
+    import multiprocessing as mp
+
+    t0 = time.perf_counter()
+    _spin(work)
+    _spin(work)
+    one_by_one = time.perf_counter() - t0
+    ctx = mp.get_context("spawn")
+    with ctx.Pool(2) as pool:
+        pool.map(_spin, [0, 0])  # start-up out of the timing
+        t0 = time.perf_counter()
+        pool.map(_spin, [work, work])
+        together = time.perf_counter() - t0
+    return together / one_by_one
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__, formatter_class=argparse.RawDescriptionHelpFormatter)
     ap.add_argument("--models", type=int, default=40)
@@ -113,9 +142,14 @@ def main(argv=None) -> int:
         t_serial = t_dask = 0.0
         order = ["serial", "dask", "dask", "serial"][: 2 * args.rounds] if args.rounds <= 2 else ["serial", "dask"] * args.rounds
         load0 = _load()
+        capacity = [spare_cores()]
+        cpu = {"serial": 0.0, "dask": 0.0}
         for kind in order:
             extra = ("--serial",) if kind == "serial" else ("--workers", str(args.workers))
+            c0 = time.process_time()
             t, code = batch(models, work / kind, *extra)
+            cpu[kind] += time.process_time() - c0
+            capacity.append(spare_cores())
             assert code == 0, (kind, code)
             if kind == "serial":
                 t_serial += t
@@ -131,11 +165,16 @@ def main(argv=None) -> int:
                 assert math.isclose(r[f], rows_d[k][f], rel_tol=1e-12), (k, f)
         busy = sum(r["seconds"] for r in rows_d.values())  # of the last dask run
         busy_serial = sum(r["seconds"] for r in rows_s.values())
+        cpu_d = sum(r["cpu_seconds"] for r in rows_d.values())
+        cpu_s = sum(r["cpu_seconds"] for r in rows_s.values())
         startup, per_noop = noop_overhead(args.workers)
         in_batch = (t_dask * args.workers - busy) / len(rows_d)
-        print(f"serial                  {t_serial:8.2f} s  (tasks {busy_serial:.2f} s)")
-        print(f"dask, {args.workers} workers         {t_dask:8.2f} s  (tasks {busy:.2f} s on the workers)")
+        print(f"serial                  {t_serial:8.2f} s  (last run: tasks {busy_serial:.2f} s, CPU {cpu_s:.2f} s)")
+        print(f"dask, {args.workers} workers         {t_dask:8.2f} s  (last run: tasks {busy:.2f} s, CPU {cpu_d:.2f} s "
+              f"on the workers; CPU of the command's own process {cpu['dask'] / rounds:.2f} s)")
         print(f"ratio dask / serial     {t_dask / t_serial:8.3f}   (target <= 0.6)")
+        print(f"spare-core ratio        {min(capacity):.3f}-{max(capacity):.3f} (two pure-Python loops at once / one "
+              "after the other, measured between the runs: 0.5 = two free cores, 1.0 = one)")
         print(f"cluster start-up        {startup:8.2f} s  (a fresh LocalCluster of {args.workers}, measured apart)")
         print(f"overhead per task       {per_noop * 1e3:8.2f} ms  (no-op task round trip, x workers / tasks)")
         print(f"overhead per task       {in_batch:8.3f} s   in the batch: (wall x workers - task time) / tasks, "
