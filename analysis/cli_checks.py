@@ -189,7 +189,8 @@ def quiet_stdout_errors(stream=None) -> None:
         pass
 
 
-_READER_FAILURES = (AttributeError, TypeError, IndexError, KeyError, ValueError, ZeroDivisionError)
+_READER_FAILURES = (AttributeError, TypeError, IndexError, KeyError, ValueError, ZeroDivisionError,
+                    RuntimeError)  # ifcopenshell: RuntimeError for an attribute holding an entity of the wrong class
 
 
 def broken_file_guard(read: Callable, path: str) -> Callable:
