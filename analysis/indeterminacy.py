@@ -1046,7 +1046,8 @@ def _rigid_note(frame: Frame, options: AnalysisOptions) -> str | None:
         else:
             parts.append("no member by the inextensible idealisation")
     if own.size:
-        parts.append(f"{own.size} by its own property ({_id_list(frame, own)})")
+        parts.append(f"{own.size} member{'s' if own.size != 1 else ''} by {'their' if own.size != 1 else 'its'} own "
+                     f"property ({_id_list(frame, own)})")
     if options.inextensible:
         kept = np.flatnonzero(frame.extensible)
         if kept.size:

@@ -355,6 +355,8 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
             strict=strict, members=members)
         frame, diagnostics, derive_notes = derived.frame, derived.diagnostics, derived.notes
         physical = {mid: src for mid, src in zip(frame.member_ids, frame.member_sources) if src}
+        frame, axial_notes = _axial_properties(ifc_file, frame, physical)
+        notes += axial_notes
         source.diagnostics.extend(_check_magnitudes(frame, path))
         return IfcModel(frame=frame, diagnostics=source.diagnostics + list(diagnostics), route="physical", schema=schema,
                         analysis_models=[], path=path, units=scales, notes=notes + list(derive_notes), physical=physical,
@@ -368,14 +370,22 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
         notes.append(f"Read the structural analysis model {entity_label(chosen)}.")
     reader = _StructuralReader(ifc_file, chosen, scales, defaults)
     frame = reader.read()
+    frame, axial_notes = _axial_properties(ifc_file, frame, reader.physical)
     source.diagnostics.extend(_check_magnitudes(frame, path))
     plane = str(getattr(chosen, "PredefinedType", None) or "") == "IN_PLANE_LOADING_2D"
     if plane:
         notes.append(f"{entity_label(chosen)} declares in-plane 2D loading: analysed as a plane frame in its own "
                      "plane unless a space analysis is asked for.")
     return IfcModel(frame=frame, diagnostics=source.diagnostics + reader.diagnostics, route="structural", schema=schema,
-                    analysis_models=listed, path=path, units=scales, notes=notes + reader.notes,
+                    analysis_models=listed, path=path, units=scales, notes=notes + reader.notes + axial_notes,
                     physical=reader.physical, plane=plane, source_stamp=source.stamp)
+
+
+def _axial_properties(ifc_file, frame: Frame, physical: dict) -> tuple[Frame, list[str]]:
+    """The members' own PF_Idealisation.AxiallyRigid values (`analysis.ifc.idealisation`)."""
+    from .idealisation import apply_axial_properties
+
+    return apply_axial_properties(ifc_file, frame, physical)
 
 
 def _check_magnitudes(frame: Frame, path: str) -> list[Diagnostic]:
