@@ -226,7 +226,8 @@ class AnalysisOptions:
         length is held by an exact constraint and its axial force is the
         constraint force. A member's own property overrides this either way
         (``Frame.inextensible`` keeps it rigid without the option,
-        ``Frame.extensible`` keeps it extensible with it); a member whose
+        ``Frame.extensible`` keeps it extensible with it; the IFC reader sets
+        them from ``PF_Idealisation.AxiallyRigid``); a member whose
         axial force is released is never rigid. An all-rigid determinate
         truss is analysed by equilibrium alone; where rigid members form a
         redundant set, their forces are the smallest in equilibrium (a
