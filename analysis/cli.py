@@ -481,7 +481,7 @@ def _mechanism_texts(frame, options) -> tuple[str, ...]:
     return ()
 
 
-def _print_unstable(con, exc, ind=None) -> None:
+def _print_unstable(con, exc, ind=None, model=None) -> None:
     if getattr(exc, "load_set", None) is not None:  # second order at or past a critical load
         con.error(f"{exc}: nothing was written")
         print("  Stiffen or brace the frame, or check the loads; `--buckling 1` lists the critical factors.",
@@ -496,6 +496,12 @@ def _print_unstable(con, exc, ind=None) -> None:
         print(f"  counts: kinematic {d['kinematic']}, static {d['static']}, mechanisms {d['mechanisms']} "
               "(plumbframe check shows the full table)", file=con.err)
     print("  Add supports or restraints, remove end releases, or brace the frame, then check again.", file=con.err)
+    if model is not None:  # the reader's warnings often name the cause (a support on a node no member touches)
+        lines = _diagnostic_lines(model)
+        if lines:
+            print("  reader warnings:", file=con.err)
+            for line in lines:
+                print(line, file=con.err)
 
 
 def _atomic_text(path: str, text: str) -> None:
@@ -784,7 +790,7 @@ def _analyze(args, con) -> int:
 
         model.diagnostics.extend(displacement_warnings(results))  # kilometre displacements: a unit mistake
     except UnstableStructureError as exc:
-        _print_unstable(con, exc, ind)
+        _print_unstable(con, exc, ind, model)
         return EXIT_UNSTABLE
     if results.options.plane and not options.plane:
         # the engine fell back to the frame's own plane (a mechanism only out of it): count the same way
@@ -793,7 +799,7 @@ def _analyze(args, con) -> int:
     d = _ind_dict(ind)
     if d and d.get("mechanisms", 0) > 0:  # the counts see a mechanism the solver did not trip over
         _print_unstable(con, UnstableStructureError("; ".join(d.get("notes", [])) or "mechanism found by the counts"),
-                        ind)
+                        ind, model)
         return EXIT_UNSTABLE
     outputs = []
     from .fileio import output_set

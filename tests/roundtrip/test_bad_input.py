@@ -799,3 +799,19 @@ def test_plausible_model_gives_no_plausibility_warning(capsys, tmp_path, portal_
     src.write_text(portal_text)
     r = run(capsys, "analyze", src, "-o", tmp_path / "o.ifc")
     assert r.code == 0 and "warnings   none" in r.out, r
+
+
+def test_unstable_run_shows_the_support_on_a_node_no_member_touches(capsys, tmp_path):
+    t = _reader_model()
+    m = t.Model("IFC4")
+    m.node("N1", (0.0, 0.0, 0.0))
+    m.node("N2", (4.0, 0.0, 0.0))
+    m.node("N9", (20.0, 0.0, 0.0), support=[True] * 6)  # the only support, touched by no member
+    b1 = m.member("B1", "N1", "N2")
+    m.associate([b1], m.steel(), m.rectangle())
+    g = m.case("G")
+    m.nodal_force(g, "N2", force_n=(0.0, 0.0, -1000.0))
+    r = run(capsys, "analyze", m.write(tmp_path / "u.ifc"), "-o", tmp_path / "o.ifc")
+    assert r.code == 3, r
+    assert "mechanism 1" in r.err and "'N9'" in r.err and "no curve member of the model touches" in r.err
+    assert not (tmp_path / "o.ifc").exists()
