@@ -59,3 +59,50 @@ def select_stations(stations: np.ndarray, forces: np.ndarray, deflections: np.nd
     keep[lo[values[lo, cols] < ends_lo - margin]] = True
     keep[hi[values[hi, cols] > ends_hi + margin]] = True
     return np.flatnonzero(keep)
+
+
+def select_stations_batch(sizes: np.ndarray, stations: np.ndarray, forces: np.ndarray, deflections: np.ndarray,
+                          which: str) -> np.ndarray:
+    """`select_stations` of many diagrams at once: a boolean mask over their concatenated stations.
+
+    ``sizes`` (g,) are the diagrams' station counts; ``stations`` (S,), ``forces``
+    (S,6) and ``deflections`` (S,2) their rows one after another. The same
+    stations as calling `select_stations` on each diagram.
+    """
+    if which not in STATION_SETS:
+        raise ValueError(f"station set must be one of {', '.join(STATION_SETS)}, got {which!r}")
+    sizes = np.asarray(sizes, dtype=np.int64)
+    total = int(sizes.sum())
+    if which == "all":
+        return np.ones(total, bool)
+    starts = np.concatenate([[0], np.cumsum(sizes)[:-1]]).astype(np.int64)
+    ends = starts + sizes - 1
+    keep = np.zeros(total, bool)
+    keep[starts] = True
+    keep[ends] = True
+    small = sizes <= 2
+    if which == "ends" or total == 0:
+        return keep
+    owner = np.repeat(np.arange(sizes.size), sizes)
+    s = np.asarray(stations, float)
+    same = (np.diff(s) == 0.0) & (owner[1:] == owner[:-1])  # both sides of a concentrated load
+    keep[:-1] |= same
+    keep[1:] |= same
+    values = np.concatenate([np.asarray(forces, float).reshape(total, -1),
+                             np.asarray(deflections, float).reshape(total, -1)], axis=1)
+    ends_lo = np.minimum(values[starts], values[ends])
+    ends_hi = np.maximum(values[starts], values[ends])
+    margin = _MARGIN * np.maximum.reduceat(np.abs(values), starts, axis=0)
+    lo = np.minimum.reduceat(values, starts, axis=0)
+    hi = np.maximum.reduceat(values, starts, axis=0)
+    for col in range(values.shape[1]):
+        v = values[:, col]
+        for ext, beyond in ((lo[:, col], lo[:, col] < ends_lo[:, col] - margin[:, col]),
+                            (hi[:, col], hi[:, col] > ends_hi[:, col] + margin[:, col])):
+            hit = (v == ext[owner]) & beyond[owner]
+            if hit.any():
+                rows = np.flatnonzero(hit)
+                _, first = np.unique(owner[rows], return_index=True)  # argmin/argmax: the first such station
+                keep[rows[first]] = True
+    keep[np.repeat(small, sizes)] = True  # two stations or fewer: all of them
+    return keep

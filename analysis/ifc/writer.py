@@ -665,6 +665,8 @@ class _Writer:
         self._pending: list[tuple[str, list, list[tuple[str, str, Any]]]] = []
         self._stats: dict[str, tuple[list, list, list, list]] | None = None
         self._lengths: list[float] = []
+        self._labels: list[tuple[str, tuple[str, str]]] | None = None
+        self._common_props: list[tuple[str, str, Any]] | None = None
 
     def _fmt(self, ifc_class: str, names: tuple[str, ...]) -> str:
         """A format string ``IFCCLASS(...)`` with ``{name}`` fields for ``names``, ``$`` for the rest."""
@@ -745,6 +747,18 @@ class _Writer:
             self.notes.append(f"{missing} node(s) have no IfcStructuralPointConnection in the file: "
                               "their displacements and reactions are in the results JSON only")
 
+    def _chain_labels(self, chains: dict) -> list[tuple[str, tuple[str, str]]]:
+        """Per IFC curve member (cached): its reference and the names of its two reactions."""
+        from .step import string
+
+        if self._labels is None:
+            self._labels = []
+            for item, segments in chains.items():
+                label = item.Name or self.frame.member_ids[segments[0][0]]
+                self._labels.append((f"#{item.id()}", (string(f"{label} internal forces"),
+                                                         string(f"{label} deflections"))))
+        return self._labels
+
     def _line(self, ifc_class: str, names: tuple[str, ...]) -> str:
         """A %-format ``IFCCLASS(...)`` taking ``names`` in the order given (the schema's order of them)."""
         upper, attrs, derived = self.tpl.attributes(ifc_class)
@@ -777,28 +791,29 @@ class _Writer:
 
     def _curve_results(self, case: str, chains: dict, tag: str) -> list[int]:
         """Internal forces and deflections of every IFC curve member at the chosen stations (`analysis.stations`)."""
-        from ..stations import select_stations
+        from ..stations import select_stations_batch
         from .step import reals, string
 
         res, u, out = self.results, self.units, self.out
-        S, F, D, counts = [], [], [], []
-        for n, (item, segments) in enumerate(chains.items()):
-            if n % 4000 == 0:
-                self.say(f"writing IFC: {case}: member diagrams, {n:,} of {len(chains):,} members")
-            c = 0
-            for k, offset in segments:
-                dg = res.diagram(case, k)
-                idx = select_stations(dg.stations, dg.forces, dg.deflections, self.stations)
-                S.append(offset + dg.stations[idx])
-                F.append(dg.forces[idx])
-                D.append(dg.deflections[idx])
-                c += idx.size
-            counts.append(c)
-        total = int(sum(counts))
+        self.say(f"writing IFC: {case}: diagrams of {len(chains):,} members")
+        order = [(k, offset) for segments in chains.values() for k, offset in segments]
+        diagrams = [res.diagram(case, k) for k, _ in order]
+        sizes = np.array([len(dg.stations) for dg in diagrams], dtype=np.int64)
+        S = np.concatenate([dg.stations for dg in diagrams])
+        F = np.concatenate([dg.forces for dg in diagrams])
+        D = np.concatenate([dg.deflections for dg in diagrams])
+        keep = select_stations_batch(sizes, S, F, D, self.stations)
+        S = S + np.repeat(np.array([offset for _, offset in order], float), sizes)  # along the IFC member
+        per_segment = np.add.reduceat(keep, np.concatenate([[0], np.cumsum(sizes)[:-1]])) if sizes.size else sizes
+        n_segments = [len(segments) for segments in chains.values()]
+        counts = np.add.reduceat(per_segment, np.concatenate([[0], np.cumsum(n_segments)[:-1]])).tolist() \
+            if n_segments else []
+        total = int(keep.sum())
         fs = np.array([u.force] * 3 + [u.moment] * 3)
-        tok_s = reals(np.concatenate(S) / u.length)
-        tok_f = reals(np.concatenate(F) / fs)
-        tok_d = reals(np.concatenate(D) / u.length)
+        self.say(f"writing IFC: {case}: {total:,} stations of {len(chains):,} members")
+        tok_s = reals(S[keep] / u.length)
+        tok_f = reals(F[keep] / fs)
+        tok_d = reals(D[keep] / u.length)
         force_fmt = self._line("IfcStructuralLoadSingleForce", ("ForceX", "ForceY", "ForceZ", "MomentX", "MomentY",
                                                                  "MomentZ"))
         defl_fmt = self._line("IfcStructuralLoadSingleDisplacement", ("DisplacementY", "DisplacementZ"))
@@ -810,17 +825,18 @@ class _Writer:
         names = {what: string(f"{case}: {what}") for what in ("internal forces", "deflections")}
         n_items = len(counts)
         c0 = out.block(2 * n_items)
-        lines, starts = [], np.concatenate([[0], np.cumsum(counts)]).tolist()
+        lines, starts = [], np.concatenate([[0], np.cumsum(counts)]).astype(int).tolist()
         items, labels = [], []
-        for j, (item, segments) in enumerate(chains.items()):
+        where_all = [f"({t})" for t in tok_s]
+        refs_f = [f"#{f0 + x}" for x in range(total)]
+        refs_d = [f"#{d0 + x}" for x in range(total)]
+        for j, (ref, label) in enumerate(self._chain_labels(chains)):
             a, b = starts[j], starts[j + 1]
-            where = "(" + ",".join(f"({t})" for t in tok_s[a:b]) + ")"
-            label = item.Name or self.frame.member_ids[segments[0][0]]
-            for w, (what, base) in enumerate((("internal forces", f0), ("deflections", d0))):
-                values = "(" + ",".join(f"#{base + x}" for x in range(a, b)) + ")"
-                lines.append(f"#{c0 + 2 * j + w}={config_fmt % (names[what], values, where)};\n")
-                labels.append(string(f"{label} {what}"))
-                items.append(f"#{item.id()}")
+            where = "(" + ",".join(where_all[a:b]) + ")"
+            for w, (what, refs) in enumerate((("internal forces", refs_f), ("deflections", refs_d))):
+                lines.append(f"#{c0 + 2 * j + w}={config_fmt % (names[what], '(' + ','.join(refs[a:b]) + ')', where)};\n")
+                labels.append(label[w])
+                items.append(ref)
         out.extend(lines)
         result = self._activities("IfcStructuralCurveReaction", labels, list(range(c0, c0 + 2 * n_items)),
                                   ".LOCAL_COORDS.", items, tag, predefined=".DISCRETE.")
@@ -932,6 +948,12 @@ class _Writer:
         out.extend(lines)
 
     def _common(self) -> list[tuple[str, str, Any]]:
+        common = getattr(self, "_common_props", None)
+        if common is None:
+            common = self._common_props = self._common_list()
+        return list(common)
+
+    def _common_list(self) -> list[tuple[str, str, Any]]:
         from .. import __version__
 
         return [("AnalysisDate", "IfcDateTime", self.date.strftime("%Y-%m-%dT%H:%M:%S")),

@@ -32,6 +32,7 @@ figure{margin:10px 0 18px}figure img{max-width:100%;border:1px solid #e1e5ea}
 figcaption{font-size:0.85em;color:#4a5563}
 .meta td{text-align:left}.ok{color:#1e8449;font-weight:600}.bad{color:#c0392b;font-weight:600}
 nav a{margin-right:12px}
+p.note{font-size:0.85em;color:#4a5563;margin-top:-8px}
 """
 
 
@@ -67,12 +68,9 @@ def _ind_dict(ind):
 
 
 def _actions_to_draw(results, case: str) -> tuple[str, ...]:
-    peaks = {a: 0.0 for a in ACTION_NAMES}
-    for k in range(results.frame.n_members):
-        F = results.diagram(case, k).forces
-        if F.size:
-            for i, a in enumerate(ACTION_NAMES):
-                peaks[a] = max(peaks[a], float(np.abs(F[:, i]).max()))
+    lo, hi = results.force_ranges(case)
+    peak = np.maximum(np.abs(lo), np.abs(hi)).max(axis=0) if len(lo) else np.zeros(6)
+    peaks = {a: float(peak[i]) for i, a in enumerate(ACTION_NAMES)}
     top_v = max(peaks["Vy"], peaks["Vz"])
     top_m = max(peaks["My"], peaks["Mz"], peaks["T"])
     out = ["N"]
@@ -85,49 +83,51 @@ def _actions_to_draw(results, case: str) -> tuple[str, ...]:
     return tuple(out[:5])
 
 
-def _member_rows(results):
-    from ..ifc.writer import _relative_deflection
-
+def _member_rows(results, env, members) -> list[list]:
+    """Envelope rows of ``members`` (from `tables.member_envelope`)."""
     frame = results.frame
+    names = list(results.cases)
     rows = []
-    for k, mid in enumerate(frame.member_ids):
-        best = {}
-        defl = 0.0
-        for name in results.cases:
-            dg = results.diagram(name, k)
-            for i, a in enumerate(ACTION_NAMES):
-                col = dg.forces[:, i]
-                if not col.size:
-                    continue
-                lo, hi = float(col.min()), float(col.max())
-                b = best.setdefault(a, [math.inf, "", -math.inf, ""])
-                if lo < b[0]:
-                    b[0], b[1] = lo, name
-                if hi > b[2]:
-                    b[2], b[3] = hi, name
-            d, _ = _relative_deflection(dg.stations, dg.deflections, float(results.L[k]))
-            if d > defl:
-                defl = d
+    for k in members:
+        k = int(k)
         L = float(results.L[k])
+        defl = float(env["defl"][k])
         ratio = f"L/{L / defl:.0f}" if defl > 0 else "–"
-        row = [mid, f"{L:.3f}"]
-        for a in ("N", "Vy", "Vz", "T", "My", "Mz"):
-            b = best.get(a)
-            if b is None:
-                row += ["–", "–"]
-                continue
-            row += [_num(b[0], 1e3), _num(b[2], 1e3)]
-        gov = max(("My", "Mz"), key=lambda a: max(abs(best.get(a, [0, "", 0, ""])[0]),
-                                                  abs(best.get(a, [0, "", 0, ""])[2])))
-        b = best.get(gov, [0, "", 0, ""])
-        gcase = b[1] if abs(b[0]) >= abs(b[2]) else b[3]
-        row += [f"{defl * 1e3:.2f}", ratio, f"{gov}: {gcase}"]
+        row = [frame.member_ids[k], f"{L:.3f}"]
+        for i in range(6):
+            lo, hi = float(env["lo"][k, i]), float(env["hi"][k, i])
+            row += [_num(lo, 1e3), _num(hi, 1e3)] if math.isfinite(lo) else ["–", "–"]
+        peak = {a: max(abs(float(env["lo"][k, i])), abs(float(env["hi"][k, i]))) for a, i in (("My", 4), ("Mz", 5))}
+        gov = max(("My", "Mz"), key=lambda a: peak[a] if math.isfinite(peak[a]) else 0.0)
+        i = ACTION_NAMES.index(gov)
+        c = env["lo_case"][k, i] if abs(env["lo"][k, i]) >= abs(env["hi"][k, i]) else env["hi_case"][k, i]
+        row += [f"{defl * 1e3:.2f}", ratio, f"{gov}: {names[int(c)] if names else ''}"]
         rows.append(row)
     return rows
 
 
-def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | None = None, plots: bool = True) -> str:
-    """The report as one HTML string (``plots=False`` leaves the figures out: tables and text only)."""
+def _csv_note(csv_names, table: str, shown: int, total: int, what: str) -> str:
+    """A line under a shortened table naming the CSV file with all of it."""
+    link = ""
+    if csv_names and table in csv_names:
+        name = csv_names[table]
+        link = f" — all {total} in <a href='{_e(name)}'>{_e(name)}</a>"
+    if shown >= total:
+        return f"<p class='note'>{_e(what)}{link}.</p>" if link else ""
+    return f"<p class='note'>{shown} of {total} {_e(what)} shown{link}.</p>"
+
+
+def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | None = None, plots: bool = True,
+                 csv_names: dict[str, str] | None = None, env: dict | None = None) -> str:
+    """The report as one HTML string (``plots=False`` leaves the figures out: tables and text only).
+
+    Tables longer than `tables.SHOWN` rows show what a reader looks at first
+    (supports, governing members, largest reactions and displacements);
+    ``csv_names`` (table -> file name beside the report) are linked for the rest.
+    """
+    from .tables import SHOWN, governing_members, largest, member_envelope
+
+    env = env if env is not None else member_envelope(results)
     from .. import __version__
     from ..ifc.writer import idealisation_text
     from .plots import case_figure, frame_views
@@ -163,16 +163,23 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
         parts.append(_img(b64, caption))
     parts.append("<h3>Nodes</h3>")
     node_rows = []
-    for i, nid in enumerate(frame.node_ids):
+    sup_mask = frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1)
+    shown_nodes = list(range(frame.n_nodes)) if frame.n_nodes <= SHOWN else np.flatnonzero(sup_mask)[:SHOWN].tolist()
+    for i in shown_nodes:
+        nid = frame.node_ids[i]
         r = frame.restraints[i]
         support = "fixed" if r.all() else (" ".join(DOF_NAMES[c] for c in range(6) if r[c]) or "")
         if (frame.springs[i] > 0).any():
             support += " springs"
         node_rows.append([nid, *(f"{v:.3f}" for v in frame.nodes[i]), support or "–", frame.node_labels[i]])
     parts.append(_table(["Node", "X [m]", "Y [m]", "Z [m]", "Support", "Source"], node_rows))
+    parts.append(_csv_note(csv_names, "nodes", len(shown_nodes), frame.n_nodes,
+                           "nodes (the supported ones)" if len(shown_nodes) < frame.n_nodes else "nodes"))
     parts.append("<h3>Members</h3>")
     mem_rows = []
-    for k, mid in enumerate(frame.member_ids):
+    shown_members = governing_members(results, env)
+    for k in shown_members.tolist():
+        mid = frame.member_ids[k]
         rel = []
         for end, tag in ((0, "i"), (1, "j")):
             names = [ACTION_NAMES[c] for c in range(6) if frame.releases[k, end, c]]
@@ -184,6 +191,8 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
                          "axial only" if frame.truss[k] else "frame", "; ".join(rel) or "–", frame.member_labels[k]])
     parts.append(_table(["Member", "i", "j", "L [m]", "Section", "Material", "Kind", "Releases", "Source"],
                         mem_rows, left_cols=3))
+    parts.append(_csv_note(csv_names, "members", len(shown_members), frame.n_members,
+                           "members (the governing ones)" if len(shown_members) < frame.n_members else "members"))
 
     parts.append("<h2 id='indeterminacy'>Indeterminacy</h2>")
     if ind is not None:
@@ -214,10 +223,14 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
                               "(N and V towards local +z or +y; moments on the stretched side)"))
         sup = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
         heads = ["Node"] + [f"{REACTION_NAMES[c]} [{'kN' if c < 3 else 'kN·m'}]" for c in active]
-        rows = [[frame.node_ids[i], *(_num(cr.reactions[i, c], 1e3) for c in active)] for i in sup]
+        shown_sup = sup if sup.size <= SHOWN else sup[largest(np.linalg.norm(cr.reactions[sup, :3], axis=1))]
+        rows = [[frame.node_ids[i], *(_num(cr.reactions[i, c], 1e3) for c in active)] for i in shown_sup]
         total = ["sum", *(_num(cr.reactions[sup, c].sum(), 1e3) if c < 3 else "" for c in active)]
-        parts.append("<p><b>Reactions</b> (forces the supports exert on the structure, global axes)</p>")
+        parts.append("<p><b>Reactions</b> (forces the supports exert on the structure, global axes"
+                     + (f"; the {len(shown_sup)} largest, the sum over all {sup.size}" if len(shown_sup) < sup.size
+                        else "") + ")</p>")
         parts.append(_table(heads, rows + [total]))
+        parts.append(_csv_note(csv_names, "reactions", len(shown_sup), int(sup.size), "supports"))
         d = cr.displacements
         tn = np.linalg.norm(d[:, :3], axis=1)
         order = np.argsort(-tn)[: min(12, frame.n_nodes)]
@@ -225,6 +238,7 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
         rows = [[frame.node_ids[i], *(_num(d[i, c], 1e-3, 3) for c in active)] for i in order]
         parts.append(f"<p><b>Displacements</b> (global axes; the {len(order)} largest)</p>")
         parts.append(_table(heads, rows))
+        parts.append(_csv_note(csv_names, "displacements", len(order), frame.n_nodes, "nodes"))
 
     parts.append("<h2 id='members'>Member forces: envelope over all cases and combinations</h2>")
     parts.append("<p>Internal forces in member axes (x from end i to end j, z from the member's Axis, "
@@ -234,7 +248,10 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
     for a in ACTION_NAMES:
         heads += [f"{a} min", f"{a} max"]
     heads += ["δ [mm]", "span/δ", "governing moment"]
-    parts.append(_table(heads, _member_rows(results)))
+    parts.append(_table(heads, _member_rows(results, env, shown_members)))
+    parts.append(_csv_note(csv_names, "member_forces", len(shown_members), frame.n_members,
+                           "members (the governing ones: largest |N|, |V|, |M| and deflection in turn)"
+                           if len(shown_members) < frame.n_members else "members"))
 
     from .stability import stability_section
 
@@ -272,9 +289,15 @@ def write_report(path, model, results, indeterminacy=None, *, date: _dt.datetime
     folder = os.path.dirname(os.path.abspath(path))
     if not os.path.isdir(folder):
         raise AnalysisError(f"{path}: cannot write the report: the folder {folder} does not exist")
-    text = build_report(model, results, indeterminacy, date=date)
     from ..fileio import atomic_text
+    from .tables import csv_paths, csv_tables, member_envelope
 
+    env = member_envelope(results)
+    paths = csv_paths(path)
+    text = build_report(model, results, indeterminacy, date=date, env=env,
+                        csv_names={k: os.path.basename(v) for k, v in paths.items()})
+    for name, table in csv_tables(results, env).items():  # the complete tables beside the report
+        atomic_text(paths[name], table, suffix=".csv")
     atomic_text(path, text, suffix=".html")
     return path
 

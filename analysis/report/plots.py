@@ -66,6 +66,15 @@ def project(points, view):
     return P[:, list(view)]
 
 
+#: above this many members the diagrams are drawn as members coloured by their peak value (`_coloured_members`)
+LARGE = 1500
+
+
+def _line_width(frame, lw: float) -> float:
+    """Thinner lines as the member count grows, so that a building stays a drawing and not a blot."""
+    return lw if frame.n_members <= 200 else max(0.12, lw * math.sqrt(200.0 / frame.n_members))
+
+
 def _draw_frame(ax, frame, view, color="0.25", lw=1.6, labels=True, supports=True):
     P = project(frame.nodes, view)
     many = frame.n_members > 60
@@ -73,7 +82,7 @@ def _draw_frame(ax, frame, view, color="0.25", lw=1.6, labels=True, supports=Tru
         segs = P[frame.members]  # (m,2,2)
         from matplotlib.collections import LineCollection
 
-        ax.add_collection(LineCollection(segs, colors=color, linewidths=lw, zorder=2))
+        ax.add_collection(LineCollection(segs, colors=color, linewidths=_line_width(frame, lw), zorder=2))
     if labels and not many:
         for k in range(frame.n_members):
             mid = P[frame.members[k]].mean(axis=0)
@@ -85,7 +94,8 @@ def _draw_frame(ax, frame, view, color="0.25", lw=1.6, labels=True, supports=Tru
         for marker, mask, label in (("s", fixed, "fixed support"), ("^", ~fixed, "partial support or spring")):
             idx = sup[mask]
             if idx.size:
-                ax.scatter(P[idx, 0], P[idx, 1], marker=marker, s=70 if labels else 40, c="#c0392b", zorder=4,
+                size = (70 if labels else 40) if sup.size <= 100 else 6
+                ax.scatter(P[idx, 0], P[idx, 1], marker=marker, s=size, c="#c0392b", zorder=4,
                            label=label, edgecolors="black", linewidths=0.5)
     if labels and frame.n_nodes <= 80:
         for i, nid in enumerate(frame.node_ids):
@@ -226,8 +236,74 @@ def _fmt_value(v: float, action: str) -> str:
 _COLOURS = {"N": "#8e44ad", "Vy": "#16a085", "Vz": "#16a085", "T": "#7f8c8d", "My": "#c0392b", "Mz": "#d35400"}
 
 
+def _coloured_members(ax, frame, view, values, cmap: str, label: str, lw: float = 1.2):
+    """Members drawn in the colour of one value each (a building's diagrams, legible at any member count)."""
+    from matplotlib.collections import LineCollection
+
+    P = project(frame.nodes, view)
+    v = np.asarray(values, float)
+    order = np.argsort(v, kind="stable")  # the largest drawn last, on top
+    lc = LineCollection(P[frame.members][order], array=v[order], cmap=cmap, linewidths=_line_width(frame, lw) * 2,
+                        zorder=3)
+    ax.add_collection(lc)
+    ax.figure.colorbar(lc, ax=ax, shrink=0.8, pad=0.01).set_label(label, fontsize=8)
+    return P
+
+
+def _large_case_figure(results, case: str, actions) -> str:
+    """`case_figure` of a building: the deformed shape from the nodal displacements, and per action its
+    largest magnitude along each member as the member's colour."""
+    plt = _mpl()
+    from matplotlib.collections import LineCollection
+
+    frame = results.frame
+    view = view_axes(results) or "iso"
+    panels = ["deformed", *actions]
+    nrow = (len(panels) + 1) // 2
+    fig, axs = plt.subplots(nrow, 2, figsize=(12, 4.8 * nrow), squeeze=False)
+    for ax in axs.ravel()[len(panels):]:
+        ax.set_visible(False)
+    cr = results.case(case)
+    lo, hi = results.force_ranges(case)
+    base = project(frame.nodes, view)
+    for ax, what in zip(axs.ravel(), panels):
+        if what == "deformed":
+            u = cr.displacements[:, :3]
+            peak = float(np.linalg.norm(u, axis=1).max(initial=0.0))
+            scale = _size(frame) / 15 / peak if peak > 0 else 0.0
+            moved = project(frame.nodes + scale * u, view)
+            _draw_frame(ax, frame, view, color="0.8", lw=1.0, labels=False, supports=True)
+            ax.add_collection(LineCollection(moved[frame.members], colors="#1f4e9c",
+                                             linewidths=_line_width(frame, 1.6), zorder=3))
+            pts = np.concatenate([base, moved])
+            title = (f"Deformed shape (largest {peak * 1e3:.2f} mm, drawn ×{scale:.3g}; joints joined straight)"
+                     if peak > 0 else "Deformed shape (no displacement)")
+        else:
+            i = ("N", "Vy", "Vz", "T", "My", "Mz").index(what)
+            if what == "N":
+                value = np.where(np.abs(lo[:, 0]) > np.abs(hi[:, 0]), lo[:, 0], hi[:, 0]) / 1e3
+                lim = float(np.abs(value).max(initial=0.0)) or 1.0
+                P = _coloured_members(ax, frame, view, value, "coolwarm_r", "N [kN] (largest magnitude; < 0 compression)")
+                ax.collections[-1].set_clim(-lim, lim)
+            else:
+                value = np.maximum(np.abs(lo[:, i]), np.abs(hi[:, i])) / 1e3
+                unit = "kN" if what in ("Vy", "Vz") else "kN·m"
+                P = _coloured_members(ax, frame, view, value, "viridis", f"|{what}| max along the member [{unit}]")
+            pts = P
+            title = f"{what}: largest magnitude per member ({_fmt_value(float(np.abs(value).max(initial=0.0)) * 1e3, what)})"
+        _setup(ax, view, title, pts)
+    fig.suptitle(case, fontsize=12)
+    fig.subplots_adjust(left=0.04, right=0.97, top=1 - 0.45 / (4.8 * nrow), bottom=0.5 / (4.8 * nrow), wspace=0.12,
+                        hspace=0.3)
+    return to_png_base64(fig, dpi=80)
+
+
 def case_figure(results, case: str, actions=("N", "Vz", "My")) -> str:
-    """One figure per case: deformed shape and the diagrams of ``actions`` drawn on the frame (base64 PNG)."""
+    """One figure per case: deformed shape and the diagrams of ``actions`` drawn on the frame (base64 PNG).
+
+    Above `LARGE` members the diagrams become member colours (`_large_case_figure`)."""
+    if results.frame.n_members > LARGE:
+        return _large_case_figure(results, case, actions)
     plt = _mpl()
     from matplotlib.collections import LineCollection, PolyCollection
 

@@ -60,7 +60,8 @@ def test_report_sections_images_and_caution(steel, ipe300, space, tmp_path):
     for mid in frame.member_ids:
         assert f"<td class='l'>{mid}</td>" in text
     # self-contained: no external references, images decode as PNG
-    assert not re.search(r"(src|href)=['\"](?!data:|#)", text)
+    # (the complete tables are CSV files beside it, linked by their bare names)
+    assert not re.search(r"(src|href)=['\"](?!data:|#|r\.[a-z_]+\.csv['\"])", text)
     images = re.findall(r"data:image/png;base64,([A-Za-z0-9+/=]+)", text)
     assert len(images) == 2 + 3  # overview (elevation + 3D view) + one figure per case and combination
     from PIL import Image
@@ -93,3 +94,37 @@ def test_report_refuses_missing_folder(steel, ipe300, tmp_path):
     res = analyze(frame, AnalysisOptions(plane=True))
     with pytest.raises(AnalysisError, match="does not exist"):
         write_report(tmp_path / "missing" / "r.html", _model(frame), res)
+
+
+def test_large_frame_report_shows_the_governing_rows_and_writes_complete_csv(steel, ipe300, tmp_path):
+    """A frame with more members than the report shows: short tables in the HTML, every row in the CSVs."""
+    import csv
+
+    from analysis.report import write_report
+    from analysis.report.tables import SHOWN
+
+    b = FrameBuilder(name="long girder")
+    n = 70  # a continuous beam on supports every 2 m: 70 members, 71 supports
+    for i in range(n + 1):
+        b.add_node(f"N{i}", (2.0 * i, 0, 0), support="pinned" if i else "fixed")
+    for i in range(n):
+        b.add_member(f"M{i}", f"N{i}", f"N{i + 1}", ipe300, steel)
+    b.add_case(LoadCase("P", nodal=(NodalLoad("N35", (0, 0, -50e3, 0, 0, 0)), NodalLoad("N35", (0, 0, 0, 0, 1e3, 0)))))
+    frame = b.build()
+    res = analyze(frame, AnalysisOptions(plane=True))
+    path = tmp_path / "r.html"
+    write_report(path, _model(frame), res, None)
+    text = path.read_text(encoding="utf-8")
+    envelope = text.split("id='members'")[1].split("id='equilibrium'")[0]
+    rows = re.findall(r"<tr><td class='l'>(M\d+)</td>", envelope)
+    assert len(rows) == SHOWN < n
+    # the largest bending moment (span moment next to the load, statics) heads the table
+    assert rows[0] in ("M34", "M35")
+    assert "r.member_forces.csv" in text and "of 70 members" in text
+    with open(tmp_path / "r.member_forces.csv", newline="") as fh:
+        table = list(csv.DictReader(fh))
+    assert [r["member"] for r in table] == list(frame.member_ids)
+    lo, hi = res.force_ranges("P")
+    assert [float(r["My_max"]) for r in table] == hi[:, 4].tolist()  # exact: repr of every double
+    with open(tmp_path / "r.reactions.csv", newline="") as fh:
+        assert len(list(csv.DictReader(fh))) == n + 1
