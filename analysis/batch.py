@@ -39,7 +39,6 @@ from __future__ import annotations
 
 import argparse
 import csv
-import dataclasses
 import datetime as _dt
 import glob
 import hashlib
@@ -56,7 +55,6 @@ import tempfile
 import threading
 import time
 from dataclasses import dataclass, field
-from pathlib import Path
 from typing import Any, Callable, Iterable, Sequence
 
 __all__ = [
