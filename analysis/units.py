@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import logging
 import math
-from dataclasses import dataclass, fields
+from dataclasses import dataclass, field, fields
 from typing import TYPE_CHECKING, Any
 
 import numpy as np
@@ -39,6 +39,8 @@ __all__ = [
     "to_si",
     "from_si",
     "section_to_si",
+    "warn_derived_in_use",
+    "derived_units_note",
 ]
 
 logger = logging.getLogger(__name__)
@@ -95,7 +97,9 @@ class UnitScales:
     thermal_expansion [1/K].
 
     ``derived`` names the unit types that the file does not declare and that
-    were derived from base units.
+    were derived from base units. ``used`` records which derived fields were
+    read (a value of the model was converted with them): the reader warns
+    only for undeclared types among those (:func:`warn_derived_in_use`).
     """
 
     length: float = 1.0
@@ -125,6 +129,12 @@ class UnitScales:
     subgrade_reaction: float = 1.0
     thermal_expansion: float = 1.0
     derived: tuple[str, ...] = ()
+    used: set[str] = field(default_factory=set, compare=False, repr=False, hash=False)
+
+    def __getattribute__(self, name: str) -> Any:
+        if name in _DERIVED_FIELDS:
+            object.__getattribute__(self, "used").add(name)
+        return object.__getattribute__(self, name)
 
 
 #: Scales of a file that is SI throughout.
@@ -160,6 +170,49 @@ def _derived_from_base(b: dict[str, float]) -> dict[str, float]:
         "subgrade_reaction": F / L**3,
         "thermal_expansion": 1.0 / T,
     }
+
+
+#: the fields derived from base units when the file does not declare them (their use is recorded)
+_DERIVED_FIELDS = frozenset(_derived_from_base(dict.fromkeys(
+    ("length", "force", "mass", "angle", "temperature_difference"), 1.0)))
+
+
+def warn_derived_in_use(scales: UnitScales) -> list[str]:
+    """Warn for each undeclared unit type that converted a value of the model; returns those types.
+
+    Unit types that the file does not declare but that no value was read in
+    were logged at INFO level by :func:`unit_scales` (``--verbose``) and are
+    listed in the reader's notes (:func:`derived_units_note`). A file without
+    any unit assignment had its one warning already.
+    """
+    derived = set(scales.derived)
+    if derived >= set(UNIT_TYPES.values()):
+        return []
+    used = object.__getattribute__(scales, "used")
+    out = []
+    for name in sorted(used, key=list(UNIT_TYPES).index):
+        unit_type = UNIT_TYPES[name]
+        if unit_type in derived:
+            logger.warning("%s is not declared in the file: values of the model in it were converted with %.6g "
+                           "(derived from the base units)", unit_type, object.__getattribute__(scales, name))
+            out.append(unit_type)
+    return out
+
+
+def derived_units_note(scales: UnitScales) -> str | None:
+    """The reader's note on undeclared unit types: those the model's values used, and the rest."""
+    if not scales.derived:
+        return None
+    used = {UNIT_TYPES[n] for n in object.__getattribute__(scales, "used")}
+    inuse = [t for t in scales.derived if t in used]
+    rest = [t for t in scales.derived if t not in used]
+    text = "Unit types not declared in the file, derived from the base units: "
+    if inuse:
+        text += ", ".join(inuse) + " (values of the model were converted with them)"
+        text += ("; not used by the model's values: " + ", ".join(rest)) if rest else ""
+    else:
+        text += ", ".join(rest) + " (none of them used by the model's values)"
+    return text + "."
 
 
 _BASE_DEFAULTS = {
@@ -364,8 +417,9 @@ def unit_scales(ifc_file: "ifcopenshell.file") -> UnitScales:
     -----
     Declared types come from ``ifcopenshell.util.unit.calculate_unit_scale``
     (prefixes included: milli plus AREAUNIT gives 1e-6). A type the file does
-    not declare is derived from the base units and logged as a warning
-    naming the type; undeclared base units default to SI (an undeclared
+    not declare is derived from the base units and logged at INFO level
+    naming the type (the reader then warns for the types its values used,
+    :func:`warn_derived_in_use`); undeclared base units default to SI (an undeclared
     FORCEUNIT means newton). A file without any unit assignment is taken as
     metres and newtons, with a warning.
 
@@ -399,16 +453,13 @@ def unit_scales(ifc_file: "ifcopenshell.file") -> UnitScales:
         unit_type = UNIT_TYPES[name]
         scale = _declared_scale(ifc_file, assignment, via_project, unit_type)
         if scale is None:
-            logger.warning(  # the reader lists these in its notes: the CLI summary leaves them out
-                "%s is not declared in the file: derived from the base units as %.6g",
-                unit_type,
-                scale_from_base,
-                extra={"plumbframe_noted": True},
-            )
+            # INFO only: the reader warns for those the model's values use (warn_derived_in_use) and notes the rest
+            logger.info("%s is not declared in the file: derived from the base units as %.6g", unit_type,
+                        scale_from_base)
             scale = scale_from_base
             derived.append(unit_type)
         values[name] = scale
-    return UnitScales(**values, derived=tuple(derived))
+    return UnitScales(**values, derived=tuple(derived))  # type: ignore[arg-type]  # floats only
 
 
 def angle_scale(ifc_file: "ifcopenshell.file") -> float:

@@ -280,7 +280,7 @@ class _ConnectionIndex:
 def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, support_level: float | None = None,
              defaults: ReaderDefaults | Mapping[str, Any] | None = None, area_loads=None, select: str | None = None,
              exclude: str | None = None, supports: Sequence[str] = (), strict: bool = False,
-             members: str | None = None, materials: Any = None) -> IfcModel:
+             members: str | None = None, materials: Any = None, progress=None) -> IfcModel:
     """Read an IFC2X3 / IFC4 / IFC4X3 file into an analytical frame (SI units).
 
     Parameters
@@ -340,8 +340,6 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
               if model is not None or m.Description != "plumbframe derived analytical model"]
     listed = [(str(m.Name or ""), str(m.GlobalId)) for m in models]
     notes: list[str] = []
-    if scales.derived:
-        notes.append("Unit types not declared in the file, derived from the base units: " + ", ".join(scales.derived) + ".")
     if not models:
         if model is not None:
             raise IfcInputError(f"{path}: no IfcStructuralAnalysisModel in the file (asked for {model!r})")
@@ -358,6 +356,7 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
         frame, axial_notes = _axial_properties(ifc_file, frame, physical)
         notes += axial_notes
         source.diagnostics.extend(_check_magnitudes(frame, path))
+        _unit_notes(scales, notes)
         return IfcModel(frame=frame, diagnostics=source.diagnostics + list(diagnostics), route="physical", schema=schema,
                         analysis_models=[], path=path, units=scales, notes=notes + list(derive_notes), physical=physical,
                         source_stamp=source.stamp, left_out=list(derived.left_out))
@@ -369,6 +368,7 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
     else:
         notes.append(f"Read the structural analysis model {entity_label(chosen)}.")
     reader = _StructuralReader(ifc_file, chosen, scales, defaults)
+    reader.progress = progress  # optional callable(step: str): members read so far
     frame = reader.read()
     frame, axial_notes = _axial_properties(ifc_file, frame, reader.physical)
     source.diagnostics.extend(_check_magnitudes(frame, path))
@@ -376,9 +376,20 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
     if plane:
         notes.append(f"{entity_label(chosen)} declares in-plane 2D loading: analysed as a plane frame in its own "
                      "plane unless a space analysis is asked for.")
+    _unit_notes(scales, notes)
     return IfcModel(frame=frame, diagnostics=source.diagnostics + reader.diagnostics, route="structural", schema=schema,
                     analysis_models=listed, path=path, units=scales, notes=notes + reader.notes + axial_notes,
                     physical=reader.physical, plane=plane, source_stamp=source.stamp)
+
+
+def _unit_notes(scales, notes: list[str]) -> None:
+    """Warn for the undeclared unit types the model's values were read in; note all undeclared ones first."""
+    from ..units import derived_units_note, warn_derived_in_use
+
+    warn_derived_in_use(scales)
+    note = derived_units_note(scales)
+    if note:
+        notes.insert(0, note)
 
 
 def _axial_properties(ifc_file, frame: Frame, physical: dict) -> tuple[Frame, list[str]]:
@@ -512,6 +523,8 @@ def _unique_ids(entities: list[Entity]) -> dict[int, str]:
 # --------------------------------------------------------------------------- route 1
 class _StructuralReader:
     """Route 1: one IfcStructuralAnalysisModel -> Frame. Steps in `read`."""
+
+    progress: Any = None  # optional callable(step: str), told the members read so far
 
     def __init__(self, ifc_file: Any, model: Entity, scales: UnitScales, defaults: ReaderDefaults | None) -> None:
         self.f = ifc_file
@@ -650,7 +663,12 @@ class _StructuralReader:
             raise self.fail(self.model, "the structural analysis model has no IfcStructuralCurveMember")
         self.member_ids = _unique_ids(members)
         self.node_ids = {}
-        ends = {m.id(): self._member_ends(m) for m in members}
+        say = self.progress or (lambda step: None)
+        ends = {}
+        for n, m in enumerate(members):
+            if n % 5000 == 0:
+                say(f"reading: member ends, {n:,} of {len(members):,} members")
+            ends[m.id()] = self._member_ends(m)
         used = {}
         for m in members:
             for rel, conn in ends[m.id()]["conns"]:
@@ -688,8 +706,11 @@ class _StructuralReader:
         material_cache["resolver"].raise_unknown()
         if material_cache["resolver"].summary():
             self.notes.append(material_cache["resolver"].summary())
-        for m in members:
+        for n, m in enumerate(members):
+            if n % 5000 == 0:
+                say(f"reading: sections and axes, {n:,} of {len(members):,} members")
             self._member(m, ends[m.id()], need_density, material_cache)
+        say(f"reading: loads on {len(members):,} members")
         self._loads()
         try:
             return b.build()
@@ -1517,7 +1538,8 @@ class _StructuralReader:
             return [], []
         if load.is_a("IfcStructuralLoadSingleForce"):
             F = np.array([float(getattr(load, f"Force{a}", None) or 0.0) for a in "XYZ"]) * self.s.force
-            M = np.array([float(getattr(load, f"Moment{a}", None) or 0.0) for a in "XYZ"]) * self.s.moment
+            M = np.array([float(getattr(load, f"Moment{a}", None) or 0.0) for a in "XYZ"])
+            M = M * self.s.moment if M.any() else M  # the moment unit counts as used only where a moment is given
             if load.is_a("IfcStructuralLoadSingleForceWarping") and getattr(load, "WarpingMoment", None):
                 self.warn(action, "warping moment ignored (no warping degree of freedom)")
             fx, fy, fz, mx, my, mz = (np.concatenate([R @ F, R @ M]) * factor).tolist()
@@ -1563,7 +1585,8 @@ class _StructuralReader:
                 raise self.fail(action, f"point action lies off {entity_label(member)} (at {pos:.6g} m along it, {dist:.3g} m away)")
             pos = min(max(pos, 0.0), L)
             F = R @ np.array([float(getattr(load, f"Force{a}", None) or 0.0) for a in "XYZ"]) * self.s.force * factor
-            M = R @ np.array([float(getattr(load, f"Moment{a}", None) or 0.0) for a in "XYZ"]) * self.s.moment * factor
+            M = R @ np.array([float(getattr(load, f"Moment{a}", None) or 0.0) for a in "XYZ"]) * factor
+            M = M * self.s.moment if M.any() else M
             out: list[PointLoad | LineLoad] = []
             axes_name = "local" if local else "global"
             for k, a in enumerate("xyz"):

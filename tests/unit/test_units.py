@@ -12,7 +12,8 @@ import ifcopenshell  # noqa: E402  (a hard dependency: never skipped)
 import ifcopenshell.guid  # noqa: E402
 
 from analysis.ifc.sections import SectionProperties  # noqa: E402
-from analysis.units import SI_SCALES, UnitScales, from_si, section_to_si, to_si, unit_scales  # noqa: E402
+from analysis.units import (  # noqa: E402
+    SI_SCALES, UnitScales, derived_units_note, from_si, section_to_si, to_si, unit_scales, warn_derived_in_use)
 
 SCHEMAS = ["IFC2X3", "IFC4", "IFC4X3"]
 
@@ -66,7 +67,11 @@ def test_mm_kn_file(schema, caplog):
     assert s.mass_density == pytest.approx(1e9)  # kg/mm³
     assert s.volume == pytest.approx(1e-9)
     assert "MOMENTOFINERTIAUNIT" in s.derived and "LENGTHUNIT" not in s.derived
-    assert "MOMENTOFINERTIAUNIT" in caplog.text
+    # an undeclared type is logged at INFO when derived; the warning comes once a value was read in it
+    assert "MOMENTOFINERTIAUNIT" not in caplog.text
+    with caplog.at_level(logging.WARNING, logger="analysis.units"):
+        warned = warn_derived_in_use(s)
+    assert "MOMENTOFINERTIAUNIT" in warned and "MOMENTOFINERTIAUNIT" in caplog.text
 
 
 @pytest.mark.parametrize("schema", SCHEMAS)
@@ -74,7 +79,8 @@ def test_undeclared_moment_of_inertia_is_derived_and_warned(schema, caplog):
     f = _project_file(schema, lambda f: [_si(f, "LENGTHUNIT", "METRE", "CENTI")])
     with caplog.at_level(logging.WARNING, logger="analysis.units"):
         s = unit_scales(f)
-    assert s.moment_of_inertia == pytest.approx(1e-8)  # cm⁴ = 1e-8 m⁴
+        assert s.moment_of_inertia == pytest.approx(1e-8)  # cm⁴ = 1e-8 m⁴
+        warn_derived_in_use(s)
     records = [r.getMessage() for r in caplog.records if r.levelno == logging.WARNING]
     assert any("MOMENTOFINERTIAUNIT" in m for m in records)
     # the undeclared FORCEUNIT defaults to newton, and says so
@@ -160,4 +166,66 @@ def test_section_to_si():
 
 
 def test_si_scales_are_identity():
-    assert all(getattr(SI_SCALES, f) == 1.0 for f in UnitScales.__slots__ if f != "derived")
+    assert all(getattr(SI_SCALES, f) == 1.0 for f in UnitScales.__slots__ if f not in ("derived", "used"))
+
+
+# --------------------------------------------------------------------------- warnings only for the units in use
+def _portal_file(tmp_path, *, moment=False, declare_linear_force=False):
+    """The bundled workshop portal (m, N, Pa; it declares neither TORQUEUNIT nor LINEARFORCEUNIT), optionally
+    with a moment on one point action, or with LINEARFORCEUNIT declared as N/m."""
+    from analysis.samples import write_sample
+
+    path = tmp_path / "portal.ifc"
+    write_sample("workshop_portal", path)
+    f = ifcopenshell.open(str(path))
+    if moment:
+        load = f.by_type("IfcStructuralLoadSingleForce")[0]
+        load.MomentY = 5e3
+    if declare_linear_force:
+        assignment = f.by_type("IfcProject")[0].UnitsInContext
+        newton = _si(f, "FORCEUNIT", "NEWTON")
+        metre = _si(f, "LENGTHUNIT", "METRE")
+        lf = f.createIfcDerivedUnit([f.createIfcDerivedUnitElement(newton, 1), f.createIfcDerivedUnitElement(metre, -1)],
+                                    "LINEARFORCEUNIT", None)
+        assignment.Units = list(assignment.Units) + [lf]
+    f.write(str(path))
+    return path
+
+
+def _unit_warnings(caplog):
+    return [r.getMessage() for r in caplog.records if r.levelno >= logging.WARNING and r.name == "analysis.units"]
+
+
+def test_undeclared_unit_warns_only_where_the_model_uses_it(tmp_path, caplog):
+    """An undeclared unit type that no value of the model is given in gives no warning (INFO only, and a note);
+    one that converts the model's values does. Dimensional analysis: N/m from N and m (common practice, no
+    source); IfcUnitAssignment may leave any unit type out (IFC 4.3, IfcUnitAssignment — from memory)."""
+    from analysis.ifc.reader import read_ifc
+
+    assert ifcopenshell.open(str(_portal_file(tmp_path))).by_type("IfcStructuralLoadLinearForce")  # line loads in use
+    with caplog.at_level(logging.INFO, logger="analysis.units"):
+        model = read_ifc(_portal_file(tmp_path))
+    warned = _unit_warnings(caplog)
+    assert any("LINEARFORCEUNIT" in m for m in warned)  # the line loads are given in it
+    for unused in ("TORQUEUNIT", "THERMALEXPANSIONCOEFFICIENTUNIT", "WARPINGCONSTANTUNIT",
+                   "MODULUSOFSUBGRADEREACTIONUNIT", "MOMENTOFINERTIAUNIT"):
+        assert not any(unused in m for m in warned), unused
+        assert any(unused in r.getMessage() for r in caplog.records if r.levelno == logging.INFO)  # --verbose
+    note = next(n for n in model.notes if n.startswith("Unit types not declared"))
+    assert "TORQUEUNIT" in note and "THERMALEXPANSIONCOEFFICIENTUNIT" in note  # the report's notes keep them all
+    assert note.index("LINEARFORCEUNIT") < note.index("not used") < note.index("TORQUEUNIT")
+
+    caplog.clear()
+    with caplog.at_level(logging.WARNING, logger="analysis.units"):
+        read_ifc(_portal_file(tmp_path, moment=True, declare_linear_force=True))
+    warned = _unit_warnings(caplog)
+    assert any("TORQUEUNIT" in m for m in warned)  # now a point action carries a moment in it
+    assert not any("LINEARFORCEUNIT" in m for m in warned)  # declared: nothing to warn about
+
+
+def test_note_without_any_use():
+    s = UnitScales(derived=("TORQUEUNIT",))
+    assert "none of them used" in derived_units_note(s)
+    assert warn_derived_in_use(s) == []
+    s.moment  # noqa: B018  (reading a value in it counts as use)
+    assert warn_derived_in_use(s) == ["TORQUEUNIT"]
