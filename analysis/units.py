@@ -136,6 +136,16 @@ class UnitScales:
             object.__getattribute__(self, "used").add(name)
         return object.__getattribute__(self, name)
 
+    def __reduce__(self):  # a copy (pickle, dask) neither marks every field as used nor loses the record
+        get = object.__getattribute__
+        values = {f.name: get(self, f.name) for f in fields(UnitScales)}
+        values["used"] = set(values["used"])
+        return (_unit_scales_from, (values,))
+
+
+def _unit_scales_from(values: dict) -> UnitScales:
+    return UnitScales(**values)
+
 
 #: Scales of a file that is SI throughout.
 SI_SCALES = UnitScales()
