@@ -188,15 +188,18 @@ def body_meshes(ifc_file, entities: Sequence[Any], *, threads: int | None = None
             error = exc
             continue
         raw = []
-        if it.initialize():
-            while True:
-                shape = it.get()
-                g = shape.geometry
-                raw.append((int(shape.id), np.frombuffer(g.verts_buffer, dtype=np.float64).reshape(-1, 3),
-                            np.frombuffer(g.faces_buffer, dtype=np.int32).reshape(-1, 3),
-                            np.asarray(shape.transformation.matrix, dtype=np.float64).reshape(4, 4).T))
-                if not it.next():
-                    break
+        try:
+            if it.initialize():
+                while True:
+                    shape = it.get()
+                    g = shape.geometry
+                    raw.append((int(shape.id), np.frombuffer(g.verts_buffer, dtype=np.float64).reshape(-1, 3),
+                                np.frombuffer(g.faces_buffer, dtype=np.int32).reshape(-1, 3),
+                                np.asarray(shape.transformation.matrix, dtype=np.float64).reshape(4, 4).T))
+                    if not it.next():
+                        break
+        except RuntimeError as exc:  # the kernel gave up part-way: the rest are failures with their reason
+            logger.warning("geometry kernel stopped after %d of %d bodies: %s", len(raw), len(entities), exc)
         error = None
         break
     if error is not None:
