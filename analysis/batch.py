@@ -767,6 +767,11 @@ def _dask(tasks: Sequence[ModelTask], progress: _Progress, verbose: bool, done: 
             except (OSError, TimeoutError) as exc:
                 raise AnalysisError(f"{scheduler}: no Dask scheduler answers there ({exc})") from None
             where = f"the Dask cluster at {scheduler} ({len(client.scheduler_info().get('workers', {}))} workers)"
+            try:
+                if "dashboard" in client.scheduler_info().get("services", {}):
+                    progress.con.say(f"  Dask dashboard: {client.dashboard_link}")
+            except Exception:  # pragma: no cover - the link is a convenience
+                pass
         else:
             n = max(1, min(workers or _cores(), len(tasks)))
             progress.con.progress(f"starting {n} Dask worker process{'es' if n > 1 else ''}")
@@ -980,17 +985,17 @@ def _batch(args, con, out_dir: str, use_dask: bool, version: str) -> int:
         progress.finished(rows[task.key])
 
     where = "nothing to run"
-    interrupted = False
+    stopped = 0
     try:
         if todo:
             if use_dask:
                 where = _dask(todo, progress, args.verbose, done, scheduler=args.scheduler, workers=args.workers)
             else:
                 where = _serial(todo, progress, args.verbose, done)
-    except KeyboardInterrupt:
-        interrupted = True
+    except KeyboardInterrupt as exc:  # Ctrl-C, or SIGTERM (the CLI raises it as a KeyboardInterrupt subclass)
+        stopped = 143 if type(exc).__name__ == "Terminated" else 130
     ordered = [rows[t.key] for t in tasks if t.key in rows]
-    code = 130 if interrupted else batch_exit_code(ordered)
+    code = stopped or batch_exit_code(ordered)
     meta = {"schema": SUMMARY_SCHEMA, "plumbframe": version,
             "created": _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0).isoformat(),
             "inputs": list(args.inputs), "ran": where, "seconds": round(time.perf_counter() - t0, 3),
@@ -1024,7 +1029,7 @@ def _final_lines(con, rows, total, where, seconds, paths, code) -> None:
             con.say(f"  {r['status']:<14} {r.get('folder') or r['file']}: {_short(r.get('message') or '')}")
     for p in paths:
         con.say(f"  wrote      {p}")
-    if code == 130:
-        con.error("interrupted; the models finished so far are in the summary")
+    if code in (130, 143):
+        con.error(f"{'interrupted' if code == 130 else 'terminated'}; the models finished so far are in the summary")
     con.say("")
     con.say(CAUTION)
