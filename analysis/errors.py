@@ -97,9 +97,16 @@ def entity_label(entity, global_id: bool = True) -> str:
 def entity_global_id(entity) -> str | None:
     """The GlobalId of an IfcRoot entity, None for other entities (profiles, points, units)."""
     try:
-        if not entity.is_a("IfcRoot"):
+        cls = entity.is_a()
+        rooted = _ROOTED.get(cls)
+        if rooted is None:
+            rooted = _ROOTED[cls] = bool(entity.is_a("IfcRoot"))
+        if not rooted:
             return None
-        gid = entity[0]
+        gid = entity.get_argument(0)  # IfcRoot.GlobalId in every schema
     except Exception:  # not an ifcopenshell entity, or an unreadable attribute
         return None
     return str(gid) if gid else None
+
+
+_ROOTED: dict[str, bool] = {}  # class name -> is an IfcRoot (the same in every schema)

@@ -178,17 +178,23 @@ def plausibility_warnings(frame: Frame) -> list:
     from .errors import Diagnostic
 
     out = []
-    names = list(frame.material_names) if len(frame.material_names) == frame.n_members else [""] * frame.n_members
+    names = np.array(list(frame.material_names) if len(frame.material_names) == frame.n_members
+                     else [""] * frame.n_members, dtype=object)
     seen: dict[tuple[str, str, float], int] = {}
-    for k in range(frame.n_members):
-        family, ranges = _family(names[k])
+    if not frame.n_members:
+        return out
+    unique, inverse = np.unique(names.astype(str), return_inverse=True)
+    for u, name in enumerate(unique):  # one family look-up per material name
+        rows = inverse == u
+        family, ranges = _family(str(name))
         for key, values in (("E", frame.E), ("G", frame.G), ("density", frame.density)):
-            v = float(values[k])
+            v = np.asarray(values, dtype=float)[rows]
             low, high = ranges[key]
-            if v == 0.0 and key != "E":
-                continue  # not given (a bar's G, a weightless member)
-            if not low <= v <= high:
-                seen[(names[k], key, v)] = seen.get((names[k], key, v), 0) + 1
+            bad = (v < low) | (v > high)
+            if key != "E":
+                bad &= v != 0.0  # not given (a bar's G, a weightless member)
+            for x in np.unique(v[bad]):
+                seen[(str(name), key, float(x))] = int(np.count_nonzero(v[bad] == x))
     for (name, key, v), count in seen.items():
         family, ranges = _family(name)
         low, high = ranges[key]

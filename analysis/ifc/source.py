@@ -391,12 +391,12 @@ def _findings(path: str, parse_path: str, shift: int, f, log: list) -> tuple[lis
 def _duplicate_global_ids(path: str, f) -> list[Diagnostic]:
     seen: dict[str, Any] = {}
     found: list[tuple[Any, Any]] = []
-    try:
-        roots = f.by_type("IfcRoot")
-    except Exception:  # a schema without IfcRoot cannot happen for IFC; be safe
+    try:  # the entities results and links are matched by: products (elements, structural items) and groups
+        roots = f.by_type("IfcProduct") + f.by_type("IfcGroup")
+    except Exception:  # a schema without them cannot happen for IFC; be safe
         return []
     for e in roots:
-        gid = e[0]
+        gid = e.get_argument(0)
         if not gid:
             continue
         other = seen.get(gid)
