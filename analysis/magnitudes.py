@@ -177,7 +177,7 @@ def plausibility_warnings(frame: Frame) -> list:
     """
     from .errors import Diagnostic
 
-    out = []
+    out: list[Diagnostic] = []
     names = np.array(list(frame.material_names) if len(frame.material_names) == frame.n_members
                      else [""] * frame.n_members, dtype=object)
     seen: dict[tuple[str, str, float], int] = {}
