@@ -283,6 +283,25 @@ def test_variants_rows_and_comparison(inputs, tmp_path):
     assert (out / "workshop_portal" / "with-shear" / "workshop_portal.results.ifc").is_file()
 
 
+def test_variant_values_are_checked_as_on_the_command_line(tmp_path):
+    from analysis.batch import _analyze_parser, _apply_variant
+    from analysis.errors import AnalysisError
+
+    parser = _analyze_parser()
+    base = {a.dest: a.default for a in parser._actions if a.option_strings and a.dest not in ("help",)}
+    base["space"] = True
+    source = str(tmp_path / "v.toml")
+    got = _apply_variant(parser, base, "v", {"plane": True, "merge-tolerance": 0.02, "stations": "all",
+                                             "supports": "IfcFooting:pinned", "materials": "m.toml"}, source)
+    assert got["plane"] is True and got["space"] is False  # one of a mutually exclusive pair replaces the other
+    assert got["merge_tolerance"] == 0.02 and got["stations"] == "all"
+    assert got["supports"] == ["IfcFooting:pinned"] and got["materials"] == str(tmp_path / "m.toml")
+    assert base["space"] is True and base["supports"] == []  # the command line's set is left alone
+    for bad in ({"merge-tolerance": -1}, {"stations": "some"}, {"plane": "yes"}, {"nonsense": 1}):
+        with pytest.raises(AnalysisError, match="variant 'v'"):
+            _apply_variant(parser, base, "v", bad, source)
+
+
 def test_bad_variants_file_is_bad_input(inputs, tmp_path, capsys):
     bad = tmp_path / "v.toml"
     bad.write_text("[variants.x]\nno-such-option = 1\n")
