@@ -775,9 +775,15 @@ def _dask(tasks: Sequence[ModelTask], progress: _Progress, verbose: bool, done: 
         else:
             n = max(1, min(workers or _cores(), len(tasks)))
             progress.con.progress(f"starting {n} Dask worker process{'es' if n > 1 else ''}")
-            cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True, dashboard_address=None,
-                                   silence_logs=logging.CRITICAL if not verbose else logging.WARNING)
-            client = Client(cluster)
+            try:
+                cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True, dashboard_address=None,
+                                       silence_logs=logging.CRITICAL if not verbose else logging.WARNING)
+                client = Client(cluster)
+            except Exception as exc:  # no ports, no process spawning, ...: the batch still runs
+                if cluster is not None:
+                    cluster.close()
+                    cluster = None
+                raise _NoLocalCluster(f"{type(exc).__name__}: {exc}") from exc
             where = f"a local Dask cluster of {n} worker process{'es' if n > 1 else ''}"
         try:
             client.subscribe_topic(_TOPIC, lambda event: progress.started(event[1].get("key", "")))
@@ -816,6 +822,10 @@ def _dask(tasks: Sequence[ModelTask], progress: _Progress, verbose: bool, done: 
         for name, level in saved.items():
             logging.getLogger(name).setLevel(level)
     return where
+
+
+class _NoLocalCluster(RuntimeError):
+    """The local Dask cluster could not be started (the batch then runs in this process)."""
 
 
 def _cores() -> int:
@@ -989,7 +999,12 @@ def _batch(args, con, out_dir: str, use_dask: bool, version: str) -> int:
     try:
         if todo:
             if use_dask:
-                where = _dask(todo, progress, args.verbose, done, scheduler=args.scheduler, workers=args.workers)
+                try:
+                    where = _dask(todo, progress, args.verbose, done, scheduler=args.scheduler, workers=args.workers)
+                except _NoLocalCluster as exc:
+                    con.warn(f"the local Dask cluster did not start ({exc}): the models run one after another "
+                             "in this process")
+                    where = _serial(todo, progress, args.verbose, done)
             else:
                 where = _serial(todo, progress, args.verbose, done)
     except KeyboardInterrupt as exc:  # Ctrl-C, or SIGTERM (the CLI raises it as a KeyboardInterrupt subclass)

@@ -324,6 +324,18 @@ def test_without_dask_runs_serially_and_says_so(inputs, tmp_path, capsys, monkey
     assert code == 2 and "plumbframe[batch]" in err
 
 
+def test_local_cluster_that_cannot_start_falls_back_to_serial(inputs, tmp_path, capsys, monkeypatch):
+    _need_dask()
+    import distributed
+
+    def refuse(*args, **kwargs):
+        raise OSError("no free port")
+
+    monkeypatch.setattr(distributed, "LocalCluster", refuse)
+    code, out, err = run(["batch", inputs / "unstable_frame.ifc", "--out", tmp_path / "o"], capsys)
+    assert code == 3 and "did not start (OSError: no free port)" in err and "one model after another" in out
+
+
 def test_exit_code_precedence():
     from analysis.batch import batch_exit_code
 
