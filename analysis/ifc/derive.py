@@ -1248,6 +1248,8 @@ class _Deriver:
             near = ntree.query_ball_point(P[free], r=rmax)
             moved_away: set[int] = set()
             received: set[int] = set()
+            moved_mask = np.zeros(node_count, dtype=bool)  # the same as arrays over the existing nodes
+            received_mask = np.zeros(node_count, dtype=bool)
             for node, cands in zip(free, near):
                 if node in received:
                     continue
@@ -1257,19 +1259,26 @@ class _Deriver:
                 own = node_half[node] if joint else half[k]
                 best = None
                 loose = None  # the nearest other free end: taken only when no joint and no centre line is in reach
-                for c in cands:
-                    if c == node or c in elem_nodes[k] or c in moved_away or degree[c] == 0 and not on_span[c]:
-                        continue
-                    if rescue_any[node] and rescue_any[c]:
-                        continue  # a loose group reaches for another group, not for itself
-                    d = float(np.linalg.norm(P[c] - P[node]))
+                ca = np.asarray(cands, dtype=np.int64)
+                if len(ca):
+                    ok_c = (ca != node) & (ca != elem_nodes[k, 0]) & (ca != elem_nodes[k, 1]) & ((degree[ca] > 0) | on_span[ca])
+                    ok_c &= ~moved_mask[ca]
+                    if rescue_any[node]:
+                        ok_c &= ~rescue_any[ca]  # a loose group reaches for another group, not for itself
+                    ca = ca[ok_c]
+                if len(ca):
+                    dc = np.linalg.norm(P[ca] - P[node], axis=1)
                     # snap distance at this joint: half the sum of the section sizes meeting (their faces touch), plus the tolerance
-                    if d <= node_half[c] + own + tol:
-                        if degree[c] > 1 or on_span[c] or c in received:
-                            if best is None or d < best[0]:
-                                best = (d, c)
-                        elif loose is None or d < loose[0]:
-                            loose = (d, c)
+                    reach_c = dc <= node_half[ca] + own + tol
+                    is_joint = (degree[ca] > 1) | on_span[ca]
+                    is_joint |= received_mask[ca]
+                    for pick, store in ((reach_c & is_joint, "best"), (reach_c & ~is_joint, "loose")):
+                        if pick.any():
+                            j_ = int(np.flatnonzero(pick)[np.argmin(dc[pick])])
+                            if store == "best":
+                                best = (float(dc[j_]), int(ca[j_]))
+                            else:
+                                loose = (float(dc[j_]), int(ca[j_]))
                 target = None
                 if best is not None:
                     target = best[1]
@@ -1294,6 +1303,9 @@ class _Deriver:
                     continue
                 moved_away.add(int(node))
                 received.add(int(target))
+                moved_mask[node] = True
+                if target < node_count:
+                    received_mask[target] = True
                 pos = P[node]
                 if joint:
                     for e_ in np.flatnonzero(end_node == node).tolist():
@@ -1523,11 +1535,14 @@ class _Deriver:
         pairs = tree.query_pairs(r=reach + 0.5 * float(spacing.max()) * 1.01 + tol, output_type="ndarray")
         if len(pairs) == 0:
             return P, node_count, links
-        ij = np.sort(np.stack([owner[pairs[:, 0]], owner[pairs[:, 1]]], axis=1), axis=1)
-        ij = np.unique(ij[ij[:, 0] != ij[:, 1]], axis=0)
-        if len(ij) == 0:
+        oa, ob = owner[pairs[:, 0]], owner[pairs[:, 1]]
+        # the pair's own reach: their half sizes and half their sample spacings
+        gap = np.linalg.norm(pts[pairs[:, 0]] - pts[pairs[:, 1]], axis=1)
+        near = (oa != ob) & (gap <= half[oa] + half[ob] + tol + 0.5 * (spacing[oa] + spacing[ob]) * 1.01)
+        if not near.any():
             return P, node_count, links
-        i, j = ij[:, 0], ij[:, 1]
+        key = np.unique(np.minimum(oa[near], ob[near]) * m + np.maximum(oa[near], ob[near]))
+        i, j = key // m, key % m
         # closest points of two lines (common practice, no source): a + s u, b + t v
         u, v = B[i] - A[i], B[j] - A[j]
         w0 = A[i] - A[j]
@@ -1900,12 +1915,13 @@ class _Deriver:
         ends = [(k, e_) for k in range(m) for e_ in (0, 1)]
         pts = np.empty((len(ends), 2, 3))
         below = np.empty(len(ends))
+        under_k = [self._underside(k, A, B) for k in range(m)]
         for i, (k, e_) in enumerate(ends):
             p, q = (A[k], B[k]) if e_ == 0 else (B[k], A[k])
             inward = (q - p) / L[k]
             pts[i, 0] = p
             pts[i, 1] = p + inward * min(self.tol, 0.25 * L[k])  # an end flush with a face still bears
-            below[i] = self._underside(k, A, B)
+            below[i] = under_k[k]
         hit = bearing_hits(tris, pts, below, self.tol)
         cls_of = {e.id(): e for e in bearers}
         counts: dict[str, int] = {}
