@@ -56,8 +56,10 @@ def _table(headers, rows, left_cols=1) -> str:
     return f"<table><thead><tr>{head}</tr></thead><tbody>{''.join(body)}</tbody></table>"
 
 
-def _img(b64: str, caption: str) -> str:
-    return (f"<figure><img alt='{_e(caption)}' src='data:image/png;base64,{b64}'>"
+def _img(b64: str, caption: str, view: tuple[str, str] | None = None) -> str:
+    """A figure; ``view`` (kind, name) marks it with the view it is drawn in (figures.py)."""
+    mark = f" data-view='{_e(view[0])}' data-view-name='{_e(view[1])}'" if view else ""
+    return (f"<figure{mark}><img alt='{_e(caption)}' src='data:image/png;base64,{b64}'>"
             f"<figcaption>{_e(caption)}</figcaption></figure>")
 
 
@@ -130,7 +132,8 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
     env = env if env is not None else member_envelope(results)
     from .. import __version__
     from ..ifc.writer import idealisation_text
-    from .plots import case_figure, frame_views
+    from .elevations import CONVENTION
+    from .figures import case_figures, overview_figures, report_views
 
     frame = results.frame
     ind = _ind_dict(indeterminacy)
@@ -159,8 +162,11 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
                                                   for k, v in meta) + "</table>")
 
     parts.append("<h2 id='overview'>Model overview</h2>")
-    for caption, b64 in (frame_views(frame, results) if plots else ()):
-        parts.append(_img(b64, caption))
+    views = report_views(frame) if plots else (None, [])
+    for caption, b64, kind, view_name in (overview_figures(frame, results, views) if plots else ()):
+        parts.append(_img(b64, caption, (kind, view_name)))
+    if plots and (views[0] is not None or views[1]):
+        parts.append(f"<p><small>{_e(CONVENTION)}</small></p>")
     parts.append("<h3>Nodes</h3>")
     node_rows = []
     sup_mask = frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1)
@@ -218,9 +224,8 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
         if cr.kind == "combination" and cr.factors:
             parts.append("<p>" + " + ".join(f"{f:g} × {_e(c)}" for c, f in cr.factors) + "</p>")
         if plots:
-            parts.append(_img(case_figure(results, name, _actions_to_draw(results, name)),
-                              f"{name}: deformed shape and internal-force diagrams drawn on the frame "
-                              "(N and V towards local +z or +y; moments on the stretched side)"))
+            for caption, b64, kind, view_name in case_figures(results, name, _actions_to_draw(results, name), views):
+                parts.append(_img(b64, caption, (kind, view_name)))
         sup = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
         heads = ["Node"] + [f"{REACTION_NAMES[c]} [{'kN' if c < 3 else 'kN·m'}]" for c in active]
         shown_sup = sup if sup.size <= SHOWN else sup[largest(np.linalg.norm(cr.reactions[sup, :3], axis=1))]

@@ -63,7 +63,15 @@ def test_report_sections_images_and_caution(steel, ipe300, space, tmp_path):
     # (the complete tables are CSV files beside it, linked by their bare names)
     assert not re.search(r"(src|href)=['\"](?!data:|#|r\.[a-z_]+\.csv['\"])", text)
     images = re.findall(r"data:image/png;base64,([A-Za-z0-9+/=]+)", text)
-    assert len(images) == 2 + 3  # overview (elevation + 3D view) + one figure per case and combination
+    views = re.findall(r"<figure data-view='([a-z]+)' data-view-name='([^']*)'>", text)
+    assert len(images) == len(views)  # every figure says which view it is drawn in
+    if space:  # axonometric + the two elevations (planes XZ at Y = 0 and YZ at X = 4), overview and each case
+        assert len(images) == 3 + 3 * 3
+        assert {n for _, n in views} >= {"XZ elevation at Y = 0.000 m", "YZ elevation at X = 4.000 m",
+                                          "axonometric view"}
+    else:  # overview: elevation + 3D view; each case and combination in the frame's elevation
+        assert len(images) == 2 + 3
+        assert [k for k, _ in views] == ["elevation", "axonometric"] + ["elevation"] * 3
     from PIL import Image
 
     for b64 in images:

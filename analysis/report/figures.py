@@ -1,0 +1,87 @@
+"""Which figures the report draws, and in which view.
+
+A frame whose members all lie in one plane is drawn in that plane's
+elevation (or plan): the overview and every case. A space frame keeps the
+axonometric view and gets one elevation per vertical plane of members (grid
+line), the planes holding the most members first: up to
+`views.MAX_ELEVATIONS` in the overview and `CASE_ELEVATIONS` per case, and
+per-case elevations only where the plane holds at most `plots.LARGE`
+members (a building's diagrams are member colours in the axonometric view).
+
+Each figure comes as ``(caption, base64 PNG, view kind, view name)``; the
+HTML marks the figure with its view.
+"""
+from __future__ import annotations
+
+from .views import MAX_ELEVATIONS, View, axonometric, frame_plane_view, member_plane_views
+
+__all__ = ["overview_figures", "case_figures", "report_views", "CASE_ELEVATIONS"]
+
+#: elevations per case of a space frame (the overview shows up to views.MAX_ELEVATIONS)
+CASE_ELEVATIONS = 3
+
+
+def report_views(frame) -> tuple[View | None, list[View]]:
+    """(the frame's own plane or None, the elevations of a space frame)."""
+    own = frame_plane_view(frame)
+    if own is not None:
+        return own, []
+    return None, member_plane_views(frame, MAX_ELEVATIONS)
+
+
+def overview_figures(frame, results=None, views=None) -> list[tuple[str, str, str, str]]:
+    from .elevations import elevation_frame_figure
+    from .plots import frame_views
+
+    own, elevations = views if views is not None else report_views(frame)
+    legend = "node labels black, member labels blue, supports red: square fixed, triangle partial"
+    out = []
+    if own is not None:
+        out.append((f"{own.name[0].upper() + own.name[1:]} of the analytical frame ({legend})",
+                    elevation_frame_figure(frame, own), own.kind, own.name))
+    iso = axonometric()
+    for caption, b64 in frame_views(frame, results):
+        if caption.startswith("Axonometric") or (not elevations and own is None):
+            kind = "axonometric" if caption.startswith("Axonometric") else "projection"
+            out.append((caption, b64, kind, iso.name if kind == "axonometric" else "XZ and YZ projections"))
+    for view in elevations:
+        out.append((f"{view.name[0].upper() + view.name[1:]}: the {_count(frame, view)} members in this plane "
+                    f"({legend})", elevation_frame_figure(frame, view), view.kind, view.name))
+    return out
+
+
+def _count(frame, view: View) -> int:
+    return frame.n_members if view.members is None else len(view.members)
+
+
+def _in_plane_actions(actions) -> tuple[str, ...]:
+    out = ["N"]
+    if any(a in ("Vy", "Vz") for a in actions):
+        out.append("V")
+    if any(a in ("My", "Mz") for a in actions):
+        out.append("M")
+    return tuple(out)
+
+
+def case_figures(results, case: str, actions, views=None) -> list[tuple[str, str, str, str]]:
+    from .elevations import elevation_case_figure
+    from .plots import LARGE, case_figure
+
+    frame = results.frame
+    own, elevations = views if views is not None else report_views(frame)
+    in_plane = _in_plane_actions(actions)
+    out = []
+    if own is not None:
+        out.append((f"{case}: deformed shape and N, V, M in the {own.name} (moments on the tension side)",
+                    elevation_case_figure(results, case, own, in_plane), own.kind, own.name))
+        return out
+    out.append((f"{case}: deformed shape and internal-force diagrams drawn on the frame in the axonometric view "
+                "(N and V towards local +z or +y; moments on the stretched side)",
+                case_figure(results, case, actions), "axonometric", axonometric().name))
+    for view in elevations[:CASE_ELEVATIONS]:
+        if _count(frame, view) > LARGE:
+            continue
+        out.append((f"{case}: deformed shape (projected) and N, V, M of the {_count(frame, view)} members in the "
+                    f"{view.name} (moments on the tension side)",
+                    elevation_case_figure(results, case, view, in_plane), view.kind, view.name))
+    return out
