@@ -1630,9 +1630,15 @@ class _Deriver:
         if getattr(self, "_mid_tree", None) is None:
             from scipy.spatial import cKDTree
 
-            self._mid_tree = cKDTree(0.5 * (A + B))
-            self._mid_reach = float((0.5 * lengths + half).max() + half.max()) + tol
-        cand = np.array(self._mid_tree.query_ball_point(x, r=self._mid_reach), dtype=np.int64)
+            # points along every centre line, no farther apart than the largest snap distance
+            step = max(2.0 * float(half.max()) + tol, float(np.median(lengths)) / 4.0, 1e-3)
+            counts = np.maximum(1, np.ceil(lengths / step).astype(np.int64))
+            self._mid_owner = np.repeat(np.arange(len(A)), counts + 1)
+            frac = np.concatenate([np.linspace(0.0, 1.0, c + 1) for c in counts])
+            self._mid_tree = cKDTree(A[self._mid_owner] + frac[:, None] * (B - A)[self._mid_owner])
+            self._mid_reach = float(half.max()) + tol + 0.5 * float((lengths / counts).max()) * 1.01
+        reach = self._mid_reach + (half[k] if own_half is None else own_half)
+        cand = np.unique(self._mid_owner[np.asarray(self._mid_tree.query_ball_point(x, r=reach), dtype=np.int64)])
         cand = cand[cand != k]
         if exclude is not None:
             cand = cand[~exclude[cand]]
