@@ -465,8 +465,9 @@ def store_stability(scene, results) -> None:
         doc["buckling"] = {name: [float(m.factor) for m in found] for name, found in buckling.items()}
     modes = getattr(results, "modes", None)
     if modes is not None:
-        doc["modes"] = [{"frequency": float(m.frequency), "period": float(m.period),
-                         "mass": [float(r) for r in m.effective_mass_ratio]} for m in modes]
+        # float lists only (what ID properties hold plainly), one entry per mode
+        doc["modes"] = {"frequency": [float(m.frequency) for m in modes], "period": [float(m.period) for m in modes],
+                        **{f"mass_{a}": [float(m.effective_mass_ratio[i]) for m in modes] for i, a in enumerate("xyz")}}
         doc["mass"] = float(results.mass.total)
     scene["pf_stability"] = doc
 

@@ -184,14 +184,15 @@ class PLUMBFRAME_PT_stability(_Base, bpy.types.Panel):
             box.label(text="Critical load factors (10 or more: first order acceptable)")
             for name, factors in list(buckling.items())[:12]:
                 box.label(text=f"{name}: " + ", ".join(f"{float(a):.3g}" for a in list(factors)[:6]))
-        modes = list(doc.get("modes", ()))
-        if modes:
+        modes = dict(doc.get("modes", {}))
+        freqs = [float(f) for f in modes.get("frequency", ())]
+        if freqs:
             box = layout.box()
             box.label(text=f"Natural modes (mass {float(doc.get('mass', 0.0)):.4g} kg)")
-            for k, m in enumerate(modes[:12], 1):
-                r = list(m["mass"])
-                box.label(text=f"{k}: {float(m['frequency']):.4g} Hz  x {r[0]:.2f} y {r[1]:.2f} z {r[2]:.2f}")
-        if buckling or modes:
+            mx, my, mz = (list(modes.get(f"mass_{a}", ())) for a in "xyz")
+            for k, f in enumerate(freqs[:12]):
+                box.label(text=f"{k + 1}: {f:.4g} Hz  x {float(mx[k]):.2f} y {float(my[k]):.2f} z {float(mz[k]):.2f}")
+        if buckling or freqs:
             row = layout.row(align=True)
             row.prop(settings, "shape_kind", text="")
             row.prop(settings, "shape_index")
