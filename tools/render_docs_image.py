@@ -1,4 +1,4 @@
-"""Render the documentation picture of the Blender add-on: docs/images/addon_render.png.
+"""Render one documentation picture of the Blender add-on (default docs/images/addon_render.png).
 
 Runs with Blender's Python module (bpy 5.0.1, Python 3.11), headless::
 
@@ -7,8 +7,9 @@ Runs with Blender's Python module (bpy 5.0.1, Python 3.11), headless::
 It builds the extension zip with tools/build_addon.py, installs it into a
 throw-away Blender user folder (HOME points at a temporary folder), and then
 does what a user does in the panel: load the sample IFC model, analyse,
-colour the members by the bending moment My of one combination and draw the
-My diagram. The Workbench renderer writes the PNG.
+colour the members by one internal force (My unless ``--quantity``) of one
+combination and draw its diagram. tools/render_docs_images.py runs it for
+every sample pictured in docs/images/. The Workbench renderer writes the PNG.
 """
 from __future__ import annotations
 
@@ -74,6 +75,7 @@ def main(argv=None) -> int:
     parser.add_argument("--zip", type=pathlib.Path, help="use this extension zip instead of building one")
     parser.add_argument("--plane", default="AUTO", choices=("AUTO", "PLANE", "SPACE"), help="frame type")
     parser.add_argument("--size", default="1400x900", help="resolution WxH")
+    parser.add_argument("--quantity", default="My", help="member colours and diagram (N, Vy, Vz, T, My, Mz)")
     args = parser.parse_args(argv)
 
     work = pathlib.Path(tempfile.mkdtemp(prefix="pf-render-"))
@@ -94,8 +96,8 @@ def main(argv=None) -> int:
         results = sys.modules["bl_ext.user_default.plumbframe"].engine.session(scene).results
         combos = [name for name, cr in results.cases.items() if cr.kind == "combination"]
         settings.case = args.case or (combos or list(results.cases))[0]
-        settings.colour_quantity = "My"
-        settings.diagram_quantity = "My"
+        settings.colour_quantity = args.quantity
+        settings.diagram_quantity = args.quantity
         bpy.ops.plumbframe.colour_members()
         bpy.ops.plumbframe.draw_diagrams()
 

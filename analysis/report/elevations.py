@@ -161,7 +161,7 @@ def elevation_case_figure(results, case: str, view: View, actions=("N", "V", "M"
             height = _FONT * 1.25 * dpp
             placed = diagram_labels(results, case, what, view, scale=scale, text_height=height, fmt=_fmt(what),
                                     members=members, limit=40, bounds=(xl[0], yl[0], xl[1], yl[1]))
-            for label, text in placed:
+            for label, text, _ in placed:
                 ax.annotate(text, label.position, fontsize=_FONT, color=colour, ha="center", va="center", zorder=6)
     fig.suptitle(f"{case} — {view.name}", fontsize=11)
     return to_png_base64(fig, dpi=84)

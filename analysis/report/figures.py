@@ -54,11 +54,20 @@ def _count(frame, view: View) -> int:
     return frame.n_members if view.members is None else len(view.members)
 
 
-def _in_plane_actions(actions) -> tuple[str, ...]:
+def _in_plane_actions(results, case: str, actions) -> tuple[str, ...]:
+    """N always; V and M where they are more than rounding next to the largest force (a truss has none)."""
+    import numpy as np
+
+    from .plots import _size
+
+    lo, hi = results.force_ranges(case)
+    peak = np.maximum(np.abs(lo), np.abs(hi)).max(axis=0) if len(lo) else np.zeros(6)
+    v, m = float(max(peak[1], peak[2])), float(max(peak[4], peak[5])) / _size(results.frame)
+    top = max(float(peak[0]), v, m, 1e-300)
     out = ["N"]
-    if any(a in ("Vy", "Vz") for a in actions):
+    if any(a in ("Vy", "Vz") for a in actions) and v > 1e-6 * top:
         out.append("V")
-    if any(a in ("My", "Mz") for a in actions):
+    if any(a in ("My", "Mz") for a in actions) and m > 1e-6 * top:
         out.append("M")
     return tuple(out)
 
@@ -69,7 +78,7 @@ def case_figures(results, case: str, actions, views=None) -> list[tuple[str, str
 
     frame = results.frame
     own, elevations = views if views is not None else report_views(frame)
-    in_plane = _in_plane_actions(actions)
+    in_plane = _in_plane_actions(results, case, actions)
     out = []
     if own is not None:
         out.append((f"{case}: deformed shape and N, V, M in the {own.name} (moments on the tension side)",

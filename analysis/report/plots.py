@@ -343,7 +343,7 @@ def case_figure(results, case: str, actions=("N", "Vz", "My")) -> str:
             ax.add_collection(LineCollection(edges, colors=colour, linewidths=1.0, zorder=3))
             title = f"{what} (largest {_fmt_value(peak, what)})" if peak > 0 else f"{what} (zero)"
         _setup(ax, view, title, np.concatenate(pts_all))
-    fig.suptitle(case, fontsize=12)
-    fig.subplots_adjust(left=0.06, right=0.98, top=1 - 0.45 / (4.4 * nrow), bottom=0.55 / (4.4 * nrow), wspace=0.18,
+    fig.suptitle(f"{case} — axonometric view" if view == "iso" else case, fontsize=12, y=1 - 0.12 / (4.4 * nrow))
+    fig.subplots_adjust(left=0.06, right=0.98, top=1 - 0.8 / (4.4 * nrow), bottom=0.55 / (4.4 * nrow), wspace=0.18,
                         hspace=0.3)
     return to_png_base64(fig, dpi=80)

@@ -24,7 +24,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import numpy.typing as npt
 
-__all__ = ["View", "axonometric", "frame_plane_view", "member_plane_views", "in_plane_diagram", "diagram_labels",
+__all__ = ["View", "axonometric", "drawing_view", "frame_plane_view", "member_plane_views", "in_plane_diagram", "diagram_labels",
            "MAX_ELEVATIONS"]
 
 FloatArray = npt.NDArray[np.float64]
@@ -73,6 +73,11 @@ def axonometric() -> View:
     u = np.array([math.cos(_TURN), math.sin(_TURN), 0.0])
     v = np.array([-math.sin(_TURN) * math.sin(_EL), math.cos(_TURN) * math.sin(_EL), math.cos(_EL)])
     return View("axonometric", "axonometric view", u, v)
+
+
+def drawing_view(frame) -> View:
+    """The view labels are placed in: the frame's own plane, else the axonometric view."""
+    return frame_plane_view(frame) or axonometric()
 
 
 def _size(nodes) -> float:
@@ -210,7 +215,7 @@ def member_plane_views(frame, limit: int = MAX_ELEVATIONS, *, min_members: int =
     return out
 
 
-def in_plane_diagram(results, case: str, k: int, action: str, view: View):
+def in_plane_diagram(results, case: str, k: int, action: str, view: View, *, local: bool = False):
     """One member's diagram in a view: (axis points (s,3), ordinates (s,), world direction (3,) of +ordinate).
 
     ``action`` is 'N', 'V' or 'M' in an in-plane view (see the module notes), or
@@ -218,6 +223,7 @@ def in_plane_diagram(results, case: str, k: int, action: str, view: View):
     along local z, y for Vy, −y for Mz, as the axonometric figures do). For M
     the ordinate is the magnitude and the direction points to the stretched
     side at each station's sign: the returned direction is for M > 0 about n.
+    ``local=True`` draws N along local z in every view (the add-on's geometry).
     """
     frame = results.frame
     dg = results.diagram(case, k)
@@ -232,14 +238,15 @@ def in_plane_diagram(results, case: str, k: int, action: str, view: View):
             return axis, F[:, 1] * (ey @ p) + F[:, 2] * (ez @ p), p
         return axis, F[:, 4] * (ey @ n) + F[:, 5] * (ez @ n), np.cross(ex, n)
     col = {"N": 0, "Vy": 1, "Vz": 2, "T": 3, "My": 4, "Mz": 5}[action]
-    if action == "N" and view.in_plane:
+    if action == "N" and view.in_plane and not local:
         return axis, F[:, 0], np.cross(view.n, ex)
     direction = -ey if action == "Mz" else (ey if action == "Vy" else ez)
     return axis, F[:, col], direction
 
 
 def diagram_labels(results, case: str, action: str, view: View, *, scale: float, text_height: float,
-                   fmt, members=None, limit: int = 60, rel: float = 0.03, bounds=None, obstacles=None) -> list:
+                   fmt, members=None, limit: int = 60, rel: float = 0.03, bounds=None, obstacles=None,
+                   local: bool = False) -> list:
     """Value labels of one diagram in a view: ends and extremes, placed without overlap.
 
     Parameters
@@ -256,9 +263,10 @@ def diagram_labels(results, case: str, action: str, view: View, *, scale: float,
 
     Returns
     -------
-    list of (Label, text); ``anchor`` and ``position`` are screen
-    coordinates of the view (``View.project``); the add-on turns them back
-    into world points with ``origin + x u + y v + (n · anchor) n``.
+    list of (Label, text, world point of the label's centre); ``anchor`` and
+    ``position`` are screen coordinates of the view (``View.project``); the
+    world point lies in the plane through the diagram's tip parallel to the
+    view (where the add-on puts its text).
     """
     from .labels import Label, label_stations, place_labels, text_box
 
@@ -267,7 +275,7 @@ def diagram_labels(results, case: str, action: str, view: View, *, scale: float,
     pieces = []
     peak = 0.0
     for k in idx:
-        axis, val, direction = in_plane_diagram(results, case, int(k), action, view)
+        axis, val, direction = in_plane_diagram(results, case, int(k), action, view, local=local)
         pieces.append((int(k), axis, val, direction))
         if val.size:
             peak = max(peak, float(np.abs(val).max()))
@@ -279,7 +287,8 @@ def diagram_labels(results, case: str, action: str, view: View, *, scale: float,
             tip = axis[i] + scale * val[i] * direction
             a2 = view.project(tip[None, :])[0]
             text = fmt(float(val[i]))
-            cands.append((k, float(stations[i]), float(val[i]), a2, d2 * np.sign(val[i]), text))
+            cands.append((k, float(stations[i]), float(val[i]), a2, d2 * np.sign(val[i]), text,
+                          float((tip - view.origin) @ view.n)))
     if not cands:
         return []
     # the same value at the same joint from two members (a moment round a corner): one label
@@ -297,5 +306,6 @@ def diagram_labels(results, case: str, action: str, view: View, *, scale: float,
     out = []
     for c, p in zip(cands, pos):
         if np.isfinite(p).all():
-            out.append((Label(c[0], c[1], c[2], tuple(c[3].tolist()), tuple(p.tolist())), c[5]))
+            world = view.origin + p[0] * view.u + p[1] * view.v + c[6] * view.n
+            out.append((Label(c[0], c[1], c[2], tuple(c[3].tolist()), tuple(p.tolist())), c[5], world))
     return out
