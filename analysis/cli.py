@@ -447,7 +447,7 @@ def _read(args, con):
     t0 = time.perf_counter()
     model = read_ifc(args.input, model=args.model, merge_tolerance=args.merge_tolerance,
                      select=args.select, exclude=args.exclude, supports=args.supports, strict=args.strict,
-                     members=args.members, materials=args.materials)
+                     members=args.members, materials=args.materials, progress=con.progress)
     con.info(f"read {args.input} in {time.perf_counter() - t0:.2f} s "
              f"(route {getattr(model, 'route', '?')}, schema {getattr(model, 'schema', '?')})")
     return model
@@ -784,7 +784,8 @@ def _analyze(args, con) -> int:
     _keep(args, model=model, ind=ind)
     try:
         t0 = time.perf_counter()
-        results = analyze(model.frame, options, progress=con.progress)
+        size = f"{model.frame.n_members:,} members, {model.frame.n_nodes:,} nodes"
+        results = analyze(model.frame, options, progress=lambda step: con.progress(f"{step} ({size})"))
         con.info(f"analysed in {time.perf_counter() - t0:.2f} s with {results.solver}")
         from .magnitudes import displacement_warnings
 
@@ -811,13 +812,13 @@ def _analyze(args, con) -> int:
                       stations=getattr(args, "stations", "extremes"))
         outputs.append(("IFC", out))
         if args.json:
-            con.progress("writing JSON")
+            con.progress(f"writing JSON: {len(results.cases)} cases of {model.frame.n_members:,} members")
             _write_json(args.json, results.to_dict(indeterminacy=d, arrays=True))
             outputs.append(("JSON", args.json))
         if args.report:
             from .report import write_report
 
-            con.progress("writing the report")
+            con.progress(f"writing the report: {len(results.cases)} cases of {model.frame.n_members:,} members")
             write_report(args.report, model, results, ind)
             outputs.append(("report", args.report))
         con.written = staged.commit()

@@ -304,15 +304,17 @@ class Results:
         supported = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
         members: dict = {}
         keys = ("stations", *ACTION_NAMES, "dy", "dz")
-        for k, mid in enumerate(frame.member_ids):
-            dg = self.diagram(cr.name, k)
-            # one (9, s) block per member: stations, six forces, two deflections; its rows are the entries
-            block = np.empty((9, len(dg.stations)))
-            block[0] = dg.stations
-            block[1:7] = dg.forces.T
-            block[7:] = dg.deflections.T
-            columns = block if arrays else block.tolist()
-            members[mid] = dict(zip(keys, columns))
+        diagrams = [self.diagram(cr.name, k) for k in range(frame.n_members)]
+        if diagrams:
+            # one (9, S) block of every station: stations, six forces, two deflections; a member's entries are
+            # the rows of its columns (each row slice contiguous, as orjson wants it)
+            block = np.ascontiguousarray(np.vstack([np.concatenate([dg.stations for dg in diagrams])[None, :],
+                                                    np.concatenate([dg.forces for dg in diagrams]).T,
+                                                    np.concatenate([dg.deflections for dg in diagrams]).T]))
+            bounds = np.concatenate([[0], np.cumsum([len(dg.stations) for dg in diagrams])]).tolist()
+            for k, mid in enumerate(frame.member_ids):
+                part = block[:, bounds[k]:bounds[k + 1]]
+                members[mid] = dict(zip(keys, part if arrays else part.tolist()))
         return {
             "kind": cr.kind,
             "displacements": {nid: {DOF_NAMES[c]: float(cr.displacements[i, c]) for c in comps}
@@ -351,14 +353,18 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int)
     P[:, 4, 0], P[:, 4, 1], P[:, 4, 2] = -f[:, 4], -f[:, 2], -q[:, 2] / 2
     P[:, 5, 0], P[:, 5, 1], P[:, 5, 2] = -f[:, 5], f[:, 1], q[:, 1] / 2
 
-    def slopes(s, rows=slice(None)):  # s (g,k) or (r,1) for ``rows`` -> dv/ds, dw/ds
-        Pr, dr, Cr = P[rows], d[rows], C[rows]
-        Vy = Pr[:, 1, 0, None] + Pr[:, 1, 1, None] * s
+    def slopes(s, pre=None, comp=None):  # s (g,k), or (r,1) with pre = (P, d, C) of r rows -> dv/ds, dw/ds
+        Pr, dr, Cr = pre if pre is not None else (P, d, C)
+        if comp != 1:
+            Vy = Pr[:, 1, 0, None] + Pr[:, 1, 1, None] * s
+            iz = Pr[:, 5, 0, None] * s + Pr[:, 5, 1, None] * s**2 / 2 + Pr[:, 5, 2, None] * s**3 / 3
+            dv = dr[:, 5, None] + Cr[:, 5, None] * iz + Cr[:, 1, None] * Vy
+            if comp == 0:
+                return dv
         Vz = Pr[:, 2, 0, None] + Pr[:, 2, 1, None] * s
-        iz = Pr[:, 5, 0, None] * s + Pr[:, 5, 1, None] * s**2 / 2 + Pr[:, 5, 2, None] * s**3 / 3
         iy = Pr[:, 4, 0, None] * s + Pr[:, 4, 1, None] * s**2 / 2 + Pr[:, 4, 2, None] * s**3 / 3
-        return (dr[:, 5, None] + Cr[:, 5, None] * iz + Cr[:, 1, None] * Vy,
-                -dr[:, 4, None] - Cr[:, 4, None] * iy + Cr[:, 2, None] * Vz)
+        dw = -dr[:, 4, None] - Cr[:, 4, None] * iy + Cr[:, 2, None] * Vz
+        return dw if comp == 1 else (dv, dw)
 
     grid = np.linspace(0.0, 1.0, n_st)[None, :] * L[:, None]
     extra = []
@@ -369,7 +375,7 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int)
         extra.append(np.where(ok, s0, np.nan))
     fine = np.linspace(0.0, 1.0, 4 * n_st + 1)[None, :] * L[:, None]
     for comp in (0, 1):
-        val = slopes(fine)[comp]
+        val = slopes(fine, comp=comp)
         scale = np.abs(val).max(axis=1, keepdims=True) + 1e-300
         sign = np.sign(np.where(np.abs(val) <= 1e-13 * scale, 0.0, val))
         change = (sign[:, :-1] * sign[:, 1:]) < 0
@@ -377,18 +383,24 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int)
         if rows.size:
             a, b = fine[rows, cols], fine[rows, cols + 1]
             fa = val[rows, cols]
+            pre = (P[rows], d[rows], C[rows])
             for _ in range(60):
                 mid = (a + b) / 2
-                fm = slopes(mid[:, None], rows)[comp][:, 0]
+                fm = slopes(mid[:, None], pre, comp)[:, 0]
                 left = np.sign(fm) == np.sign(fa)
                 a = np.where(left, mid, a)
                 fa = np.where(left, fm, fa)
                 b = np.where(left, b, mid)
-            roots = np.full((g, 4 * n_st), np.nan)
-            roots[rows, cols] = (a + b) / 2
+            # the roots of each row side by side (np.nonzero lists them row by row): as few columns as needed
+            pos = np.arange(rows.size) - np.searchsorted(rows, rows, side="left")
+            roots = np.full((g, int(pos.max()) + 1), np.nan)
+            roots[rows, pos] = (a + b) / 2
             extra.append(roots)
     stations = np.concatenate([grid] + [e.reshape(g, -1) for e in extra], axis=1)
     stations = np.sort(stations, axis=1)  # NaN last
+    valid = ~np.isnan(stations)
+    stations = stations[:, :int(valid.sum(axis=1).max())]  # no column of NaN only
+    valid = valid[:, :stations.shape[1]]
     s = np.nan_to_num(stations)
     F = P[:, :, 0, None] + P[:, :, 1, None] * s[:, None, :] + P[:, :, 2, None] * s[:, None, :] ** 2  # (g,6,k)
     v = (d[:, 1, None] + d[:, 5, None] * s
@@ -397,14 +409,16 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int)
     w = (d[:, 2, None] - d[:, 4, None] * s
          - C[:, 4, None] * (P[:, 4, 0, None] * s**2 / 2 + P[:, 4, 1, None] * s**3 / 6 + P[:, 4, 2, None] * s**4 / 12)
          + C[:, 2, None] * (P[:, 2, 0, None] * s + P[:, 2, 1, None] * s**2 / 2))
-    out = []
-    for r in range(g):
-        keep = ~np.isnan(stations[r])
-        st = stations[r, keep]
-        uniq = np.concatenate([[True], np.diff(st) > 1e-7 * max(L[r], 1.0)])
-        out.append(MemberDiagram(stations=st[uniq], forces=F[r][:, keep][:, uniq].T.copy(),
-                                 deflections=np.stack([v[r, keep][uniq], w[r, keep][uniq]], axis=1)))
-    return out
+    # valid stations come first in each row (sorted, NaN last): keep those beyond the previous by 1e-7 L
+    keep = valid.copy()
+    keep[:, 1:] &= np.diff(stations, axis=1) > 1e-7 * np.maximum(L, 1.0)[:, None]
+    counts = keep.sum(axis=1)
+    bounds = np.concatenate([[0], np.cumsum(counts)]).tolist()
+    st_all = stations[keep]
+    F_all = np.ascontiguousarray(F.transpose(0, 2, 1)[keep])  # (S,6)
+    D_all = np.stack([v[keep], w[keep]], axis=1)  # (S,2)
+    return [MemberDiagram(stations=st_all[a:b], forces=F_all[a:b], deflections=D_all[a:b])
+            for a, b in zip(bounds[:-1], bounds[1:])]
 
 
 def _compliances(res: "Results", ks: np.ndarray) -> np.ndarray:

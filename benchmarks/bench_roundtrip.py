@@ -280,17 +280,16 @@ def _killed_run(src: str, out: str, json_out: str) -> tuple[bool, str]:
 
 # --------------------------------------------------------------------------- main
 def main() -> None:
-    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--keep", help="the tower model: write it here and keep it (an existing file is reused)")
-    ap.add_argument("--skip-checks", action="store_true", help="skip the re-run and the killed run")
-    ap.add_argument("--child", nargs="+", help=argparse.SUPPRESS)
-    args = ap.parse_args()
-    if args.child:
-        kind, rest = args.child[0], args.child[1:]
+    if len(sys.argv) > 2 and sys.argv[1] == "--child":  # one measurement in this process (see _child)
+        kind, rest = sys.argv[2], sys.argv[3:]
         fn = {"reference": child_reference, "plumbframe": child_plumbframe, "ifc_write": child_ifc_write,
               "open_walk": child_open_walk, "counts": child_counts}[kind]
         print(json.dumps(fn(*rest)))
         return
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--keep", help="the tower model: write it here and keep it (an existing file is reused)")
+    ap.add_argument("--skip-checks", action="store_true", help="skip the re-run and the killed run")
+    args = ap.parse_args()
     sys.path.insert(0, HERE)
     from bench_reader import generate, generate_structural
 
