@@ -125,6 +125,7 @@ RANK_TOL = 1e-9  # relative singular-value tolerance of the geometric rank
 DENSE_LIMIT = 2500  # largest group of reduced unknowns ranked densely
 MAX_EXPLAINED = 200  # redundant constraints explained one by one
 MAX_MODES = 6  # mechanisms described one by one
+MAX_SPARSE_NULL = 256  # most zero eigenvalues asked of one big block of the stiffness (then: a lower bound)
 
 _AXIS = "XYZ"
 
@@ -295,7 +296,7 @@ def indeterminacy(frame: Frame, options: AnalysisOptions | None = None, *, mecha
         log.error("kinematic count %d differs from the solver's unknowns %d", kinematic, dofs.n_q)
 
     t1 = time.perf_counter()
-    m, modes, method = _mechanisms(frame, dofs, R, mechanism_method)
+    m, modes, method, complete = _mechanisms(frame, dofs, R, mechanism_method)
     timing["mechanisms"] = time.perf_counter() - t1
 
     static_terms = _static_terms(frame, dofs, R, reduction_parts["unattached"])
@@ -309,6 +310,10 @@ def indeterminacy(frame: Frame, options: AnalysisOptions | None = None, *, mecha
     timing["explanations"] = time.perf_counter() - t2
 
     notes = _notes(terms, reduction_parts, kinematic, static, m, static_terms, redundant, descriptions, dofs)
+    if not complete:
+        notes.append(f"the mechanism count {m} is a lower bound (so is the static count): a connected part of "
+                     f"more than {DENSE_LIMIT} unknowns had {MAX_SPARSE_NULL} or more zero-stiffness modes, "
+                     f"the count stops there rather than run for hours")
     t3 = time.perf_counter()
     joint_data = _joint_data(frame, dofs, R, terms)
     timing["joints"] = time.perf_counter() - t3
@@ -438,9 +443,9 @@ def _mechanisms(frame: Frame, dofs, R: np.ndarray, method: str):
     if method in ("auto", "geometry"):
         res = _geometric_mechanisms(frame, dofs, R, force=(method == "geometry"))
         if res is not None:
-            return res[0], res[1], "geometry"
-    count, modes = _stiffness_mechanisms(frame, dofs)
-    return count, modes, "stiffness"
+            return res[0], res[1], "geometry", True
+    count, modes, complete = _stiffness_mechanisms(frame, dofs)
+    return count, modes, "stiffness", complete
 
 
 def _stiffness_mechanisms(frame: Frame, dofs):
@@ -462,19 +467,29 @@ def _stiffness_mechanisms(frame: Frame, dofs):
     Kq.eliminate_zeros()
     n = Kq.shape[0]
     if n == 0:
-        return 0, []
+        return 0, [], True
     try:
         factorize(Kq, dofs.options.solver)
-        return 0, []
+        return 0, [], True
     except SingularStiffness:
         pass
-    V = _stiffness_null_space(Kq)
+    V, complete = _stiffness_null_space(Kq)
     modes = [dofs.T @ V[:, k] for k in range(min(V.shape[1], MAX_MODES))]
-    return int(V.shape[1]), modes
+    if not complete:
+        log.warning("mechanism count is a lower bound: a connected block of more than %d unknowns had %d or "
+                    "more zero-stiffness modes", DENSE_LIMIT, MAX_SPARSE_NULL)
+    return int(V.shape[1]), modes, complete
 
 
-def _stiffness_null_space(Kq) -> np.ndarray:
-    """Orthonormal-ish basis (n, m) of the null space of the PSD matrix Kq (Jacobi scaled)."""
+def _stiffness_null_space(Kq) -> tuple[np.ndarray, bool]:
+    """(basis (n, m) of the null space of the PSD matrix Kq, complete).
+
+    Jacobi scaled, split into the connected blocks of its sparsity pattern
+    (a loose part is its own block); a block of up to `DENSE_LIMIT` unknowns
+    is ranked densely (eigh), a bigger one by shift-invert Lanczos asking for
+    at most `MAX_SPARSE_NULL` eigenvalues. ``complete`` is False when a big
+    block still had that many zero eigenvalues: the count is then a lower bound.
+    """
     import scipy.sparse.linalg as spla
 
     n = Kq.shape[0]
@@ -482,31 +497,40 @@ def _stiffness_null_space(Kq) -> np.ndarray:
     zero = np.flatnonzero(diag <= 0)
     live = np.flatnonzero(diag > 0)
     s = 1.0 / np.sqrt(diag[live])
-    Ks = (sp.diags_array(s) @ Kq[live][:, live] @ sp.diags_array(s)).tocsc()
+    Ks = sp.csr_array(sp.diags_array(s) @ Kq[live][:, live] @ sp.diags_array(s))
     cols = []
     for z in zero:
         e = np.zeros(n)
         e[z] = 1.0
         cols.append(e)
+    complete = True
     nl = live.size
-    if nl:
-        if nl <= DENSE_LIMIT:
-            w, V = scipy.linalg.eigh(Ks.toarray())
+    ncomp, lab = connected_components(Ks, directed=False) if nl else (0, np.zeros(0, np.int64))
+    order = np.argsort(lab, kind="stable")
+    bounds = np.searchsorted(lab[order], np.arange(ncomp + 1))
+    for comp in range(ncomp):
+        idx = order[bounds[comp]:bounds[comp + 1]]
+        Kc = Ks[idx][:, idx]
+        if idx.size <= DENSE_LIMIT:
+            w, V = scipy.linalg.eigh(Kc.toarray())
             small = np.flatnonzero(w < RANK_TOL * max(w.max(), 1.0))
         else:
             k = 8
-            while True:
-                k = min(k, nl - 2)
-                w, V = spla.eigsh(Ks, k=k, sigma=-1e-6, which="LM")
+            for _ in range(16):  # k doubles up to MAX_SPARSE_NULL: a bounded number of tries
+                k = min(k, idx.size - 2, MAX_SPARSE_NULL)
+                w, V = spla.eigsh(Kc.tocsc(), k=k, sigma=-1e-6, which="LM")
                 small = np.flatnonzero(w < RANK_TOL)
-                if small.size < k or k >= nl - 2:
+                if small.size < k or k >= idx.size - 2:
+                    break
+                if k >= MAX_SPARSE_NULL:
+                    complete = False
                     break
                 k *= 2
         for j in small:
             v = np.zeros(n)
-            v[live] = V[:, j] * s
+            v[live[idx]] = V[:, j] * s[idx]
             cols.append(v)
-    return np.array(cols).T.reshape(n, -1)
+    return np.array(cols).T.reshape(n, -1), complete
 
 
 def _skew(d: np.ndarray) -> np.ndarray:
@@ -708,10 +732,17 @@ def _member_rows(frame: Frame, dofs, R, members: np.ndarray, N6: int, n_joint_x:
 
 
 def _nullity(M: sp.csr_array, Tc, dofs, N6, n_joint_x, size, col_is_rot, force):
-    """Null space dimension of M (rows x reduced columns) per connected block; a few modes."""
-    r, nc = M.shape
+    """Null space dimension of M (rows x reduced columns) per connected block; a few modes.
+
+    Rows that hold a single column still free fix it (`_peel_fixed`); what
+    they leave splits into far smaller blocks, each ranked densely.
+    """
+    nc = M.shape[1]
+    rows_left, cols_left = _peel_fixed(M)
+    M = M[rows_left][:, cols_left]
+    r, nk = M.shape
     coo = M.tocoo()
-    g = sp.coo_array((np.ones(coo.nnz), (coo.row, r + coo.col)), shape=(r + nc, r + nc))
+    g = sp.coo_array((np.ones(coo.nnz), (coo.row, r + coo.col)), shape=(r + nk, r + nk))
     ncomp, lab = connected_components(g, directed=False)
     row_lab, col_lab = lab[:r], lab[r:]
     col_order = np.argsort(col_lab, kind="stable")
@@ -740,12 +771,50 @@ def _nullity(M: sp.csr_array, Tc, dofs, N6, n_joint_x, size, col_is_rot, force):
                 null = _localise(null)
                 for q in range(min(null.shape[1], MAX_MODES - len(modes_red))):
                     v = np.zeros(nc)
-                    v[cidx] = null[:, q]
+                    v[cols_left[cidx]] = null[:, q]
                     modes_red.append(v)
     cs = np.where(np.array(col_is_rot, bool), 1.0 / size, 1.0)
     x_ext = _x_to_ext(dofs, N6, n_joint_x)
     modes = [(Tc @ (cs * v))[x_ext] for v in modes_red]
     return count, modes
+
+
+def _peel_fixed(M: sp.csr_array, rel: float = 1e-6) -> tuple[np.ndarray, np.ndarray]:
+    """(rows, columns) of M left after fixing, in turn, every column a row holds alone.
+
+    A zero-deformation row whose only nonzero on the columns still free is
+    that column (its coefficient at least ``rel``; the rows come scaled to a
+    largest coefficient of 1) holds that column at zero in every mechanism, so
+    the column and the row leave the problem without changing its nullity
+    (exact: the null space of M is the null space of what is left, padded
+    with zeros). A support-held joint, a member end tied to it, and so on
+    along a chain leave the big block one by one. Each pass fixes at least one
+    column or stops, so there are at most ``columns`` passes.
+    """
+    r, nc = M.shape
+    if r == 0 or nc == 0:
+        return np.arange(r), np.arange(nc)
+    A = sp.csr_array(abs(M))
+    A.eliminate_zeros()
+    rows_of = sp.csc_array(A)  # column -> rows
+    live_c = np.ones(nc, bool)
+    live_r = np.ones(r, bool)
+    count = np.diff(A.indptr).astype(np.int64)  # nonzeros on free columns per row
+    colsum = A.astype(bool).astype(np.float64) @ np.arange(nc, dtype=np.float64)  # their column indices, summed
+    valsum = A @ np.ones(nc)  # their coefficients, summed
+    for _ in range(nc + 1):
+        single = np.flatnonzero(live_r & (count == 1) & (valsum >= rel))
+        if single.size == 0:
+            break
+        cols = np.unique(np.rint(colsum[single]).astype(np.int64))
+        live_r[single] = False
+        live_c[cols] = False
+        sub = rows_of[:, cols].tocoo()
+        np.subtract.at(count, sub.row, 1)
+        np.subtract.at(colsum, sub.row, cols[sub.col].astype(np.float64))
+        np.subtract.at(valsum, sub.row, sub.data)
+    rows = np.flatnonzero(live_r & (count > 0))  # a row on fixed columns only says nothing more
+    return rows, np.flatnonzero(live_c)
 
 
 def _dense_null(B: np.ndarray) -> np.ndarray:
