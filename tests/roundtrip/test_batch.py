@@ -387,8 +387,12 @@ class _Cluster:
             time.sleep(0.1)
         from distributed import Client
 
-        self.client = Client(scheduler_file=str(self.file), timeout="60s")
-        self.client.wait_for_workers(2, timeout=90)
+        try:
+            self.client = Client(scheduler_file=str(self.file), timeout="60s")
+            self.client.wait_for_workers(2, timeout=90)
+        except BaseException:
+            self.stop()
+            raise
         self.address = self.client.scheduler.address
 
     def worker_pids(self) -> dict[str, int]:
