@@ -53,7 +53,8 @@ def label_stations(stations, values, peak: float, *, rel: float = 0.03) -> list[
     Returns
     -------
     list of int
-        Station indices, ends first, without repeats. An interior station is
+        Station indices, ends first, without repeats (a constant diagram: the
+        station nearest mid-length only). An interior station is
         an extreme where the ordinate is a local maximum of magnitude or the
         slope changes sign (a peak under a point load); a station repeated at
         a jump (the same position twice) counts with the larger side.
@@ -64,6 +65,8 @@ def label_stations(stations, values, peak: float, *, rel: float = 0.03) -> list[
     if n == 0:
         return []
     floor = rel * max(float(peak), 1e-300)
+    if float(np.ptp(v)) <= 1e-6 * max(float(np.abs(v).max()), 1e-300):  # constant (a truss bar): one label, mid-length
+        return [int(np.argmin(np.abs(s - 0.5 * (s[0] + s[-1]))))] if abs(v[0]) >= floor else []
     out: list[int] = []
     for i in (0, n - 1):
         if abs(v[i]) >= floor and i not in out:
