@@ -7,7 +7,17 @@ storey. Printed per size: DOF (6 per joint), time of the count
 assembly in the same run (`build_dofs` + `Assembly` + `reduced_stiffness`),
 and their ratio.
 
+With ``--loose-parts``: frames with hundreds of mechanisms instead (a grid of
+fixed-base columns tied by beams pinned at both ends, carrying hanging
+pin-ended bars, two-bar chains, pendulum members on two-axis hinges and parts
+touching nothing; the hand count of each kind is in
+tests/unit/test_many_mechanisms.py). Printed per size: members, unknowns,
+mechanisms (checked against the hand count), time of the count, time of one
+factorisation of the same reduced stiffness (its diagonal raised by 1e-8 of
+itself so that it factorises: the cost of one solve of that size), and the ratio.
+
 Run: ``PYTHONPATH=. python benchmarks/bench_indeterminacy.py [--max-dof 100000] [--pinned-beams]``
+     ``PYTHONPATH=. python benchmarks/bench_indeterminacy.py --loose-parts [--max-members 6000]``
 """
 from __future__ import annotations
 
@@ -65,12 +75,51 @@ def building(nx: int, ny: int, storeys: int, pinned_beams: bool = False) -> Fram
         springs=np.zeros((n, 6)), diaphragms=diaphragms)
 
 
+def loose_parts(max_members: int) -> None:
+    """The count on frames with hundreds of mechanisms against one factorisation of their stiffness."""
+    import sys
+    from pathlib import Path
+
+    import scipy.sparse as sp
+
+    from analysis.stiffness.solvers import factorize
+
+    sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tests" / "unit"))
+    from test_many_mechanisms import loose_parts_frame
+
+    print(f"{'members':>8} {'unknowns':>9} {'mech':>6} {'hand':>6} {'count s':>8} {'factor s':>9} {'ratio':>6}")
+    for nx, parts in ((10, 100), (16, 250), (22, 500), (30, 900)):
+        frame, expected = loose_parts_frame(nx, nx, {"bar": parts, "chain": parts // 2, "pendulum": parts // 3,
+                                                     "loose member": parts // 10, "loose bar": parts // 10})
+        if frame.n_members > max_members * 1.1:
+            break
+        options = AnalysisOptions()
+        t0 = time.perf_counter()
+        r = indeterminacy(frame, options)
+        t_count = time.perf_counter() - t0
+        dofs = build_dofs(frame, options)
+        _, Kq, _ = reduced_stiffness(Assembly(frame, dofs, options))
+        d = Kq.diagonal()
+        Ks = sp.csr_array(Kq + sp.diags_array(1e-8 * np.where(d > 0, d, d.max())))
+        t0 = time.perf_counter()
+        factorize(Ks, options.solver)
+        t_fact = time.perf_counter() - t0
+        assert r.mechanisms == expected, (r.mechanisms, expected)
+        print(f"{frame.n_members:>8} {Kq.shape[0]:>9} {r.mechanisms:>6} {expected:>6} {t_count:>8.2f} "
+              f"{t_fact:>9.3f} {t_count / t_fact:>6.1f}")
+
+
 def main(argv=None) -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--max-dof", type=int, default=100_000)
     ap.add_argument("--pinned-beams", action="store_true", help="beams pinned at both ends")
     ap.add_argument("--inextensible", action="store_true")
+    ap.add_argument("--loose-parts", action="store_true", help="frames with hundreds of mechanisms")
+    ap.add_argument("--max-members", type=int, default=6000, help="largest --loose-parts frame")
     args = ap.parse_args(argv)
+    if args.loose_parts:
+        loose_parts(args.max_members)
+        return
     options = AnalysisOptions(inextensible=args.inextensible)
     sizes = [(3, 3, 4), (5, 5, 8), (8, 8, 12), (10, 10, 20), (12, 12, 25), (14, 14, 30), (18, 18, 40)]
     print(f"{'DOF':>8} {'unknowns':>9} {'kin':>7} {'static':>7} {'mech':>5} "
