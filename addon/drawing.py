@@ -535,11 +535,16 @@ def colour_members(scene, results, case: str, quantity: str) -> tuple[float, flo
     return vmin, vmax
 
 
-def _text(name: str, body: str, size: float, location, collection) -> bpy.types.Object:
-    """Text as a mesh object (upright, readable from -Y) coloured like the rest of our geometry."""
+def _text(name: str, body: str, size: float, location, collection, rotation=None) -> bpy.types.Object:
+    """Text as a mesh object (upright, readable from -Y) coloured like the rest of our geometry.
+
+    ``rotation`` (3×3, columns: the text's right, up and facing directions) turns it into a view's plane
+    and centres it on ``location``."""
     cu = bpy.data.curves.new(name, "FONT")
     cu.body = body
     cu.size = size
+    if rotation is not None:
+        cu.align_x, cu.align_y = "CENTER", "CENTER"
     tmp = bpy.data.objects.new(name, cu)
     me = bpy.data.meshes.new_from_object(tmp)
     bpy.data.objects.remove(tmp)
@@ -547,7 +552,12 @@ def _text(name: str, body: str, size: float, location, collection) -> bpy.types.
     _set_colours(me, np.array(PALETTE["text"]), "POINT")
     me.materials.append(_material())
     obj = _object(name, me, collection, location)
-    obj.rotation_euler = (math.pi / 2, 0.0, 0.0)
+    if rotation is None:
+        obj.rotation_euler = (math.pi / 2, 0.0, 0.0)
+    else:
+        from mathutils import Matrix
+
+        obj.rotation_euler = Matrix(np.asarray(rotation).tolist()).to_euler()
     obj["pf_text"] = body
     return obj
 
@@ -557,7 +567,7 @@ def _legend(scene, frame, quantity: str, case: str, vmin: float, vmax: float, si
     coll = role_collection(scene, "legend")
     ext = readout.model_extent(frame)
     lo, hi = frame.nodes.min(axis=0), frame.nodes.max(axis=0)
-    x0, y0, z0 = hi[0] + 0.12 * ext, lo[1], lo[2]
+    x0, y0, z0 = hi[0] + 0.12 * ext, hi[1], lo[2]  # beyond the frame's far right corner seen from -Y
     height, width, bands = 0.6 * ext, 0.05 * ext, 12
     verts, loops, sizes, colours = [], [], [], []
     for b in range(bands):
@@ -616,7 +626,7 @@ def draw_diagram(scene, results, case: str, quantity: str, scale: float = 0.0, m
     data = [readout.member_values(results, case, k, quantity) for k in range(frame.n_members)]
     peak = max((float(np.abs(v).max()) for _, v in data if v.size), default=0.0)
     scale = _auto(scale, peak, ext / 10.0)
-    verts, loops, sizes, colours, values, extremes = [], [], [], [], [], []
+    verts, loops, sizes, colours, values = [], [], [], [], []
     for k in range(frame.n_members):
         s, v = _split_at_zeros(*data[k])
         base = readout.axis_points(frame, k, s)
@@ -633,11 +643,6 @@ def draw_diagram(scene, results, case: str, quantity: str, scale: float = 0.0, m
             sizes.append(4)
             colours.append(_SIGN_COLOURS[0 if mean >= 0 else 1])
             values.append(mean)
-        at = int(np.argmax(np.abs(v)))
-        if abs(v[at]) > 0.02 * peak:
-            # a little beyond the tip, and a little towards -Y so that a front view shows it before the fill
-            away = _diagram_direction(quantity, R[k]) * np.sign(v[at]) * 0.02 * ext + np.array([0.0, -0.01 * ext, 0.0])
-            extremes.append((abs(v[at]), float(v[at]), tip[at] + away, frame.member_ids[k]))
     allv = np.concatenate(verts) if verts else np.zeros((0, 3))
     me = _mesh(f"PF diagram {quantity} {case}", allv, np.array(loops, np.int32), np.array(sizes, np.int32),
                colours=np.array(colours).reshape(-1, 4), domain="FACE", values=np.array(values))
@@ -648,15 +653,24 @@ def draw_diagram(scene, results, case: str, quantity: str, scale: float = 0.0, m
     obj["pf_case"] = case
     obj["pf_scale"] = scale
     obj["pf_peak"] = peak
+    # the report's labels: member ends and extremes, placed without overlap in the frame's plane (or the
+    # axonometric view of a space frame), the text lying in that view's plane
+    from .engine import engine
+
+    views = engine("report.views")
     size = 0.022 * ext
-    placed: list[np.ndarray] = []
-    for _, value, where, mid in sorted(extremes, key=lambda e: -e[0]):
-        if len(placed) >= max_labels or any(np.linalg.norm(where - p) < 6 * size for p in placed):
-            continue  # keep labels apart: the larger value wins
-        placed.append(where)
-        label = _text(f"PF value {quantity} {mid}", readout.format_value(quantity, value), size, tuple(where), coll)
+    view = views.drawing_view(frame)
+    towards_viewer = 0.01 * ext * view.n  # in front of the fill
+    limit = max_labels if view.in_plane else min(max_labels, 24)  # a space frame: the largest values only
+    placed = views.diagram_labels(results, case, quantity, view, scale=scale, text_height=size, limit=limit,
+                            fmt=lambda value: readout.format_value(quantity, value), local=True)
+    for lab, text, where in placed:
+        mid = frame.member_ids[lab.member]
+        label = _text(f"PF value {quantity} {mid}", text, size, tuple(where + towards_viewer), coll,
+                      rotation=view.rotation())
         label["pf_kind"] = "diagram value"
         label["pf_id"] = mid
+        label["pf_value"] = lab.value
     return obj, scale
 
 

@@ -115,7 +115,12 @@ def main(argv=None) -> int:
         scene.world = world
         scene.render.film_transparent = False
         scene.view_settings.view_transform = "Standard"
-        _frame_camera(bpy, scene, [o for o in scene.objects])
+        # the camera looks along the view the add-on placed its labels in: the frame's plane (turned a little
+        # for depth) or the axonometric view of a space frame
+        views = sys.modules["bl_ext.user_default.plumbframe"].engine.engine("report.views")
+        view = views.drawing_view(results.frame)
+        direction = view.n if not view.in_plane else view.n + 0.3 * views.axonometric().n
+        _frame_camera(bpy, scene, [o for o in scene.objects], direction=tuple(direction))
         args.out.parent.mkdir(parents=True, exist_ok=True)
         scene.render.filepath = str(args.out)
         scene.render.image_settings.file_format = "PNG"

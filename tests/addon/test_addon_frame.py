@@ -91,6 +91,13 @@ def test_analyse_show_colour_diagram_governing(bpy_clean, addon, engine):
     diagram = bpy.data.objects["PF diagram My P"]
     assert diagram["pf_peak"] == pytest.approx(P * L, rel=1e-9)
     assert len(diagram.data.polygons) >= 2
+    # value labels as the report places them (analysis.report.views.diagram_labels): the support's P L and
+    # the joint's P L/2 once (two members meet there with the same value), the free end's zero left out
+    labels = [o for o in addon.drawing.role_collection(scene, "diagrams").objects if o.get("pf_kind") == "diagram value"]
+    values = sorted(round(abs(o["pf_value"])) for o in labels)
+    assert values == [round(P * L / 2), round(P * L)]
+    assert {o["pf_text"] for o in labels} == {"30 kN·m", "15 kN·m"} or {o["pf_text"] for o in labels} == {
+        "-30 kN·m", "-15 kN·m"}
 
     # governing member: the root member, at the support
     assert bpy.ops.plumbframe.select_governing() == {"FINISHED"}
