@@ -156,3 +156,29 @@ def test_axially_rigid_columns_sway_portal():
     # equilibrium of the columns' axial forces with the vertical loads (constraint forces)
     N = [res.diagram("G", m)["N"][0] for m in ("AB", "DC")]
     assert sum(N) == pytest.approx(-3.0e6, rel=1e-6)
+
+
+def test_pinned_beam_column_central_point_load():
+    """Midspan moment (Q / 2k) tan(kL/2) under compression P and a central point load Q
+    (Timoshenko & Gere, ch. 1 — from memory); the load sits on a piece boundary and inside one."""
+    from analysis import PointLoad
+
+    P, Q = 0.5 * PE, 20e3
+    k = math.sqrt(P / (E * I))
+    for at in (0.5, 0.55):
+        b = FrameBuilder()
+        b.add_node("A", (0, 0, 0), support="ux uy uz rx")
+        b.add_node("B", (L, 0, 0), support="uy uz")
+        b.add_member("AB", "A", "B", SEC, MAT)
+        b.add_case(LoadCase("Q", nodal=(NodalLoad("B", (-P, 0, 0, 0, 0, 0)),),
+                            member=(PointLoad("AB", "z", -Q, at, axes="global", relative=True),)))
+        res = analyze(b.build(), AnalysisOptions(second_order=True))
+        dg = res.diagram("Q", "AB")
+        a = at * L
+        if at == 0.5:
+            expected = Q / (2 * k) * math.tan(k * L / 2)
+        else:  # load at a from A: moment under the load Q sin(k(L−a)) sin(ka) / (k sin kL) (same source)
+            expected = Q * math.sin(k * (L - a)) * math.sin(k * a) / (k * math.sin(k * L))
+        under = np.abs(dg.stations - a) < 1e-9
+        assert under.any()
+        assert_allclose(np.abs(dg["My"][under]).max(), expected, rtol=RTOL)
