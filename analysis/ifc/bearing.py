@@ -21,7 +21,7 @@ from typing import Any, Sequence
 import numpy as np
 import numpy.typing as npt
 
-__all__ = ["bearing_hits", "body_triangles", "BEARING_CLASSES"]
+__all__ = ["bearing_hits", "body_triangles", "carried_by", "BEARING_CLASSES"]
 
 logger = logging.getLogger(__name__)
 
@@ -62,7 +62,7 @@ def body_triangles(ifc_file, entities: Sequence[Any]) -> dict[int, npt.NDArray[n
 
 
 def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDArray[np.float64],
-                 below: npt.NDArray[np.float64], tol: float) -> npt.NDArray[np.int64]:
+                 below: npt.NDArray[np.float64], tol: float, embedded: bool = True) -> npt.NDArray[np.int64]:
     """For each point, the id of the element it bears on, or -1.
 
     Parameters
@@ -93,8 +93,8 @@ def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDAr
         if len(cand) == 0:
             continue
         # a point inside the body (an end built into a wall): bears, with gap 0
-        inside = _inside(tri_all, pts[cand, :3])
-        for i in cand[inside]:
+        within = _inside(tri_all, pts[cand, :3]) if embedded else np.zeros(len(cand), dtype=bool)
+        for i in cand[within]:
             o = owner[i]
             if best[o] > 0.0:
                 best[o] = 0.0
@@ -131,6 +131,19 @@ def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDAr
                     best[o] = g
                     hit[o] = eid
     return hit
+
+
+def carried_by(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDArray[np.float64],
+               above: npt.NDArray[np.float64], tol: float) -> set[int]:
+    """Ids of the elements that rest on the given points: a downward face of the body within ``tol``
+    of the top of the section there (``above``, m over each point), found as `bearing_hits` upside down.
+
+    ``points`` is ``(q, s, 3)`` as in `bearing_hits`: points along frame members.
+    """
+    flipped = {eid: (tri[:, [0, 2, 1]] * np.array([1.0, 1.0, -1.0])) for eid, tri in triangles.items()}
+    mirrored = points * np.array([1.0, 1.0, -1.0])
+    hit = bearing_hits(flipped, mirrored, above, tol, embedded=False)
+    return {int(h) for h in hit if h >= 0}
 
 
 def _plan_area(tri: npt.NDArray[np.float64]) -> npt.NDArray[np.float64]:

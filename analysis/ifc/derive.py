@@ -105,7 +105,10 @@ Supports
     element's body (``ifcopenshell.geom``), or the end built into the body
     (a beam in a wall pocket) — or a column connected to a
     footing by ``IfcRelConnectsElements``: column bottoms as in (a), beam
-    and member ends pinned; (c) when (a) and (b) find nothing (a roof grid,
+    and member ends pinned; a wall or slab that itself rests on other frame
+    members (a deck on beams, a wall on a transfer beam: a downward face of
+    its body on their sections' tops) hands its load on to them and is no
+    support; (c) when (a) and (b) find nothing (a roof grid,
     a truss or a deck without bearings in the file), the nodes at the
     model's lowest elevation, pinned. Which rule supported how many nodes
     is reported.
@@ -1929,6 +1932,18 @@ class _Deriver:
             pts[i, 1] = p + inward * min(self.tol, 0.25 * L[k])  # an end flush with a face still bears
             below[i] = under_k[k]
         hit = bearing_hits(tris, pts, below, self.tol)
+        if kind is None and (hit >= 0).any():
+            # a wall or slab that itself rests on frame members (a slab on beams, a wall on a transfer beam)
+            # hands its load on to them: it is no support
+            on: dict[int, set[int]] = defaultdict(set)  # bearing element -> the members bearing on it
+            for i in np.flatnonzero(hit >= 0).tolist():
+                on[int(hit[i])].add(ends[i][0])
+            carried = self._carried(tris, on, A, B, L, under_k)
+            if carried:
+                hit[np.isin(hit, np.fromiter(carried, dtype=np.int64))] = -1
+                self.notes.append(f"{len(carried)} walls or slabs that member ends bear on rest on frame members "
+                                  "themselves, so they are no supports: "
+                                  + _names([entity_label(self.ifc_file.by_id(c)) for c in sorted(carried)]) + ".")
         cls_of = {e.id(): e for e in bearers}
         counts: dict[str, int] = {}
         bottom_nodes = set(bottoms.values())
@@ -1948,6 +1963,24 @@ class _Deriver:
             self.diagnostics.append(Diagnostic("info", elements[k].eid, f"{elements[k].label} {'start' if e_ == 0 else 'end'} "
                                                f"bears on {entity_label(bearer)}: supported ({how})"))
         return counts
+
+    def _carried(self, tris, on: dict[int, set[int]], A, B, L, above) -> set[int]:
+        """Which bearing elements rest on frame members other than those bearing on them (points every 0.5 m or so)."""
+        from .bearing import carried_by
+
+        n = np.clip(np.ceil(L / 0.5).astype(np.int64) + 1, 2, 41)
+        owner = np.repeat(np.arange(len(A)), n)
+        frac = np.concatenate([np.linspace(0.0, 1.0, c) for c in n])
+        pts = (A[owner] + frac[:, None] * (B - A)[owner])[:, None, :]
+        top = np.asarray(above, dtype=float)[owner]
+        out: set[int] = set()
+        for eid, members_on in on.items():
+            if eid not in tris:
+                continue
+            use = ~np.isin(owner, np.fromiter(members_on, dtype=np.int64))
+            if use.any() and carried_by({eid: tris[eid]}, pts[use], top[use], self.tol):
+                out.add(eid)
+        return out
 
     def _footing_connected(self, el: _Element) -> bool:
         if getattr(self, "_footing_links", None) is None:

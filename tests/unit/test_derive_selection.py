@@ -361,3 +361,22 @@ def test_loose_group_hanging_from_a_beam_is_joined_by_its_joints():
         np.testing.assert_allclose(fr.offsets[i, 1], [0, 0, -0.25], atol=1e-12)
     assert any("merged with" in lab and "'T'" in lab for lab in fr.member_labels)  # T lies along B1 now
     np.testing.assert_allclose(_reaction_z(fr), RHO * G * (2 * 0.09 * 4 + 0.08 * 6 + 0.01 * (2 * 1.75 + 2 * 2)), rtol=1e-9)
+
+
+def test_a_slab_resting_on_beams_is_no_support():
+    def model(z):
+        m = portal()
+        box = _wall(m, (-0.5, -1.0, z), (7.0, 2.0), 0.2)
+        m.f.create_entity("IfcSlab", GlobalId=m.gid(), Name="Deck", ObjectPlacement=box.ObjectPlacement,
+                          Representation=box.Representation)
+        m.f.remove(box)
+        m.element("IfcColumn", "C3", (3, 0, z + 0.2), (3, 0, z + 2.8), COL)  # stands on the deck
+        return m.derive()
+
+    fr, diags, _ = model(4.2)  # the deck lies on B1's top face (B1 is 0.4 deep): it hands C3 on to B1, no support
+    assert "C3" not in fr.member_ids and fr.restraints.any(axis=1).sum() == 2
+    assert any("'C3'" in d.message and "connected to no support" in d.message for d in diags)
+    fr, diags, _ = model(6.0)  # a deck that rests on no frame member (on walls not in the model): C3 stands on it
+    k = fr.member_index("C3")
+    assert fr.restraints[fr.members[k, 0]].all()
+    assert any("'C3' start bears on" in d.message and "'Deck'" in d.message for d in diags)
