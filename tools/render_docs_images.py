@@ -44,12 +44,19 @@ def _chromium() -> str:
     raise SystemExit("chromium not found on PATH (Debian: apt-get install chromium)")
 
 
-def _shrink(path: pathlib.Path) -> None:
-    """A 256-colour palette PNG (flat drawings lose nothing visible)."""
+def _shrink(path: pathlib.Path, trim: bool = False) -> None:
+    """A 256-colour palette PNG (flat drawings lose nothing visible); ``trim`` cuts the empty page below."""
+    import numpy as np
     from PIL import Image
 
     with Image.open(path) as im:
-        small = im.convert("RGB").quantize(colors=256, method=Image.Quantize.MEDIANCUT, dither=Image.Dither.NONE)
+        rgb = im.convert("RGB")
+    if trim:
+        a = np.asarray(rgb)
+        differs = (a != a[-1:, :, :]).any(axis=(1, 2))
+        last = int(np.flatnonzero(differs).max()) if differs.any() else a.shape[0] - 1
+        rgb = rgb.crop((0, 0, a.shape[1], min(a.shape[0], last + 24)))
+    small = rgb.quantize(colors=256, method=Image.Quantize.MEDIANCUT, dither=Image.Dither.NONE)
     small.save(path, optimize=True)
 
 
@@ -59,7 +66,7 @@ def _screenshot(html: pathlib.Path, png: pathlib.Path, size: str, work: pathlib.
                     f"--window-size={size}", html.as_uri()], check=True, capture_output=True, timeout=300)
     if not png.exists():
         raise SystemExit(f"chromium wrote no screenshot of {html}")
-    _shrink(png)
+    _shrink(png, trim=True)
 
 
 def _part(text: str, start: str, end: str | None) -> str:
