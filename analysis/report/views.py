@@ -144,7 +144,7 @@ def frame_plane_view(frame, tol: float | None = None) -> View | None:
     size = _size(P)
     tol = 1e-6 * size if tol is None else tol
     c = P.mean(axis=0)
-    _, sv, Vt = np.linalg.svd(P - c, full_matrices=True)
+    _, sv, Vt = np.linalg.svd(P - c, full_matrices=len(P) < 3)  # full U of a building would be (2m)² doubles
     normal = Vt[-1]
     if float(np.abs((P - c) @ normal).max()) > tol:
         return None
