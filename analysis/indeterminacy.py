@@ -81,9 +81,16 @@ stiffness: the null space of the reduced stiffness. It is computed from the
 geometry alone (the zero-deformation conditions of every member, spring,
 support and constraint) after collapsing every cluster of rigidly connected
 members and rigid bodies to one rigid body, so a building of moment frames
-reduces to a few dozen unknowns; when that reduction stays large the
-reduced stiffness is factorised instead, and only a failed factorisation
-leads to an eigenvalue count. For a pin-jointed truss the result satisfies
+reduces to a few dozen unknowns. A condition that leaves a single unknown
+free fixes it (a supported cluster, then whatever hangs on it, in turn);
+what remains falls apart into small connected blocks, each ranked densely
+(an SVD), so a model of hundreds of loose cleats, plates and pin-jointed
+parts is counted in seconds. When a block stays larger than `DENSE_LIMIT`
+the reduced stiffness is factorised instead, and only a failed
+factorisation leads to an eigenvalue count, per connected block of the
+stiffness, dense up to `DENSE_LIMIT` unknowns; a bigger block is asked for
+at most `MAX_SPARSE_NULL` zero eigenvalues, and a count that reaches that
+bound is said to be a lower bound in the notes. For a pin-jointed truss the result satisfies
 the extended Maxwell rule ``s - m = b + r - 2j`` (plane) or ``b + r - 3j``
 (space).
 

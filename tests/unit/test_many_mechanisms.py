@@ -93,3 +93,21 @@ def test_hundreds_of_mechanisms_are_all_counted_and_a_few_described():
     assert 0 < len(r.mechanism_descriptions) <= 6
     assert any(f"... and {expected - len(r.mechanism_descriptions)} more mechanisms" == n for n in r.notes)
     assert not any("lower bound" in n for n in r.notes)
+
+
+def test_fixing_columns_held_alone_keeps_the_nullity():
+    """Nullity of M equals that of what `_peel_fixed` leaves (compared with numpy's SVD rank)."""
+    import scipy.sparse as sp
+
+    from analysis.indeterminacy import _peel_fixed
+
+    rng = np.random.default_rng(3)
+    for trial in range(40):
+        r, c = int(rng.integers(5, 40)), int(rng.integers(5, 40))
+        dense = rng.uniform(-1.0, 1.0, (r, c)) * (rng.uniform(size=(r, c)) < rng.uniform(0.03, 0.2))
+        M = sp.csr_array(dense if trial % 2 else dense.round(1))  # rounded: exact dependencies at times
+        rows, cols = _peel_fixed(M)
+        full = c - np.linalg.matrix_rank(M.toarray()) if r else c
+        core = M[rows][:, cols].toarray()
+        left = cols.size - (np.linalg.matrix_rank(core) if core.size else 0)
+        assert left == full, trial
