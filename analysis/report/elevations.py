@@ -108,8 +108,8 @@ def elevation_frame_figure(frame, view: View) -> str:
     return to_png_base64(fig)
 
 
-def elevation_case_figure(results, case: str, view: View, actions=("N", "V", "M")) -> str:
-    """Deformed shape and the in-plane N, V, M of one case in one elevation (base64 PNG)."""
+def elevation_case_figure(results, case: str, view: View, actions=("N", "V", "M"), *, deformed: bool = True) -> str:
+    """Deformed shape (unless ``deformed=False``) and the in-plane N, V, M of one case in one elevation (base64 PNG)."""
     from matplotlib.collections import LineCollection, PolyCollection
 
     from .plots import _deformed, _mpl, _size, to_png_base64
@@ -118,7 +118,7 @@ def elevation_case_figure(results, case: str, view: View, actions=("N", "V", "M"
     frame = results.frame
     members = _members(frame, view)
     w, h = _panel_shape(frame, view, members)
-    panels = ["deformed", *actions]
+    panels = ["deformed", *actions] if deformed else list(actions)
     nrow = (len(panels) + 1) // 2
     fig, axs = plt.subplots(nrow, 2, figsize=(2 * w, h * nrow), squeeze=False)
     for ax in axs.ravel()[len(panels):]:

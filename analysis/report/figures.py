@@ -4,7 +4,8 @@ A frame whose members all lie in one plane is drawn in that plane's
 elevation (or plan): the overview and every case. A space frame keeps the
 axonometric view and gets one elevation per vertical plane of members (grid
 line), the planes holding the most members first: up to
-`views.MAX_ELEVATIONS` in the overview and `CASE_ELEVATIONS` per case, and
+`views.MAX_ELEVATIONS` in the overview and `CASE_ELEVATIONS` per case (N and
+M only), and
 per-case elevations only where the plane holds at most `plots.LARGE`
 members (a building's diagrams are member colours in the axonometric view).
 
@@ -17,8 +18,10 @@ from .views import MAX_ELEVATIONS, View, axonometric, frame_plane_view, member_p
 
 __all__ = ["overview_figures", "case_figures", "report_views", "CASE_ELEVATIONS"]
 
-#: elevations per case of a space frame (the overview shows up to views.MAX_ELEVATIONS)
-CASE_ELEVATIONS = 3
+#: elevations per case of a space frame (the overview shows up to views.MAX_ELEVATIONS); one where the model
+#: has more than `MANY_CASES` cases and combinations. They show N and M (the axonometric figure has the rest).
+CASE_ELEVATIONS = 2
+MANY_CASES = 10
 
 
 def report_views(frame) -> tuple[View | None, list[View]]:
@@ -87,10 +90,11 @@ def case_figures(results, case: str, actions, views=None) -> list[tuple[str, str
     out.append((f"{case}: deformed shape and internal-force diagrams drawn on the frame in the axonometric view "
                 "(N and V towards local +z or +y; moments on the stretched side)",
                 case_figure(results, case, actions), "axonometric", axonometric().name))
-    for view in elevations[:CASE_ELEVATIONS]:
+    shown = in_plane if len(in_plane) == 1 else tuple(a for a in in_plane if a != "V")
+    for view in elevations[:CASE_ELEVATIONS if len(results.cases) <= MANY_CASES else 1]:
         if _count(frame, view) > LARGE:
             continue
-        out.append((f"{case}: deformed shape (projected) and N, V, M of the {_count(frame, view)} members in the "
-                    f"{view.name} (moments on the tension side)",
-                    elevation_case_figure(results, case, view, in_plane), view.kind, view.name))
+        out.append((f"{case}: {', '.join(shown)} of the {_count(frame, view)} members in the {view.name} "
+                    "(moments on the tension side)",
+                    elevation_case_figure(results, case, view, shown, deformed=False), view.kind, view.name))
     return out
