@@ -29,7 +29,10 @@ def report_views(frame) -> tuple[View | None, list[View]]:
     own = frame_plane_view(frame)
     if own is not None:
         return own, []
-    return None, member_plane_views(frame, MAX_ELEVATIONS)
+    from .plots import LARGE
+
+    # a building of thousands of members: three elevations (each is a drawing of thousands of lines)
+    return None, member_plane_views(frame, MAX_ELEVATIONS if frame.n_members <= LARGE else 3)
 
 
 def overview_figures(frame, results=None, views=None) -> list[tuple[str, str, str, str]]:
