@@ -46,14 +46,27 @@ def overview_figures(frame, results=None, views=None) -> list[tuple[str, str, st
         out.append((f"{own.name[0].upper() + own.name[1:]} of the analytical frame ({legend})",
                     elevation_frame_figure(frame, own), own.kind, own.name))
     iso = axonometric()
-    for caption, b64 in frame_views(frame, results):
-        if caption.startswith("Axonometric") or (not elevations and own is None):
+    if own is None and not elevations:  # no plane of members: the XZ and YZ projections and the 3D view
+        for caption, b64 in frame_views(frame, results):
             kind = "axonometric" if caption.startswith("Axonometric") else "projection"
             out.append((caption, b64, kind, iso.name if kind == "axonometric" else "XZ and YZ projections"))
+    else:
+        out.append((f"Axonometric (3D) view of the analytical frame ({legend})", _axonometric_figure(frame),
+                    "axonometric", iso.name))
     for view in elevations:
         out.append((f"{view.name[0].upper() + view.name[1:]}: the {_count(frame, view)} members in this plane "
                     f"({legend})", elevation_frame_figure(frame, view), view.kind, view.name))
     return out
+
+
+def _axonometric_figure(frame) -> str:
+    """The overview's 3D view alone (plots.frame_views also draws projections, not needed beside elevations)."""
+    from .plots import _draw_frame, _mpl, _setup, project, to_png_base64
+
+    fig, ax = _mpl().subplots(figsize=(9, 7))
+    _draw_frame(ax, frame, "iso")
+    _setup(ax, "iso", "Axonometric view of the analytical frame", project(frame.nodes, "iso"))
+    return to_png_base64(fig)
 
 
 def _count(frame, view: View) -> int:
