@@ -402,17 +402,25 @@ class _Writer:
         return self._by_guid[guid]
 
     # -- conversions ------------------------------------------------------------
+    def _scale(self, what: str) -> float:
+        """The file's unit scale of ``what`` as a plain float (looked up once)."""
+        scales = self.__dict__.setdefault("_scales", {})
+        value = scales.get(what)
+        if value is None:
+            value = scales[what] = float(getattr(self.units, what))
+        return value
+
     def _force(self, v):
-        return float(v) / self.units.force
+        return float(v) / self._scale("force")
 
     def _moment(self, v):
-        return float(v) / self.units.moment
+        return float(v) / self._scale("moment")
 
     def _length(self, v):
-        return float(v) / self.units.length
+        return float(v) / self._scale("length")
 
     def _angle(self, v):
-        return float(v) / self.units.angle
+        return float(v) / self._scale("angle")
 
     def _active(self) -> list[int]:
         return sorted(self.results.active_components)
@@ -906,7 +914,8 @@ class _Writer:
             text[k] = number
         names: dict[str, str] = {}
         prop_fmt = self._line("IfcPropertySingleValue", ("Name", "NominalValue"))
-        ids: list[int] = []
+        ids: list[str] = []  # '#id' of each property, in the order of the flattened lists
+        quoted_text: dict[str, str] = {}
         lines: list[str] = []
         cache = self._properties
         out = self.out
@@ -915,7 +924,9 @@ class _Writer:
             tok = text[k]
             if tok is None:
                 if t in self._TEXT_TYPES:
-                    tok = string(v)
+                    tok = quoted_text.get(v)
+                    if tok is None:
+                        tok = quoted_text[v] = string(v)
                 elif t == "IfcInteger":
                     tok = str(int(v))
                 else:
@@ -931,7 +942,7 @@ class _Writer:
                 if quoted is None:
                     quoted = names[pname] = string(pname)
                 lines.append(f"#{pid}={prop_fmt % (quoted, key[1])};\n")
-            ids.append(pid)
+            ids.append(f"#{pid}")
         pset_fmt = self._line("IfcPropertySet", ("GlobalId", "OwnerHistory", "Name", "Description", "HasProperties"))
         rel_fmt = self._line("IfcRelDefinesByProperties", ("GlobalId", "OwnerHistory", "RelatedObjects",
                                                             "RelatingPropertyDefinition"))
@@ -943,7 +954,7 @@ class _Writer:
             mine = ids[at:at + len(props)]
             at += len(props)
             pset = first + 2 * j
-            lines.append(f"#{pset}={pset_fmt % (repr_guid(guids[2 * j]), owner, string(name), tag, '(' + ','.join(f'#{i}' for i in mine) + ')')};\n"
+            lines.append(f"#{pset}={pset_fmt % (repr_guid(guids[2 * j]), owner, string(name), tag, '(' + ','.join(mine) + ')')};\n"
                          f"#{pset + 1}={rel_fmt % (repr_guid(guids[2 * j + 1]), owner, '(' + ','.join(f'#{o.id()}' for o in objects) + ')', f'#{pset}')};\n")
         out.extend(lines)
 
