@@ -627,9 +627,16 @@ def draw_diagram(scene, results, case: str, quantity: str, scale: float = 0.0, m
     peak = max((float(np.abs(v).max()) for _, v in data if v.size), default=0.0)
     scale = _auto(scale, peak, ext / 10.0)
     verts, loops, sizes, colours, values = [], [], [], [], []
+    from .engine import engine
+
+    views = engine("report.views")
+    view = views.drawing_view(frame)
+    # fills of members in one plane overlap (a truss's N): each member's a hair nearer the viewer than the
+    # one before, so the renderer shows one of them instead of stripes of both
+    layer = 2e-4 * ext * view.n
     for k in range(frame.n_members):
         s, v = _split_at_zeros(*data[k])
-        base = readout.axis_points(frame, k, s)
+        base = readout.axis_points(frame, k, s) + (k % 16) * layer
         tip = base + scale * v[:, None] * _diagram_direction(quantity, R[k])[None, :]
         first = sum(len(x) for x in verts)
         verts.append(np.concatenate([base, tip]))
@@ -655,11 +662,7 @@ def draw_diagram(scene, results, case: str, quantity: str, scale: float = 0.0, m
     obj["pf_peak"] = peak
     # the report's labels: member ends and extremes, placed without overlap in the frame's plane (or the
     # axonometric view of a space frame), the text lying in that view's plane
-    from .engine import engine
-
-    views = engine("report.views")
     size = 0.022 * ext
-    view = views.drawing_view(frame)
     towards_viewer = 0.01 * ext * view.n  # in front of the fill
     limit = max_labels if view.in_plane else min(max_labels, 24)  # a space frame: the largest values only
     placed = views.diagram_labels(results, case, quantity, view, scale=scale, text_height=size, limit=limit,
