@@ -812,7 +812,7 @@ class _Writer:
         D = np.concatenate([dg.deflections for dg in diagrams])
         keep = select_stations_batch(sizes, S, F, D, self.stations)
         S = S + np.repeat(np.array([offset for _, offset in order], float), sizes)  # along the IFC member
-        per_segment = np.add.reduceat(keep, np.concatenate([[0], np.cumsum(sizes)[:-1]])) if sizes.size else sizes
+        per_segment = np.add.reduceat(keep.astype(np.int64), np.concatenate([[0], np.cumsum(sizes)[:-1]])) if sizes.size else sizes
         n_segments = [len(segments) for segments in chains.values()]
         counts = np.add.reduceat(per_segment, np.concatenate([[0], np.cumsum(n_segments)[:-1]])).tolist() \
             if n_segments else []
