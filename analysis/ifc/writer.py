@@ -791,7 +791,8 @@ class _Writer:
         first = self.out.block(2 * n)
         owner = self._owner_ref
         extra = (predefined,) if predefined else ()
-        lines = [f"#{first + 2 * j}={fmt % (repr_guid(guids[2 * j]), owner, names[j], tag, f'#{loads[j]}', coords, *extra)};\n"
+        lines = [f"#{first + 2 * j}="
+                 f"{fmt % (repr_guid(guids[2 * j]), owner, names[j], tag, f'#{loads[j]}', coords, *extra)};\n"
                  f"#{first + 2 * j + 1}={rel % (repr_guid(guids[2 * j + 1]), owner, items[j], f'#{first + 2 * j}')};\n"
                  for j in range(n)]
         self.out.extend(lines)
@@ -812,7 +813,8 @@ class _Writer:
         D = np.concatenate([dg.deflections for dg in diagrams])
         keep = select_stations_batch(sizes, S, F, D, self.stations)
         S = S + np.repeat(np.array([offset for _, offset in order], float), sizes)  # along the IFC member
-        per_segment = np.add.reduceat(keep.astype(np.int64), np.concatenate([[0], np.cumsum(sizes)[:-1]])) if sizes.size else sizes
+        seg_starts = np.concatenate([[0], np.cumsum(sizes)[:-1]])
+        per_segment = np.add.reduceat(keep.astype(np.int64), seg_starts) if sizes.size else sizes
         n_segments = [len(segments) for segments in chains.values()]
         counts = np.add.reduceat(per_segment, np.concatenate([[0], np.cumsum(n_segments)[:-1]])).tolist() \
             if n_segments else []
@@ -906,7 +908,8 @@ class _Writer:
         if not pending:
             return
         flat = [p for _, _, props in pending for p in props]
-        numeric = [k for k, (_, t, _) in enumerate(flat) if t not in self._TEXT_TYPES and t not in ("IfcInteger", "IfcBoolean")]
+        exact = (*self._TEXT_TYPES, "IfcInteger", "IfcBoolean")
+        numeric = [k for k, (_, t, _) in enumerate(flat) if t not in exact]
         tokens = reals(np.array([float(flat[k][2]) for k in numeric])) if numeric else []
         text: list[str | None] = [None] * len(flat)
         tok: str | None
@@ -954,8 +957,10 @@ class _Writer:
             mine = ids[at:at + len(props)]
             at += len(props)
             pset = first + 2 * j
-            lines.append(f"#{pset}={pset_fmt % (repr_guid(guids[2 * j]), owner, string(name), tag, '(' + ','.join(mine) + ')')};\n"
-                         f"#{pset + 1}={rel_fmt % (repr_guid(guids[2 * j + 1]), owner, '(' + ','.join(f'#{o.id()}' for o in objects) + ')', f'#{pset}')};\n")
+            props_text = "(" + ",".join(mine) + ")"
+            objects_text = "(" + ",".join(f"#{o.id()}" for o in objects) + ")"
+            lines.append(f"#{pset}={pset_fmt % (repr_guid(guids[2 * j]), owner, string(name), tag, props_text)};\n"
+                         f"#{pset + 1}={rel_fmt % (repr_guid(guids[2 * j + 1]), owner, objects_text, f'#{pset}')};\n")
         out.extend(lines)
 
     def _common(self) -> list[tuple[str, str, Any]]:
