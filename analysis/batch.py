@@ -776,7 +776,10 @@ def _dask(tasks: Sequence[ModelTask], progress: _Progress, verbose: bool, done: 
             n = max(1, min(workers or _cores(), len(tasks)))
             progress.con.progress(f"starting {n} Dask worker process{'es' if n > 1 else ''}")
             try:
-                cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True, dashboard_address=None,
+                # on this machine only; no dashboard, and the scheduler's small HTTP server (health, metrics) on
+                # a free port rather than 8787, which another cluster may hold
+                cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True, host="127.0.0.1",
+                                       dashboard_address=None, scheduler_kwargs={"dashboard_address": "127.0.0.1:0"},
                                        silence_logs=logging.CRITICAL if not verbose else logging.WARNING)
                 client = Client(cluster)
             except Exception as exc:  # no ports, no process spawning, ...: the batch still runs

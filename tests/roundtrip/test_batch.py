@@ -373,6 +373,7 @@ class _Cluster:
         self.log = open(folder / "dask.log", "wb")
         self.procs.append(subprocess.Popen(
             _dask_cmd("scheduler", "--host", "127.0.0.1", "--port", "0", "--no-dashboard",
+                      "--dashboard-address", "127.0.0.1:0",  # its HTTP server (health, metrics): a free port
                       "--scheduler-file", str(self.file)), stderr=self.log, **common))
         for k in range(2):
             self.procs.append(subprocess.Popen(
