@@ -132,7 +132,7 @@ RANK_TOL = 1e-9  # relative singular-value tolerance of the geometric rank
 DENSE_LIMIT = 2500  # largest group of reduced unknowns ranked densely
 MAX_EXPLAINED = 200  # redundant constraints explained one by one
 MAX_MODES = 6  # mechanisms described one by one
-MAX_SPARSE_NULL = 256  # most zero eigenvalues asked of one big block of the stiffness (then: a lower bound)
+MAX_SPARSE_NULL = 2048  # most zero eigenvalues sought in one big block of the stiffness (then: a lower bound)
 
 _AXIS = "XYZ"
 
@@ -493,12 +493,10 @@ def _stiffness_null_space(Kq) -> tuple[np.ndarray, bool]:
 
     Jacobi scaled, split into the connected blocks of its sparsity pattern
     (a loose part is its own block); a block of up to `DENSE_LIMIT` unknowns
-    is ranked densely (eigh), a bigger one by shift-invert Lanczos asking for
-    at most `MAX_SPARSE_NULL` eigenvalues. ``complete`` is False when a big
+    is ranked densely (eigh), a bigger one by block inverse iteration
+    (`_block_null`) seeking at most `MAX_SPARSE_NULL` zero eigenvalues. ``complete`` is False when a big
     block still had that many zero eigenvalues: the count is then a lower bound.
     """
-    import scipy.sparse.linalg as spla
-
     n = Kq.shape[0]
     diag = Kq.diagonal()
     zero = np.flatnonzero(diag <= 0)
@@ -522,22 +520,47 @@ def _stiffness_null_space(Kq) -> tuple[np.ndarray, bool]:
             w, V = scipy.linalg.eigh(Kc.toarray())
             small = np.flatnonzero(w < RANK_TOL * max(w.max(), 1.0))
         else:
-            k = 8
-            for _ in range(16):  # k doubles up to MAX_SPARSE_NULL: a bounded number of tries
-                k = min(k, idx.size - 2, MAX_SPARSE_NULL)
-                w, V = spla.eigsh(Kc.tocsc(), k=k, sigma=-1e-6, which="LM")
-                small = np.flatnonzero(w < RANK_TOL)
-                if small.size < k or k >= idx.size - 2:
-                    break
-                if k >= MAX_SPARSE_NULL:
-                    complete = False
-                    break
-                k *= 2
+            w, V, found_all = _block_null(Kc)
+            small = np.flatnonzero(w < RANK_TOL)
+            complete = complete and found_all
         for j in small:
             v = np.zeros(n)
             v[live[idx]] = V[:, j] * s[idx]
             cols.append(v)
     return np.array(cols).T.reshape(n, -1), complete
+
+
+def _block_null(K, shift: float = 1e-6, sweeps: int = 6) -> tuple[np.ndarray, np.ndarray, bool]:
+    """(Ritz values, Ritz vectors, complete) of the smallest eigenvalues of the unit-diagonal PSD ``K``.
+
+    Block inverse iteration on one factorisation of ``K + shift I``: a null
+    space of many exactly equal (zero) eigenvalues is found as a whole, where
+    a single-vector Krylov method sees one direction of it per start vector
+    and stalls. Each sweep damps a mode of eigenvalue λ by shift / (λ +
+    shift) against the zero modes. The block starts at 16 columns and doubles
+    while every Ritz value is zero, up to `MAX_SPARSE_NULL` (then
+    ``complete`` is False: the count is a lower bound).
+    """
+    from .stiffness.solvers import factorize
+
+    n = K.shape[0]
+    F = factorize(sp.csr_array(K + shift * sp.eye_array(n, format="csr")), "auto")
+    rng = np.random.default_rng(0)
+    b = 16
+    most = max(16, min(MAX_SPARSE_NULL, int(3e7) // max(n, 1)))  # a block of at most ~240 MB
+    while True:
+        b = min(b, n, most)
+        X = np.linalg.qr(rng.standard_normal((n, b)))[0]
+        for _ in range(sweeps):
+            X = np.linalg.qr(F.solve(X))[0]
+        H = X.T @ (K @ X)
+        w, Y = np.linalg.eigh(0.5 * (H + H.T))
+        zero = int((w < RANK_TOL).sum())
+        if zero < b or b >= n:
+            return w, X @ Y, True
+        if b >= most:
+            return w, X @ Y, False
+        b *= 2
 
 
 def _skew(d: np.ndarray) -> np.ndarray:
