@@ -541,10 +541,13 @@ def _block_null(K, shift: float = 1e-6, sweeps: int = 6) -> tuple[np.ndarray, np
     while every Ritz value is zero, up to `MAX_SPARSE_NULL` (then
     ``complete`` is False: the count is a lower bound).
     """
-    from .stiffness.solvers import factorize
+    import scipy.sparse.linalg as spla
 
     n = K.shape[0]
-    F = factorize(sp.csr_array(K + shift * sp.eye_array(n, format="csr")), "auto")
+    # SuperLU with a symmetric ordering: K + shift I is SPD but nearly singular, which the pivot checks of
+    # the solvers' Cholesky paths reject
+    F = spla.splu(sp.csc_matrix(K + shift * sp.eye_array(n, format="csr")), permc_spec="MMD_AT_PLUS_A",
+                  diag_pivot_thresh=0.0, options={"SymmetricMode": True})
     rng = np.random.default_rng(0)
     b = 16
     most = max(16, min(MAX_SPARSE_NULL, int(3e7) // max(n, 1)))  # a block of at most ~240 MB
