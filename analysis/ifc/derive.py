@@ -168,7 +168,7 @@ from typing import Any
 import numpy as np
 import numpy.typing as npt
 
-from ..errors import Diagnostic, IfcInputError, entity_label
+from ..errors import Diagnostic, IfcInputError, PlacementError, entity_label
 from ..model import Frame, LineLoad, LoadCase
 from .placement import PlacementCache, axis_placement_matrix, transformation_operator_matrix
 from .selection import LeftOut, left_out_message, parse_supports, reason_kind, select_frame_elements
@@ -834,6 +834,13 @@ class _Deriver:
             kind = _read_representation(el)
             if kind is not None:
                 unusable[el.eid] = kind
+        for el in elements:  # an element placed where no position can be found is left out, not fatal
+            if el.placement is not None:
+                try:
+                    self.placements.matrix(el.placement)
+                except PlacementError as exc:
+                    self._leave_out(el, f"unresolvable placement: {exc}")
+                    el.placement = None
         self.world = self.placements.batch([el.placement for el in elements])
         failed = self._body_geometry(elements, unusable)
         for el in elements:

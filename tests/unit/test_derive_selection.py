@@ -115,6 +115,20 @@ def test_loose_part_is_left_out_and_strict_makes_it_an_error():
     assert exc.value.entity_id == loose.id()
 
 
+def test_element_with_a_circular_placement_is_left_out():
+    """An element whose placement chain runs in a circle has no position: it is left out and named, the rest
+    is analysed (common practice, no source: a bad element never aborts the model)."""
+    m = portal()
+    bad = m.element("IfcBeam", "Knot", (0, 0, 2), (6, 0, 2), BEAM)
+    bad.ObjectPlacement.PlacementRelTo = bad.ObjectPlacement  # the placement is relative to itself
+    fr, diags, notes = m.derive()
+    assert set(fr.member_ids) == {"C1", "C2", "B1"}
+    assert any(d.entity_id == bad.id() and "left out — unresolvable placement" in d.message
+               and "runs in a circle" in d.message for d in diags)
+    with pytest.raises(IfcInputError, match=r"(?s)#\d+ IfcBeam 'Knot'.*unresolvable placement"):
+        m.derive(strict=True)
+
+
 def test_exact_duplicate_is_left_out():
     m = portal()
     m.element("IfcBeam", "Copy", (0, 0, 4), (6, 0, 4), BEAM)  # B1 twice (another GlobalId)
