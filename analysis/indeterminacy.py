@@ -494,7 +494,7 @@ def _stiffness_null_space(Kq) -> tuple[np.ndarray, bool]:
     Jacobi scaled, split into the connected blocks of its sparsity pattern
     (a loose part is its own block); a block of up to `DENSE_LIMIT` unknowns
     is ranked densely (eigh), a bigger one by block inverse iteration
-    (`_block_null`) seeking at most `MAX_SPARSE_NULL` zero eigenvalues. ``complete`` is False when a big
+    (`block_null_space`) seeking at most `MAX_SPARSE_NULL` zero eigenvalues. ``complete`` is False when a big
     block still had that many zero eigenvalues: the count is then a lower bound.
     """
     n = Kq.shape[0]
@@ -520,7 +520,7 @@ def _stiffness_null_space(Kq) -> tuple[np.ndarray, bool]:
             w, V = scipy.linalg.eigh(Kc.toarray())
             small = np.flatnonzero(w < RANK_TOL * max(w.max(), 1.0))
         else:
-            w, V, found_all = _block_null(Kc)
+            w, V, found_all = block_null_space(Kc)
             small = np.flatnonzero(w < RANK_TOL)
             complete = complete and found_all
         for j in small:
@@ -530,7 +530,8 @@ def _stiffness_null_space(Kq) -> tuple[np.ndarray, bool]:
     return np.array(cols).T.reshape(n, -1), complete
 
 
-def _block_null(K, shift: float = 1e-6, sweeps: int = 6) -> tuple[np.ndarray, np.ndarray, bool]:
+def block_null_space(K, shift: float = 1e-6, sweeps: int = 6, most: int | None = None
+                     ) -> tuple[np.ndarray, np.ndarray, bool]:
     """(Ritz values, Ritz vectors, complete) of the smallest eigenvalues of the unit-diagonal PSD ``K``.
 
     Block inverse iteration on one factorisation of ``K + shift I``: a null
@@ -538,8 +539,9 @@ def _block_null(K, shift: float = 1e-6, sweeps: int = 6) -> tuple[np.ndarray, np
     a single-vector Krylov method sees one direction of it per start vector
     and stalls. Each sweep damps a mode of eigenvalue λ by shift / (λ +
     shift) against the zero modes. The block starts at 16 columns and doubles
-    while every Ritz value is zero, up to `MAX_SPARSE_NULL` (then
-    ``complete`` is False: the count is a lower bound).
+    while every Ritz value is zero, up to ``most`` (default `MAX_SPARSE_NULL`,
+    less for a block that would pass ~240 MB; then ``complete`` is False: the
+    count is a lower bound). The Ritz values come in ascending order.
     """
     import scipy.sparse.linalg as spla
 
@@ -550,7 +552,7 @@ def _block_null(K, shift: float = 1e-6, sweeps: int = 6) -> tuple[np.ndarray, np
                   diag_pivot_thresh=0.0, options={"SymmetricMode": True})
     rng = np.random.default_rng(0)
     b = 16
-    most = max(16, min(MAX_SPARSE_NULL, int(3e7) // max(n, 1)))  # a block of at most ~240 MB
+    most = max(1, min(most or MAX_SPARSE_NULL, max(16, int(3e7) // max(n, 1))))  # a block of at most ~240 MB
     while True:
         b = min(b, n, most)
         X = np.linalg.qr(rng.standard_normal((n, b)))[0]
