@@ -45,7 +45,6 @@ import hashlib
 import io
 import json
 import logging
-import math
 import os
 import re
 import shutil
@@ -56,6 +55,8 @@ import threading
 import time
 from dataclasses import dataclass, field
 from typing import Any, Callable, Iterable, Sequence
+
+from .cli import _finite as finite_json  # NaN and infinity become null, as in the results JSON
 
 __all__ = [
     "add_batch_parser",
@@ -668,7 +669,7 @@ def _store(out_dir: str, task: ModelTask, outcome: dict[str, Any], previous: dic
                     fh.write(data)
 
             atomic_write(os.path.join(folder, name), write, suffix=os.path.splitext(name)[1])
-        atomic_text(os.path.join(folder, ROW_FILE), json.dumps(_finite(row), indent=1) + "\n", suffix=".json")
+        atomic_text(os.path.join(folder, ROW_FILE), json.dumps(finite_json(row), indent=1) + "\n", suffix=".json")
         staged.commit()
     for k in ("results_ifc", "results_json", "report"):  # outputs of an earlier run that this one did not make
         old = (previous or {}).get(k)
@@ -678,16 +679,6 @@ def _store(out_dir: str, task: ModelTask, outcome: dict[str, Any], previous: dic
             except OSError:
                 pass
     return row
-
-
-def _finite(obj: Any) -> Any:
-    if isinstance(obj, float):
-        return obj if math.isfinite(obj) else None
-    if isinstance(obj, dict):
-        return {k: _finite(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_finite(v) for v in obj]
-    return obj
 
 
 # --------------------------------------------------------------------------- progress
@@ -885,7 +876,7 @@ def _write_summary(out_dir: str, rows: list[dict[str, Any]], meta: dict[str, Any
     doc["rows"] = [{k: r.get(k) for k in _ROW_KEYS} for r in rows]
     paths = [os.path.join(out_dir, n) for n in ("summary.csv", "summary.json", "index.html")]
     atomic_text(paths[0], _csv_text(rows), suffix=".csv")
-    atomic_text(paths[1], json.dumps(_finite(doc), indent=1, allow_nan=False) + "\n", suffix=".json")
+    atomic_text(paths[1], json.dumps(finite_json(doc), indent=1, allow_nan=False) + "\n", suffix=".json")
     atomic_text(paths[2], index_html(doc), suffix=".html")
     return paths
 

@@ -30,7 +30,7 @@ from ..model import Frame
 from .elements import end_transformation, local_stiffness
 from .geometric import geometric_stiffness
 from .loads import internal_forces
-from .refined import condensation_map
+from .refined import condensation_map, normalised_shape
 from .solvers import Factor, factorize
 from .subdivide import Subdivision, subdivide
 
@@ -205,17 +205,9 @@ class InteriorModel:
 
     def shape(self, y: np.ndarray):
         """Original-node displacements ``(n,6)`` and per member its points ``(c+1,6)``; largest translation 1."""
-        u = self.nodal(y)
-        trans = u[:, :3]
-        k = int(np.argmax(np.abs(trans)))
-        big = trans.ravel()[k]
-        if big != 0.0:
-            u = u / big
         if self._points is None:
             self._points = self.sub.member_points()
-        rows, splits = self._points
-        along = tuple(np.split(u[rows], splits)) if rows.size else ()
-        return u[: self.sub.original.n_nodes].copy(), along
+        return normalised_shape(self.nodal(y), self._points, self.sub.original.n_nodes)
 
 
 def _banded_factor(K: sp.csr_array) -> Factor:

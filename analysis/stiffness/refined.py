@@ -20,7 +20,7 @@ from ..model import AnalysisOptions, Frame
 from .geometric import geometric_stiffness
 from .subdivide import Subdivision, subdivide
 
-__all__ = ["RefinedModel", "condensation_map"]
+__all__ = ["RefinedModel", "condensation_map", "normalised_shape"]
 
 
 def condensation_map(k: np.ndarray, released: np.ndarray) -> np.ndarray:
@@ -152,14 +152,25 @@ class RefinedModel:
         Normalised to a largest translation of 1 over all points, that largest
         translation positive.
         """
-        u = self.nodal(q)
-        trans = u[:, :3]
-        k = int(np.argmax(np.abs(trans)))
-        big = trans.ravel()[k]
-        if big != 0.0:
-            u = u / big
         if self._points is None:
             self._points = self.sub.member_points()
-        rows, splits = self._points
-        along = tuple(np.split(u[rows], splits)) if rows.size else ()
-        return u[: self.sub.original.n_nodes].copy(), along
+        return normalised_shape(self.nodal(q), self._points, self.sub.original.n_nodes)
+
+
+def normalised_shape(u: np.ndarray, points: tuple[np.ndarray, np.ndarray],
+                     n_nodes: int) -> tuple[np.ndarray, tuple[np.ndarray, ...]]:
+    """A mode from the displacements ``u`` (pieces' nodes, 6) of a subdivided frame.
+
+    Returns the original nodes' rows ``(n_nodes, 6)`` and per member its points
+    ``(c+1, 6)`` end i → end j (``points`` = `Subdivision.member_points`),
+    normalised to a largest translation of 1 over all points, that largest
+    translation positive.
+    """
+    trans = u[:, :3]
+    k = int(np.argmax(np.abs(trans)))
+    big = trans.ravel()[k]
+    if big != 0.0:
+        u = u / big
+    rows, splits = points
+    along = tuple(np.split(u[rows], splits)) if rows.size else ()
+    return u[:n_nodes].copy(), along
