@@ -548,7 +548,7 @@ def block_null_space(K, shift: float = 1e-6, sweeps: int = 6, most: int | None =
     n = K.shape[0]
     # SuperLU with a symmetric ordering: K + shift I is SPD but nearly singular, which the pivot checks of
     # the solvers' Cholesky paths reject
-    F = spla.splu(sp.csc_matrix(K + shift * sp.eye_array(n, format="csr")), permc_spec="MMD_AT_PLUS_A",
+    F = spla.splu(sp.csc_matrix(K + sp.diags_array(np.full(n, shift))), permc_spec="MMD_AT_PLUS_A",
                   diag_pivot_thresh=0.0, options={"SymmetricMode": True})
     rng = np.random.default_rng(0)
     b = 16

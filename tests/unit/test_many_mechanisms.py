@@ -111,3 +111,29 @@ def test_fixing_columns_held_alone_keeps_the_nullity():
         core = M[rows][:, cols].toarray()
         left = cols.size - (np.linalg.matrix_rank(core) if core.size else 0)
         assert left == full, trial
+
+
+def test_block_inverse_iteration_finds_a_null_space_of_hundreds():
+    """A graph Laplacian has one zero eigenvalue per connected part (common practice, no source)."""
+    import scipy.sparse as sp
+
+    from analysis.indeterminacy import block_null_space
+
+    parts, size = 300, 12
+    rng = np.random.default_rng(5)
+    i = np.arange(parts * size).reshape(parts, size)
+    a, b = i[:, :-1].ravel(), i[:, 1:].ravel()  # a path in every part ...
+    extra = rng.integers(0, size, (parts, 2))  # ... and one more edge across it
+    a = np.concatenate([a, i[np.arange(parts), extra[:, 0]]])
+    b = np.concatenate([b, i[np.arange(parts), (extra[:, 0] + 2 + extra[:, 1] % (size - 3)) % size]])
+    n = parts * size
+    W = sp.coo_array((np.ones(a.size), (a, b)), shape=(n, n)).tocsr()
+    W = W + W.T
+    L = sp.diags_array(np.asarray(W.sum(axis=1)).ravel()) - W
+    d = 1.0 / np.sqrt(L.diagonal())
+    Ls = sp.csr_array(sp.diags_array(d) @ L @ sp.diags_array(d))
+    w, V, complete = block_null_space(Ls)
+    assert complete
+    assert int((w < 1e-9).sum()) == parts
+    Z = V[:, w < 1e-9]
+    assert np.abs(Ls @ Z).max() < 1e-8
