@@ -56,7 +56,7 @@ import time
 from dataclasses import dataclass, field
 from typing import Any, Callable, Iterable, Sequence
 
-from .cli import _finite as finite_json  # NaN and infinity become null, as in the results JSON
+from .jsonio import plain as finite_json  # NaN and infinity become null, as in the results JSON
 
 __all__ = [
     "add_batch_parser",

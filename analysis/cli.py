@@ -510,17 +510,6 @@ def _atomic_text(path: str, text: str) -> None:
     atomic_text(path, text)
 
 
-def _finite(obj: Any) -> Any:
-    """JSON has no NaN or infinity: such numbers become null."""
-    if isinstance(obj, float):
-        return obj if math.isfinite(obj) else None
-    if isinstance(obj, dict):
-        return {k: _finite(v) for k, v in obj.items()}
-    if isinstance(obj, (list, tuple)):
-        return [_finite(v) for v in obj]
-    return obj
-
-
 def _write_json(path: str, doc: dict) -> None:
     """The document as compact UTF-8 JSON (numpy arrays allowed; NaN/infinity -> null), atomically."""
     from .fileio import atomic_write

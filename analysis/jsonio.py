@@ -13,7 +13,7 @@ from typing import Any
 
 import numpy as np
 
-__all__ = ["dumps"]
+__all__ = ["dumps", "plain"]
 
 
 def _default(obj: Any) -> Any:
@@ -26,18 +26,18 @@ def _default(obj: Any) -> Any:
     raise TypeError(f"{type(obj).__name__} is not JSON serialisable")
 
 
-def _plain(obj: Any) -> Any:
+def plain(obj: Any) -> Any:
     """The document with arrays as lists and non-finite numbers as None (for the standard library)."""
     if isinstance(obj, float):
         return obj if math.isfinite(obj) else None
     if isinstance(obj, dict):
-        return {k: _plain(v) for k, v in obj.items()}
+        return {k: plain(v) for k, v in obj.items()}
     if isinstance(obj, (list, tuple)):
-        return [_plain(v) for v in obj]
+        return [plain(v) for v in obj]
     if isinstance(obj, np.ndarray):
-        return _plain(obj.tolist())
+        return plain(obj.tolist())
     if isinstance(obj, np.generic):
-        return _plain(obj.item())
+        return plain(obj.item())
     return obj
 
 
@@ -46,6 +46,6 @@ def dumps(doc: Any) -> bytes:
     try:
         import orjson
     except ImportError:  # pragma: no cover - orjson is a dependency
-        return (json.dumps(_plain(doc), allow_nan=False, ensure_ascii=False) + "\n").encode("utf-8")
+        return (json.dumps(plain(doc), allow_nan=False, ensure_ascii=False) + "\n").encode("utf-8")
     return orjson.dumps(doc, default=_default,
                         option=orjson.OPT_SERIALIZE_NUMPY | orjson.OPT_NON_STR_KEYS | orjson.OPT_APPEND_NEWLINE)
