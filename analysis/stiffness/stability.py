@@ -25,6 +25,7 @@ from __future__ import annotations
 import copy
 import logging
 from dataclasses import dataclass
+from typing import TYPE_CHECKING
 
 import numpy as np
 import scipy.linalg
@@ -36,6 +37,9 @@ from ..model import LoadCase
 from .loads import case_loads
 from .refined import RefinedModel
 from .solvers import SingularStiffness, factorize
+
+if TYPE_CHECKING:
+    from ..results import CaseResult
 
 __all__ = ["BucklingMode", "CriticalLoadError", "critical_factors", "critical_load_error", "second_order_case",
            "largest_generalized"]
@@ -164,8 +168,7 @@ def second_order_case(model: RefinedModel, case: LoadCase, kind: str, N0: np.nda
     CriticalLoadError
         The load set is at or past its elastic critical load.
     """
-    from ..results import CaseResult
-    from .analyze import _chord_rotations_of_bars, _constraint_forces, _end_forces, _fill_unattached_rotations, _load_vectors, _reactions
+    from .analyze import _constraint_forces, _end_forces, _load_vectors, _reactions
 
     asm, dofs = model.asm, model.dofs
     frame = model.frame
@@ -225,12 +228,7 @@ def second_order_case(model: RefinedModel, case: LoadCase, kind: str, N0: np.nda
     else:
         raise _critical(model, case.name, kind, N0, converged=False)
     reactions = _reactions(asm2, F_ext, u_ext, lam)
-    _chord_rotations_of_bars(asm, d)
-    disp = u_ext[: asm.N6].reshape(frame.n_nodes, 6, 1)
-    _fill_unattached_rotations(asm, disp, d)
-    cr = CaseResult(name=case.name, kind=kind, displacements=disp[:, :, 0].copy(), reactions=reactions[:, :, 0].copy(),
-                    end_forces=f[:, :, 0].reshape(-1, 2, 6).copy(), end_displacements=d[:, :, 0].copy(), loads=loads[0],
-                    factors=((case.name, 1.0),), equilibrium_residual=resid)
+    cr = _case_result(asm, frame, case, kind, u_ext, d, f, reactions, loads, resid)
     log.info("second order %s %r: %d iteration(s), residual %.1e", kind, case.name, it, resid)
     return cr, N, resid, it
 
@@ -238,8 +236,7 @@ def second_order_case(model: RefinedModel, case: LoadCase, kind: str, N0: np.nda
 def _second_order_on_first_factor(model: RefinedModel, interior, case: LoadCase, kind: str, N0: np.ndarray,
                                   loads, F_ext, fef, tol: float, max_iter: int):
     """The iteration of `second_order_case` with every solve preconditioned by the first-order factor."""
-    from ..results import CaseResult
-    from .analyze import _chord_rotations_of_bars, _constraint_forces, _end_forces, _fill_unattached_rotations, _reactions
+    from .analyze import _constraint_forces, _end_forces, _reactions
 
     asm, dofs, frame = model.asm, model.dofs, model.frame
     found = critical_factors(interior, N0, 1)
@@ -286,15 +283,24 @@ def _second_order_on_first_factor(model: RefinedModel, interior, case: LoadCase,
     x = u_ext[asm.x_ext]
     lam = _constraint_forces(asm2, F_ext, u_ext, model.springs, x)
     reactions = _reactions(asm2, F_ext, u_ext, lam)
-    _chord_rotations_of_bars(asm, d)
-    disp = u_ext[: asm.N6].reshape(frame.n_nodes, 6, 1)
-    _fill_unattached_rotations(asm, disp, d)
-    cr = CaseResult(name=case.name, kind=kind, displacements=disp[:, :, 0].copy(), reactions=reactions[:, :, 0].copy(),
-                    end_forces=f[:, :, 0].reshape(-1, 2, 6).copy(), end_displacements=d[:, :, 0].copy(), loads=loads[0],
-                    factors=((case.name, 1.0),), equilibrium_residual=resid)
+    cr = _case_result(asm, frame, case, kind, u_ext, d, f, reactions, loads, resid)
     log.info("second order %s %r on the first-order factor: %d iteration(s), α_cr %.4g, residual %.1e",
              kind, case.name, it, alpha, resid)
     return cr, N, resid, it
+
+
+def _case_result(asm, frame, case: LoadCase, kind: str, u_ext, d, f, reactions, loads, resid: float) -> "CaseResult":
+    """The converged second-order state of one load set as a `CaseResult` (bars' chord rotations and
+    rotations nothing attaches to filled in, as in the first-order recovery)."""
+    from ..results import CaseResult
+    from .analyze import _chord_rotations_of_bars, _fill_unattached_rotations
+
+    _chord_rotations_of_bars(asm, d)
+    disp = u_ext[: asm.N6].reshape(frame.n_nodes, 6, 1)
+    _fill_unattached_rotations(asm, disp, d)
+    return CaseResult(name=case.name, kind=kind, displacements=disp[:, :, 0].copy(), reactions=reactions[:, :, 0].copy(),
+                      end_forces=f[:, :, 0].reshape(-1, 2, 6).copy(), end_displacements=d[:, :, 0].copy(), loads=loads[0],
+                      factors=((case.name, 1.0),), equilibrium_residual=resid)
 
 
 def _critical(model: RefinedModel, name: str, kind: str, N0: np.ndarray, converged: bool = True) -> CriticalLoadError:
