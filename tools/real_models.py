@@ -4,7 +4,7 @@ Usage::
 
     .venv/bin/python tools/real_models.py DIR [--timeout S] [--out TABLE.md] [--maps MAPDIR] [-- EXTRA CLI OPTIONS]
 
-For each ``*.ifc`` file (sorted by name) three subprocesses run, each with the
+For each ``*.ifc`` file (sorted by name) three subprocesses run (a fourth validates the output), each with the
 timeout: a probe (this script with ``--probe``: it reads the model as the CLI
 does and measures the included elements' body volumes with
 ``ifcopenshell.geom``), ``plumbframe check`` and ``plumbframe analyze … --json``.
@@ -20,8 +20,10 @@ largest equilibrium residual; the total vertical reaction of the
 "Self-weight" case beside ρ·g·V summed over the included elements (ρ of the
 element's member, V the volume of its body mesh; the number of included
 elements whose body the geometry kernel cannot build is given beside it, and
-then no ratio) and their ratio; the first line of the error or mechanism, if
-any. The table is Markdown.
+then no ratio) and their ratio; whether the written results IFC passes
+``ifcopenshell.validate`` (schema and where-rules; a fourth subprocess),
+counting only problems beyond those the input file has itself; the
+first line of the error or mechanism, if any. The table is Markdown.
 """
 from __future__ import annotations
 
@@ -159,6 +161,22 @@ def _first_problem(text: str) -> str:
     return ""
 
 
+def validate(path: str, source: str | None = None) -> dict:
+    """Schema and where-rule problems of a written IFC (``ifcopenshell.validate``; needs pytest importable),
+    and of its ``source`` (the input), whose own defects the copy keeps."""
+    import ifcopenshell
+    import ifcopenshell.validate
+
+    def problems(p: str) -> list:
+        logger = ifcopenshell.validate.json_logger()
+        ifcopenshell.validate.validate(ifcopenshell.open(p), logger, express_rules=True)
+        return [s for s in logger.statements if s.get("level") in ("error", "warning")]
+
+    out = problems(path)
+    own = len(problems(source)) if source else 0
+    return {"problems": len(out), "input_problems": own, "first": str(out[0].get("message"))[:200] if out else ""}
+
+
 def _fmt_counts(d: dict | None) -> str:
     if not d:
         return "–"
@@ -180,6 +198,13 @@ def measure(path: Path, timeout: float, extra: list[str]) -> dict:
                                         "--json", js, "-q", *extra], timeout)
         row.update(check=rc_c, analyze=rc_a, seconds=sec, peak_mb=peak)
         row["problem"] = _first_problem(text_a) or _first_problem(text_c)
+        out_ifc = os.path.join(tmp, "r.ifc")
+        if rc_a == 0 and os.path.exists(out_ifc):
+            rc_v, _, _, text_v = _run([py, __file__, "--validate", out_ifc, "--against", str(path)], timeout)
+            try:
+                row["valid"] = json.loads(text_v.strip().splitlines()[-1])
+            except (ValueError, IndexError):
+                row["valid"] = {"problems": None, "first": _first_problem(text_v) or f"validate exit {rc_v}"}
         if rc_a == 0 and os.path.exists(js):
             with open(js) as fh:
                 doc = json.load(fh)
@@ -191,10 +216,22 @@ def measure(path: Path, timeout: float, extra: list[str]) -> dict:
     return row
 
 
+def _fmt_valid(v: dict | None) -> str:
+    if not v:
+        return "–"
+    n, own = v.get("problems"), v.get("input_problems") or 0
+    if n == 0:
+        return "yes"
+    if n is not None and n <= own:
+        return f"no new problem (the input has {own})"
+    return (f"{n} problem(s) ({own} in the input): " if n is not None else "not checked: ") + \
+        str(v.get("first", "")).replace("|", "/")
+
+
 def table(rows: list[dict]) -> str:
     head = ("| file | schema | elements | included | left out | materials | nodes | members | supports | check | "
-            "analyze | s | MB | residual | ΣRz self-weight kN | ρ·g·V kN | ratio | note |")
-    lines = [head, "|" + "---|" * 18]
+            "analyze | s | MB | residual | ΣRz self-weight kN | ρ·g·V kN | ratio | results IFC valid | note |")
+    lines = [head, "|" + "---|" * 19]
     for r in rows:
         rz, w = r.get("reaction_z"), r.get("rho_g_V")
         missing = int(r.get("no_volume") or 0)
@@ -212,7 +249,7 @@ def table(rows: list[dict]) -> str:
             f"{res:.1e}" if isinstance(res, float) else "–",
             f"{rz / 1e3:.2f}" if rz is not None else "–",
             (f"{w / 1e3:.2f}" if w else "–") + (f" ({missing} without geometry)" if missing else ""), ratio,
-            note.replace("|", "/")]) + " |")
+            _fmt_valid(r.get("valid")), note.replace("|", "/")]) + " |")
     return "\n".join(lines)
 
 
@@ -228,7 +265,12 @@ def main(argv: list[str] | None = None) -> int:
     p.add_argument("--out", help="also write the table to this file")
     p.add_argument("--maps", metavar="MAPDIR", help="folder of per-model material maps <model name>.toml")
     p.add_argument("--probe", metavar="FILE", help=argparse.SUPPRESS)
+    p.add_argument("--validate", metavar="FILE", help=argparse.SUPPRESS)
+    p.add_argument("--against", metavar="FILE", help=argparse.SUPPRESS)
     args = p.parse_args(argv)
+    if args.validate:
+        print(json.dumps(validate(args.validate, args.against)))
+        return 0
     if args.probe:
         print(json.dumps(probe(args.probe, extra)))
         return 0
