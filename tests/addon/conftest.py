@@ -99,3 +99,17 @@ def addon(blender):
 def engine(addon):
     """The engine bundled inside the extension (``<extension>.analysis``)."""
     return addon.engine.engine()
+
+
+@pytest.fixture
+def use_frame(addon, blender):
+    """A function doing what load_ifc does after reading: keep a frame in the scene's session and draw it
+    (returns the drawing's counts)."""
+
+    def use(frame):
+        scene = blender.context.scene
+        s = addon.engine.session(scene)
+        s.frame, s.path = frame, ""
+        return addon.drawing.draw_frame(scene, frame)
+
+    return use

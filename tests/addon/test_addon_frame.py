@@ -23,17 +23,9 @@ def _cantilever(engine):
     return b.build()
 
 
-def _use(addon, bpy, frame):
-    """What load_ifc does after reading: keep the frame in the scene's session and draw it."""
-    scene = bpy.context.scene
-    s = addon.engine.session(scene)
-    s.frame, s.path = frame, ""
-    return addon.drawing.draw_frame(scene, frame)
-
-
-def test_frame_objects_and_properties(bpy_clean, addon, engine):
+def test_frame_objects_and_properties(bpy_clean, addon, engine, use_frame):
     bpy = bpy_clean
-    counts = _use(addon, bpy, _cantilever(engine))
+    counts = use_frame(_cantilever(engine))
     assert counts["members"] == 2 and counts["nodes"] == 3 and counts["supports"] == 1
     root = bpy.data.objects["PF member root"]
     assert root["pf_kind"] == "member" and list(root["pf_nodes"]) == ["A", "M"]
@@ -44,10 +36,10 @@ def test_frame_objects_and_properties(bpy_clean, addon, engine):
     assert {c["pf_role"] for c in coll.children} == set(addon.drawing.ROLES)
 
 
-def test_analyse_show_colour_diagram_governing(bpy_clean, addon, engine):
+def test_analyse_show_colour_diagram_governing(bpy_clean, addon, engine, use_frame):
     bpy = bpy_clean
     frame = _cantilever(engine)
-    _use(addon, bpy, frame)
+    use_frame(frame)
     scene = bpy.context.scene
     settings = scene.plumbframe
     assert bpy.ops.plumbframe.analyze() == {"FINISHED"}
@@ -115,7 +107,7 @@ def test_analyse_show_colour_diagram_governing(bpy_clean, addon, engine):
     assert bpy.data.objects["PF legend"]["pf_range"][1] == pytest.approx(P * L**3 / (3 * E * I), rel=1e-6)
 
 
-def test_errors_arrive_as_runtime_errors(bpy_clean, addon, engine):
+def test_errors_arrive_as_runtime_errors(bpy_clean, addon, engine, use_frame):
     bpy = bpy_clean
     with pytest.raises(RuntimeError, match="No frame loaded"):
         bpy.ops.plumbframe.analyze()
@@ -127,16 +119,16 @@ def test_errors_arrive_as_runtime_errors(bpy_clean, addon, engine):
     b.add_node("B", (2, 0, 0))
     b.add_member("m", "A", "B", sec, steel)
     b.add_case(engine.LoadCase("P", nodal=(engine.NodalLoad("B", (0, 0, -1e3, 0, 0, 0)),)))
-    _use(addon, bpy, b.build())
+    use_frame(b.build())
     with pytest.raises(RuntimeError, match="unstable"):
         bpy.ops.plumbframe.analyze()
     with pytest.raises(RuntimeError, match="No results"):
         bpy.ops.plumbframe.show_deformed()
 
 
-def test_clear_removes_everything(bpy_clean, addon, engine):
+def test_clear_removes_everything(bpy_clean, addon, engine, use_frame):
     bpy = bpy_clean
-    _use(addon, bpy, _cantilever(engine))
+    use_frame(_cantilever(engine))
     bpy.ops.plumbframe.analyze()
     assert bpy.ops.plumbframe.clear() == {"FINISHED"}
     assert not [o for o in bpy.data.objects if o.name.startswith("PF ")]

@@ -27,16 +27,9 @@ def _column(engine):
     return b.build()
 
 
-def _use(addon, bpy, frame):
-    scene = bpy.context.scene
-    s = addon.engine.session(scene)
-    s.frame, s.path = frame, ""
-    return addon.drawing.draw_frame(scene, frame)
-
-
-def test_second_order_buckling_modes_and_shape(bpy_clean, addon, engine):
+def test_second_order_buckling_modes_and_shape(bpy_clean, addon, engine, use_frame):
     bpy = bpy_clean
-    _use(addon, bpy, _column(engine))
+    use_frame(_column(engine))
     scene = bpy.context.scene
     settings = scene.plumbframe
     settings.theory = "SECOND"
@@ -65,9 +58,9 @@ def test_second_order_buckling_modes_and_shape(bpy_clean, addon, engine):
         bpy.ops.plumbframe.show_shape()
 
 
-def test_unknown_mass_case_is_reported(bpy_clean, addon, engine):
+def test_unknown_mass_case_is_reported(bpy_clean, addon, engine, use_frame):
     bpy = bpy_clean
-    _use(addon, bpy, _column(engine))
+    use_frame(_column(engine))
     settings = bpy.context.scene.plumbframe
     settings.modes_count = 1
     settings.mass_cases = "nonsense=2"
