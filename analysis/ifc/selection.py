@@ -117,8 +117,9 @@ def _predefined(element, types: dict[int, Any]) -> str | None:
     return str(tp).upper() if tp and tp != "NOTDEFINED" else None
 
 
-def _load_bearing(ifc_file, elements) -> dict[int, bool]:
-    """Element id -> LoadBearing from the class's common pset (occurrence over type), where given."""
+def _load_bearing(ifc_file, elements, types: dict[int, Any]) -> dict[int, bool]:
+    """Element id -> LoadBearing from the class's common pset (occurrence over type), where given;
+    ``types`` is `_types` of the file."""
     names = set(COMMON_PSETS.values())
 
     def value_of(pset) -> bool | None:
@@ -134,16 +135,18 @@ def _load_bearing(ifc_file, elements) -> dict[int, bool]:
 
     wanted = {e.id() for e in elements}
     out: dict[int, bool] = {}
-    # type objects first, occurrences then overwrite
-    for rel in ifc_file.by_type("IfcRelDefinesByType"):
-        t = rel.RelatingType
-        for pset in getattr(t, "HasPropertySets", None) or ():
-            v = value_of(pset)
-            if v is None:
-                continue
-            for o in rel.RelatedObjects:
-                if o.id() in wanted:
-                    out[o.id()] = v
+    # type objects first (the last of their psets that says), occurrences then overwrite
+    by_type: dict[int, bool | None] = {}
+    for e in elements:
+        t = types.get(e.id())
+        if t is None:
+            continue
+        if t.id() not in by_type:
+            said = [v for v in map(value_of, getattr(t, "HasPropertySets", None) or ()) if v is not None]
+            by_type[t.id()] = said[-1] if said else None
+        v = by_type[t.id()]
+        if v is not None:
+            out[e.id()] = v
     for rel in ifc_file.by_type("IfcRelDefinesByProperties"):
         defs = rel.RelatingPropertyDefinition
         for pset in (defs if isinstance(defs, tuple) else (defs,)):
@@ -242,8 +245,8 @@ def select_frame_elements(ifc_file, *, select: str | None = None, exclude: str |
                 if e.id() not in seen:
                     seen.add(e.id())
                     candidates.append(e)
-        bearing = _load_bearing(ifc_file, candidates)
         types = _types(ifc_file)
+        bearing = _load_bearing(ifc_file, candidates, types)
         parents = _parents(ifc_file)
         wholes: dict[int, str | None] = {}
         chosen = []
