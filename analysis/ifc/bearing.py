@@ -15,18 +15,23 @@ source).
 from __future__ import annotations
 
 import logging
+import math
 import os
 from typing import Any, Sequence
 
 import numpy as np
 import numpy.typing as npt
 
-__all__ = ["bearing_hits", "body_triangles", "carried_by", "BEARING_CLASSES"]
+__all__ = ["bearing_hits", "body_triangles", "carried_by", "span_runs", "BEARING_CLASSES", "SPAN_BEARING_CLASSES"]
 
 logger = logging.getLogger(__name__)
 
 #: elements a member end can bear on when the file declares no supports.
 BEARING_CLASSES = ("IfcWall", "IfcSlab", "IfcFooting", "IfcPile")
+
+#: elements a member can bear on along its span (a purlin on a wall top, a rafter over a wall): slabs are
+#: left out, since a slab on the members' level is carried by them far more often than it carries them.
+SPAN_BEARING_CLASSES = ("IfcWall", "IfcFooting", "IfcPile")
 
 _UP = 0.2  # a face counts as upward-facing when its normal's z component exceeds this
 
@@ -144,6 +149,52 @@ def carried_by(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDArra
     mirrored = points * np.array([1.0, 1.0, -1.0])
     hit = bearing_hits(flipped, mirrored, above, tol, embedded=False)
     return {int(h) for h in hit if h >= 0}
+
+
+def span_runs(triangles: dict[int, npt.NDArray[np.float64]], A: npt.NDArray[np.float64], B: npt.NDArray[np.float64],
+              below: npt.NDArray[np.float64], tol: float, members: Sequence[int], step: float = 0.02
+              ) -> list[tuple[int, float, float, int]]:
+    """Where members bear on the given bodies along their spans: runs ``(member, t0, t1, element id)``.
+
+    Each member in ``members`` (indices into ``A``, ``B``: the centre-line ends, m) is sampled every
+    ``step`` or less along its length; a sample bears when `bearing_hits` finds a face or body under
+    it (``below[k]``: the depth of member k's underside under its centre line). A run is a stretch of
+    consecutive bearing samples, ``t0`` and ``t1`` the fractions of the length where it starts and ends
+    (the outer edges of its first and last samples); a run over several bodies in a row (a plate over a
+    wall corner) is one, named after the body under its first sample. Only member-body pairs whose
+    bounding boxes come within the tolerance and the member's depth are sampled.
+    """
+    out: list[tuple[int, float, float, int]] = []
+    if not triangles or len(members) == 0:
+        return out
+    ids = list(triangles)
+    lo = np.array([triangles[i].reshape(-1, 3).min(axis=0) for i in ids])
+    hi = np.array([triangles[i].reshape(-1, 3).max(axis=0) for i in ids])
+    for k in members:
+        a, b = A[k], B[k]
+        r = tol + float(below[k])
+        near = np.flatnonzero(np.all(np.minimum(a, b) - r <= hi, axis=1) & np.all(np.maximum(a, b) + r >= lo, axis=1))
+        if len(near) == 0:
+            continue
+        length = float(np.linalg.norm(b - a))
+        n = max(2, int(math.ceil(length / step)))
+        t = (np.arange(n) + 0.5) / n
+        pts = (a + t[:, None] * (b - a))[:, None, :]
+        depth = np.full(n, float(below[k]))
+        owner = np.full(n, -1, dtype=np.int64)
+        for j in near.tolist():
+            free = owner < 0
+            if not free.any():
+                break
+            hit = bearing_hits({ids[j]: triangles[ids[j]]}, pts[free], depth[free], tol)
+            owner[np.flatnonzero(free)[hit >= 0]] = ids[j]
+        on = owner >= 0
+        if not on.any():
+            continue
+        edges = np.flatnonzero(np.diff(np.concatenate([[0], on.astype(np.int8), [0]])))
+        for i0, i1 in zip(edges[::2].tolist(), edges[1::2].tolist()):
+            out.append((int(k), i0 / n, i1 / n, int(owner[i0])))
+    return out
 
 
 def _plan_area(tri: npt.NDArray[np.float64]) -> npt.NDArray[np.float64]:

@@ -108,7 +108,13 @@ Supports
     and member ends pinned; a wall or slab that itself rests on other frame
     members (a deck on beams, a wall on a transfer beam: a downward face of
     its body on their sections' tops) hands its load on to them and is no
-    support; (c) when (a) and (b) find nothing (a roof grid,
+    support; beams and members that are no steeper than 45 degrees also bear
+    along their spans on walls, footings and piles (sampled every 20 mm): a
+    contact up to 1 m long (or four section sizes) inside the span is one
+    pinned bearing at its middle (a rafter over a wall, a ridge beam on a
+    gable wall), a longer one (a wall plate on a wall) is pinned at both of
+    its ends and at every node of the member within it, the member split
+    there; (c) when (a) and (b) find nothing (a roof grid,
     a truss or a deck without bearings in the file), the nodes at the
     model's lowest elevation, pinned. Which rule supported how many nodes
     is reported.
@@ -194,6 +200,9 @@ CONNECTION_WORDS = (
 
 _LIST_LIMIT = 40  # names listed in one note before "and N more"
 _SAME_PLACE = 0.001  # m: two elements of one class and section whose ends are this close are one element twice
+_SEAT = 1.0  # m: a contact along a span up to this long (or four section sizes) is one bearing point
+_SPAN_STEP = 0.02  # m: sample spacing along spans when looking for bearing
+_STEEPEST_SPAN_BEARING = math.sin(math.radians(45.0))  # members steeper than this bear only at their ends
 
 
 # --------------------------------------------------------------------------- options
@@ -1349,6 +1358,9 @@ class _Deriver:
         if same.any():
             return None
 
+        # -- 3c. where members bear on walls, slabs, footings, piles (a node where one bears along its span)
+        P, node_count = self._find_bearings(elements, A, B, lengths, P, node_count, landings, elem_nodes)
+
         # -- 4. segments ----------------------------------------------------------
         seg_elem: list[int] = []
         seg_nodes: list[tuple[int, int]] = []
@@ -1386,6 +1398,8 @@ class _Deriver:
         order = idx_used[np.lexsort((Pr[:, 0], Pr[:, 1], Pr[:, 2]))]
         new_index = np.full(node_count, -1, dtype=np.int64)
         new_index[order] = np.arange(len(order))
+        self._renumber = new_index
+        self._passing = {int(new_index[p]): ks for p, ks in interior.items()}  # node -> elements running through it
         nodes = P[order]
         n = len(nodes)
         node_ids = tuple(f"N{i + 1}" for i in range(n))
@@ -1761,6 +1775,7 @@ class _Deriver:
         n = len(nodes)
         restraints = np.zeros((n, 6), dtype=bool)
         comps = {"fixed": slice(0, 6), "pinned": slice(0, 3)}
+        self._held_spans: list[tuple[int, int]] = []  # (node, element) where an element bears along its span
         cols = [k for k, el in enumerate(elements) if el.kind == "column"]
         bottoms = {}
         for k in cols:
@@ -1781,13 +1796,9 @@ class _Deriver:
             at_level = np.flatnonzero(np.abs(nodes[:, 2] - level) <= max(tol, 1e-9))
             restraints[at_level, comps[self.support_kind]] = True
             parts.append(f"{len(at_level)} nodes at the lowest column bottom ({level:.4g} m), {self.support_kind}")
-        # (b) ends bearing on walls, slabs, footings, piles; columns connected to footings
-        from .bearing import BEARING_CLASSES
-
-        frame_ids = {el.eid for el in elements}
-        bearers = [e for c in BEARING_CLASSES for e in self.ifc_file.by_type(c) if e.id() not in frame_ids]
+        # (b) ends bearing on walls, slabs, footings, piles, spans on walls, footings, piles; columns connected to footings
         before = restraints.any(axis=1).copy()
-        by_class = self._bearing_supports(elements, elem_nodes, A, B, bearers, restraints, comps, None, bottoms)
+        by_class = self._bearing_supports(elements, elem_nodes, None, restraints, comps, None, bottoms)
         for k, node in bottoms.items():
             if self._footing_connected(elements[k]) and not restraints[node].all():
                 restraints[node, comps[self.support_kind]] = True
@@ -1815,7 +1826,7 @@ class _Deriver:
         fixed = restraints.all(axis=1)
         pinned = restraints.any(axis=1) & ~fixed
         kinds = " and ".join(k for k, c in (("fixed", fixed), ("pinned", pinned)) if c.any())
-        forks = self._fork_supports(elements, elem_nodes, A, B, restraints)
+        forks = self._fork_supports(elements, elem_nodes, A, B, restraints, self._held_spans)
         if forks:
             parts.append(f"{forks} pinned bearings of members along a global axis also hold the member's twist "
                          "(fork supports)")
@@ -1823,12 +1834,13 @@ class _Deriver:
                           + "; ".join(parts) + ".")
         return restraints
 
-    @staticmethod
-    def _fork_supports(elements, elem_nodes, A, B, restraints) -> int:
+    def _fork_supports(self, elements, elem_nodes, A, B, restraints, through=()) -> int:
         """At a pinned node where the horizontal members ending there all run along one global axis X or Y, hold their twist.
 
         A beam or a wall plate resting on a bearing cannot roll over it (a fork support, common practice, no
-        source); without this, a beam pinned at both ends would turn freely about its own axis. Vertical
+        source); without this, a beam pinned at both ends would turn freely about its own axis. A node where
+        a member bears along its span (``through``: (node, element) pairs) counts as its end when no other
+        element meets it there. Vertical
         members meeting there (studs on a sole plate) turn with the joint. Restraints are in world axes, so
         horizontal members off the X and Y directions (by more than about 1 degree), or inclined members at
         the node, give no fork.
@@ -1854,6 +1866,10 @@ class _Deriver:
                     seen[v].add(4)
                 else:
                     seen[v].add(-1)
+        ends = set(seen)
+        for v, k in through:
+            if pinned[v] and v not in ends and self._passing.get(v) == {k} and abs(d[k, 2]) <= 0.02:
+                seen[v].add(3 if abs(d[k, 0]) > 0.9998 else 4 if abs(d[k, 1]) > 0.9998 else -1)
         count = 0
         for v, axes in seen.items():
             axes = axes - {-2}
@@ -1862,15 +1878,23 @@ class _Deriver:
                 count += 1
         return count
 
-    def _queried_supports(self, elements, elem_nodes, nodes, A, B, restraints, comps) -> np.ndarray:
-        from .selection import _query
+    def _support_query(self, query: str) -> list:
+        """The elements a ``--supports`` query finds (asked once per derivation)."""
+        cache = self.__dict__.setdefault("_support_found", {})
+        if query not in cache:
+            from .selection import _query
 
-        index = {el.eid: k for k, el in enumerate(elements)}
-        parts = []
-        for query, kind in self.support_specs:
-            found = _query(self.ifc_file, query, "--supports")
+            found = sorted(_query(self.ifc_file, query, "--supports"), key=lambda e: e.id())
             if not found:
                 raise IfcInputError(f"--supports {query!r}: the query finds no element")
+            cache[query] = found
+        return cache[query]
+
+    def _queried_supports(self, elements, elem_nodes, nodes, A, B, restraints, comps) -> np.ndarray:
+        index = {el.eid: k for k, el in enumerate(elements)}
+        parts = []
+        for i, (query, kind) in enumerate(self.support_specs):
+            found = self._support_query(query)
             own = [index[e.id()] for e in found if e.id() in index]
             others = [e for e in found if e.id() not in index]
             count = 0
@@ -1880,11 +1904,11 @@ class _Deriver:
                 for e_ in ends:
                     restraints[int(elem_nodes[k, e_]), comps[kind]] = True
                     count += 1
-            by_class = self._bearing_supports(elements, elem_nodes, A, B, others, restraints, comps, kind, {}) if others else {}
+            by_class = self._bearing_supports(elements, elem_nodes, i, restraints, comps, kind, {}) if others else {}
             parts.append(f"--supports {query!r} ({kind}): {count} lowest ends of {len(own)} frame elements"
                          + (", and member ends bearing on " + ", ".join(f"{v} {c}" for c, v in sorted(by_class.items()))
                             if by_class else (f"; {len(others)} other elements found, no member end bears on them" if others else "")))
-        forks = self._fork_supports(elements, elem_nodes, A, B, restraints)
+        forks = self._fork_supports(elements, elem_nodes, A, B, restraints, self._held_spans)
         self.notes.append("Supports as asked: " + "; ".join(parts)
                           + (f"; {forks} pinned bearings of members along a global axis also hold their twist (fork "
                              "supports)" if forks else "") + ".")
@@ -1917,45 +1941,133 @@ class _Deriver:
         zc = xs * ey[2] + ys * ez[2]
         return float(max(0.0, -zc.min()))
 
-    def _bearing_supports(self, elements, elem_nodes, A, B, bearers, restraints, comps, kind, bottoms) -> dict[str, int]:
-        """Support the member ends bearing on ``bearers``; returns counts per bearing class."""
-        if not bearers:
-            return {}
-        from .bearing import bearing_hits, body_triangles
+    def _bearer_sets(self, elements) -> list[tuple[Any, list, str | None, tuple[str, ...] | None]]:
+        """What members may bear on: (key, elements, support kind or None for the default, classes a span may
+        bear on, None for all of them); nothing with a support level."""
+        if self.support_level is not None:
+            return []
+        frame_ids = {el.eid for el in elements}
+        if self.support_specs:
+            return [(i, [e for e in self._support_query(query) if e.id() not in frame_ids], kind, None)
+                    for i, (query, kind) in enumerate(self.support_specs)]
+        from .bearing import BEARING_CLASSES, SPAN_BEARING_CLASSES
 
-        tris = body_triangles(self.ifc_file, bearers)
-        if not tris:
-            return {}
+        bearers = [e for c in BEARING_CLASSES for e in self.ifc_file.by_type(c) if e.id() not in frame_ids]
+        return [(None, bearers, None, SPAN_BEARING_CLASSES)]
+
+    def _triangles(self, bearers) -> dict[int, FloatArray]:
+        """Body triangles of ``bearers`` (built once per derivation, whatever the passes)."""
+        from .bearing import body_triangles
+
+        cache: dict[int, FloatArray | None] = self.__dict__.setdefault("_tri_cache", {})
+        missing = [e for e in bearers if e.id() not in cache]
+        if missing:
+            built = body_triangles(self.ifc_file, missing)
+            for e in missing:
+                cache[e.id()] = built.get(e.id())
+        return {e.id(): t for e in bearers if (t := cache[e.id()]) is not None}
+
+    def _find_bearings(self, elements, A, B, lengths, P, node_count, landings, elem_nodes):
+        """Where members bear on walls, slabs, footings and piles (or the ``--supports`` elements).
+
+        Ends bear as `analysis.ifc.bearing.bearing_hits` finds; a member that is not a column and slopes
+        less than 45 degrees bears along its span where `analysis.ifc.bearing.span_runs` finds a run of
+        contact: a short run (up to `_SEAT` or four section sizes) inside the span gives a node at its
+        middle (a rafter over a wall, a ridge beam on a gable wall), a short run at an end is that end's
+        own bearing, and a longer run (a wall plate on a wall) gives a node at each of its ends inside
+        the span and holds every node of the member within it. New nodes are appended to ``P`` and landed
+        on their members; the findings are kept per bearer set for `_bearing_supports`. Walls and slabs
+        resting on other frame members are dropped (`_carried`). Returns ``(P, node_count)``.
+        """
+        from .bearing import bearing_hits, span_runs
+
+        self._bearings: dict[Any, tuple[list, list]] = {}
+        tol = self.tol
         m = len(elements)
-        L = np.linalg.norm(B - A, axis=1)
+        sets = self._bearer_sets(elements)
+        if not sets:
+            return P, node_count
+        under_k = np.array([self._underside(k, A, B) for k in range(m)])
+        slope = np.abs((B - A)[:, 2]) / lengths
+        spanning = [k for k, el in enumerate(elements) if el.kind != "column" and slope[k] <= _STEEPEST_SPAN_BEARING]
         ends = [(k, e_) for k in range(m) for e_ in (0, 1)]
         pts = np.empty((len(ends), 2, 3))
-        below = np.empty(len(ends))
-        under_k = [self._underside(k, A, B) for k in range(m)]
         for i, (k, e_) in enumerate(ends):
             p, q = (A[k], B[k]) if e_ == 0 else (B[k], A[k])
-            inward = (q - p) / L[k]
             pts[i, 0] = p
-            pts[i, 1] = p + inward * min(self.tol, 0.25 * L[k])  # an end flush with a face still bears
-            below[i] = under_k[k]
-        hit = bearing_hits(tris, pts, below, self.tol)
-        if kind is None and (hit >= 0).any():
-            # a wall or slab that itself rests on frame members (a slab on beams, a wall on a transfer beam)
-            # hands its load on to them: it is no support
-            on: dict[int, set[int]] = defaultdict(set)  # bearing element -> the members bearing on it
-            for i in np.flatnonzero(hit >= 0).tolist():
-                on[int(hit[i])].add(ends[i][0])
-            carried = self._carried(tris, on, A, B, L, under_k)
-            if carried:
-                hit[np.isin(hit, np.fromiter(carried, dtype=np.int64))] = -1
-                self.notes.append(f"{len(carried)} walls or slabs that member ends bear on rest on frame members "
-                                  "themselves, so they are no supports: "
-                                  + _names([entity_label(self.ifc_file.by_id(c)) for c in sorted(carried)]) + ".")
-        cls_of = {e.id(): e for e in bearers}
+            pts[i, 1] = p + (q - p) / lengths[k] * min(tol, 0.25 * lengths[k])  # an end flush with a face still bears
+        below = under_k[[k for k, _ in ends]]
+        new_points: list[np.ndarray] = []
+
+        def node_at(k: int, tv: float) -> int:
+            if tv * lengths[k] <= tol:
+                return int(elem_nodes[k, 0])
+            if (1.0 - tv) * lengths[k] <= tol:
+                return int(elem_nodes[k, 1])
+            point = A[k] + tv * (B[k] - A[k])
+            for _, p_ in landings[k]:
+                if np.linalg.norm((P[p_] if p_ < node_count else new_points[p_ - node_count]) - point) <= tol:
+                    return p_
+            new_points.append(point)
+            landings[k].append((tv, node_count + len(new_points) - 1))
+            return node_count + len(new_points) - 1
+
+        for key, bearers, kind, span_classes in sets:
+            end_hits: list[tuple[int, int, int]] = []
+            span_hits: list[tuple[int, int, int, float]] = []  # member, node, bearer, m from its start
+            self._bearings[key] = (end_hits, span_hits)
+            tris = self._triangles(bearers)
+            if not tris:
+                continue
+            hit = bearing_hits(tris, pts, below, tol)
+            span_tris = tris if span_classes is None else {
+                eid: t for eid, t in tris.items() if any(self.ifc_file.by_id(eid).is_a(c) for c in span_classes)}
+            runs = span_runs(span_tris, A, B, under_k, tol, spanning, _SPAN_STEP)
+            if kind is None and ((hit >= 0).any() or runs):
+                # a wall or slab that itself rests on frame members (a slab on beams, a wall on a transfer beam)
+                # hands its load on to them: it is no support
+                on: dict[int, set[int]] = defaultdict(set)  # bearing element -> the members bearing on it
+                for i in np.flatnonzero(hit >= 0).tolist():
+                    on[int(hit[i])].add(ends[i][0])
+                for k, _, _, eid in runs:
+                    on[eid].add(k)
+                carried = self._carried(tris, on, A, B, lengths, under_k)
+                if carried:
+                    hit[np.isin(hit, np.fromiter(carried, dtype=np.int64))] = -1
+                    runs = [r for r in runs if r[3] not in carried]
+                    self.notes.append(f"{len(carried)} walls or slabs that members bear on rest on frame members "
+                                      "themselves, so they are no supports: "
+                                      + _names([entity_label(self.ifc_file.by_id(c)) for c in sorted(carried)]) + ".")
+            end_hits.extend((ends[i][0], ends[i][1], int(hit[i])) for i in np.flatnonzero(hit >= 0).tolist())
+            for k, t0, t1, eid in runs:
+                reach = (tol + _SPAN_STEP) / lengths[k]  # a run this close to an end starts at the end
+                at_start, at_end = t0 <= reach, t1 >= 1.0 - reach
+                if (t1 - t0) * lengths[k] <= max(_SEAT, 4.0 * self.sec[k].size):
+                    if at_start or at_end:
+                        continue  # the end's own bearing
+                    span_hits.append((k, node_at(k, 0.5 * (t0 + t1)), eid, 0.5 * (t0 + t1) * float(lengths[k])))
+                    continue
+                held = [(tv, node_at(k, tv)) for tv, edge in ((t0, at_start), (t1, at_end)) if not edge]
+                held += [(tv, p_) for tv, p_ in landings[k] if t0 <= tv <= t1]
+                for tv, p_ in sorted(set(held)):
+                    span_hits.append((k, p_, eid, tv * float(lengths[k])))
+        if new_points:
+            P = np.vstack([P, np.array(new_points)])
+            node_count = len(P)
+        return P, node_count
+
+    def _bearing_supports(self, elements, elem_nodes, key, restraints, comps, kind, bottoms) -> dict[str, int]:
+        """Support what `_find_bearings` found for bearer set ``key``; returns counts per bearing class."""
+        end_hits, span_hits = self._bearings.get(key, ([], []))
+        self._held_spans.extend((int(self._renumber[p_]), k) for k, p_, _, _ in span_hits)
         counts: dict[str, int] = {}
         bottom_nodes = set(bottoms.values())
-        for i in np.flatnonzero(hit >= 0).tolist():
-            k, e_ = ends[i]
+
+        def base(eid: int) -> tuple[Any, str]:
+            bearer = self.ifc_file.by_id(eid)
+            return bearer, next((c for c in ("IfcWall", "IfcSlab", "IfcFooting", "IfcPile") if bearer.is_a(c)), bearer.is_a())
+
+        for k, e_, eid in end_hits:
             node = int(elem_nodes[k, e_])
             if kind is not None:
                 how = kind
@@ -1964,11 +2076,21 @@ class _Deriver:
             if how == "pinned" and restraints[node, :3].all():
                 continue
             restraints[node, comps[how]] = True
-            bearer = cls_of[int(hit[i])]
-            base = next((c for c in ("IfcWall", "IfcSlab", "IfcFooting", "IfcPile") if bearer.is_a(c)), bearer.is_a())
-            counts[base] = counts.get(base, 0) + 1
+            bearer, cls = base(eid)
+            counts[cls] = counts.get(cls, 0) + 1
             self.diagnostics.append(Diagnostic("info", elements[k].eid, f"{elements[k].label} {'start' if e_ == 0 else 'end'} "
                                                f"bears on {entity_label(bearer)}: supported ({how})"))
+        for k, p_, eid, at in span_hits:
+            node = int(self._renumber[p_])
+            how = kind or "pinned"
+            if how == "pinned" and restraints[node, :3].all():
+                continue
+            restraints[node, comps[how]] = True
+            bearer, cls = base(eid)
+            counts[cls + " (along a span)"] = counts.get(cls + " (along a span)", 0) + 1
+            self.diagnostics.append(Diagnostic(
+                "info", elements[k].eid, f"{elements[k].label} bears on {entity_label(bearer)} "
+                f"{at:.3g} m from its start: supported there ({how})"))
         return counts
 
     def _carried(self, tris, on: dict[int, set[int]], A, B, L, above) -> set[int]:

@@ -394,3 +394,62 @@ def test_a_slab_resting_on_beams_is_no_support():
     k = fr.member_index("C3")
     assert fr.restraints[fr.members[k, 0]].all()
     assert any("'C3' start bears on" in d.message and "'Deck'" in d.message for d in diags)
+
+
+def test_beam_over_two_walls_bears_where_it_crosses_them():
+    # a beam 9 m long over two walls 0.3 m thick centred at x = 1 and x = 5: supports under the walls'
+    # middles, the overhangs free; reactions of a beam with overhangs under its own weight by statics
+    # (moments about one support; common practice, no source)
+    m = Physical()
+    b, h = BEAM
+    _wall(m, (0.85, -1.0, 0.0), (0.3, 2.0), 3.0)
+    _wall(m, (4.85, -1.0, 0.0), (0.3, 2.0), 3.0)
+    m.element("IfcBeam", "B", (-1, 0, 3 + h / 2), (8, 0, 3 + h / 2), BEAM)
+    fr, diags, notes = m.derive()
+    sup = np.flatnonzero(fr.restraints.any(axis=1))
+    x = np.sort(fr.nodes[sup, 0])
+    np.testing.assert_allclose(x, [1.0, 5.0], atol=0.011)  # the middle of each contact, to half a sample step
+    assert fr.restraints[sup, :3].all() and fr.restraints[sup, 3].all()  # pinned, the twist held (fork)
+    assert set(fr.member_ids) == {"B/1", "B/2", "B/3"}
+    assert sum("bears on #" in d.message and "from its start: supported there (pinned)" in d.message for d in diags) == 2
+    assert any("2 IfcWall (along a span)" in n for n in notes)
+    res = analyze(fr).cases["Self-weight"]
+    w = RHO * G * b * h
+    x1, x2 = x
+    r2 = w * 9.0 * (3.5 - x1) / (x2 - x1)
+    rz = {round(float(fr.nodes[i, 0]), 6): res.reactions[i, 2] for i in sup}
+    np.testing.assert_allclose([rz[round(float(x1), 6)], rz[round(float(x2), 6)]], [9.0 * w - r2, r2], rtol=1e-9)
+
+
+def test_wall_plate_bedded_on_a_wall_holds_the_joists_on_it():
+    # a plate lying on a wall along its whole length, past both wall ends; joists on top of the plate,
+    # crossing a second wall further on
+    m = Physical()
+    b, h = BEAM
+    _wall(m, (0.0, -0.15, 0.0), (6.0, 0.3), 3.0)
+    _wall(m, (0.0, 3.85, 0.0), (6.0, 0.3), 3.0 + h)  # its top at the joists' underside
+    m.element("IfcBeam", "Plate", (-0.5, 0, 3 + h / 2), (6.5, 0, 3 + h / 2), BEAM)
+    for x in (1.0, 3.0, 5.0):
+        m.element("IfcBeam", f"J{x:g}", (x, -1, 3 + 1.5 * h), (x, 5, 3 + 1.5 * h), BEAM)
+    fr, diags, notes = m.derive()
+    sup = np.flatnonzero(fr.restraints.any(axis=1))
+    on_plate = sorted(float(v) for v in fr.nodes[sup][np.abs(fr.nodes[sup, 1]) < 1e-9, 0])
+    np.testing.assert_allclose(on_plate, [0.0, 1.0, 3.0, 5.0, 6.0], atol=0.021)  # the contact's ends and the joists
+    under = fr.nodes[sup][np.abs(fr.nodes[sup, 1] - 4.0) <= 0.011]
+    np.testing.assert_allclose(np.sort(under[:, 0]), [1.0, 3.0, 5.0], atol=1e-9)
+    assert len(sup) == 8 and fr.restraints[sup, :3].all()
+    assert not any("left out" in d.message for d in diags)
+    np.testing.assert_allclose(_reaction_z(fr), _weight(fr), rtol=1e-9)
+
+
+def test_column_in_a_wall_and_beam_in_a_slab_are_not_held_along_their_spans():
+    # a column standing inside a wall and a beam cast into a slab bear only where their ends do
+    m = portal()
+    _wall(m, (-0.3, -0.3, 0.0), (0.6, 0.6), 3.0)  # around the foot of C1, 3 m of its 4 m
+    slab = _wall(m, (-0.5, -1.0, 3.9), (7.0, 2.0), 0.2)  # B1's centre line (z = 4) inside it
+    m.f.create_entity("IfcSlab", GlobalId=m.gid(), Name="Deck", ObjectPlacement=slab.ObjectPlacement,
+                      Representation=slab.Representation)
+    m.f.remove(slab)
+    fr, diags, _ = m.derive()
+    assert set(fr.member_ids) == {"C1", "C2", "B1"}
+    assert not any("from its start" in d.message for d in diags)
