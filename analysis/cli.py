@@ -441,7 +441,6 @@ def _check_output(path: str, input_path: str, what: str, allow_input: bool = Fal
 def _read(args, con):
     from .ifc.reader import read_ifc
 
-    read_ifc = _checks.broken_file_guard(read_ifc, args.input)  # a reader failure on a file the parser flagged
     _check_input(args.input)
     con.progress("reading")
     t0 = time.perf_counter()

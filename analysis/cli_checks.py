@@ -18,7 +18,6 @@ from .errors import AnalysisError
 __all__ = [
     "Terminated",
     "available_memory",
-    "broken_file_guard",
     "check_distinct_outputs",
     "check_ifc_output_format",
     "check_json_memory",
@@ -187,62 +186,3 @@ def quiet_stdout_errors(stream=None) -> None:
         os.close(devnull)
     except (OSError, ValueError, AttributeError):
         pass
-
-
-_READER_FAILURES = (AttributeError, TypeError, IndexError, KeyError, ValueError, ZeroDivisionError,
-                    RuntimeError)  # ifcopenshell: RuntimeError for an attribute holding an entity of the wrong class
-
-
-def broken_file_guard(read: Callable, path: str) -> Callable:
-    """``read`` whose failures on a file the IFC parser found broken become an `AnalysisError` (exit 2).
-
-    A reader meets a dangling reference or a missing attribute as None where
-    an entity should be (AttributeError, TypeError ...). When the parser
-    reported such defects for ``path``, that failure is the file's, and the
-    message names the defects; otherwise it stays an internal error (a bug).
-    """
-
-    def guarded(*args, **kwargs):
-        try:
-            return read(*args, **kwargs)
-        except _READER_FAILURES as exc:
-            from .ifc.source import parser_findings
-
-            findings = parser_findings(path) or _schema_findings(path)
-            if not findings:
-                raise
-            more = f" (and {len(findings) - 2} more)" if len(findings) > 2 else ""
-            raise AnalysisError(f"{path}: cannot be read as a model because the file is broken: "
-                                + "; ".join(findings[:2]) + more
-                                + f" [the reader stopped at: {type(exc).__name__}: {exc}]") from exc
-
-    return guarded
-
-
-def _schema_findings(path: str, limit_bytes: int = 100_000_000) -> list[str]:
-    """Attribute values of the wrong type (a reference to an entity of another class ...) by ifcopenshell.validate.
-
-    Run only after the reader failed, and on files up to ``limit_bytes``
-    (the check is per entity in Python).
-    """
-    try:
-        if os.path.getsize(path) > limit_bytes:
-            return []
-        import ifcopenshell
-        import ifcopenshell.validate
-
-        logger = ifcopenshell.validate.json_logger()
-        ifcopenshell.validate.validate(ifcopenshell.open(path), logger)
-    except Exception:  # the check is a help for the message only
-        return []
-    out = []
-    for st in logger.statements:
-        if st.get("level") != "error":
-            continue
-        instance = str(st.get("instance", "")).split("=", 1)
-        attr = st.get("attribute")
-        value = [line.strip() for line in str(st.get("message", "")).splitlines() if line.strip()]
-        shown = value[value.index("Value:") + 1] if "Value:" in value and value.index("Value:") + 1 < len(value) else ""
-        head = instance[0] + (" " + instance[1].split("(", 1)[0] if len(instance) > 1 else "")
-        out.append(f"{head}: attribute {attr} holds an invalid value {shown}".rstrip())
-    return out

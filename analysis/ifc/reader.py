@@ -315,8 +315,23 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
     ------
     IfcInputError
         The file is missing or not IFC, the requested model does not exist,
-        or an entity lacks what the analysis needs (the message names it).
+        or an entity lacks what the analysis needs (the message names it);
+        a file the parser found broken (dangling references, wrong
+        attribute types) that the reader stumbles on: the message names the
+        defects (`analysis.ifc.source.broken_file_guard`).
     """
+    from .source import broken_file_guard  # a failure on a file the parser found broken names the defects
+
+    return broken_file_guard(_read_ifc, os.fspath(path))(
+        path, model=model, merge_tolerance=merge_tolerance, support_level=support_level, defaults=defaults,
+        area_loads=area_loads, select=select, exclude=exclude, supports=supports, strict=strict, members=members,
+        materials=materials, progress=progress)
+
+
+def _read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, support_level: float | None = None,
+             defaults: ReaderDefaults | Mapping[str, Any] | None = None, area_loads=None, select: str | None = None,
+             exclude: str | None = None, supports: Sequence[str] = (), strict: bool = False,
+             members: str | None = None, materials: Any = None, progress=None) -> IfcModel:
     path = os.fspath(path)
     if isinstance(defaults, Mapping):
         defaults = ReaderDefaults(**defaults)

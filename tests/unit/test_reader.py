@@ -645,3 +645,22 @@ def test_ifc2x3_combination_group_coefficients(tmp_path):
     fr = read_ifc(m.write(tmp_path / "cg.ifc")).frame
     assert combo.Name == "ULS"
     assert dict(fr.combinations[0].factors) == pytest.approx({"G": 1.35})
+
+
+def test_broken_file_is_named_when_read_directly(tmp_path):
+    # the add-on and library callers call read_ifc itself: a dangling reference the reader stumbles on is an
+    # IfcInputError naming the defect, as on the command line, not a raw AttributeError
+    import re
+
+    from analysis.samples import write_sample
+
+    path = tmp_path / "W.ifc"
+    write_sample("workshop_portal", str(path))
+    text = path.read_text()
+    m = re.search(r"^(#\d+)=IFCVERTEXPOINT\((#\d+)\);$", text, re.M)
+    assert m
+    broken = tmp_path / "broken.ifc"
+    broken.write_text(text.replace(m.group(0), f"{m.group(1)}=IFCVERTEXPOINT(#99999);", 1))
+    with pytest.raises(IfcInputError, match=rf"file is broken: .*{m.group(1)} IfcVertexPoint: VertexGeometry refers to "
+                                            r"#99999, which is not in the file"):
+        read_ifc(broken)
