@@ -340,6 +340,18 @@ class _Target:
     members: list[int] = field(default_factory=list)
 
 
+class _Ref:
+    """An entity written as a STEP line: its id and Name, as the writer uses them."""
+
+    __slots__ = ("_id", "Name")
+
+    def __init__(self, eid: int, name: str) -> None:
+        self._id, self.Name = eid, name
+
+    def id(self) -> int:
+        return self._id
+
+
 class _Writer:
     def __init__(self, f, model, results, indeterminacy, date: _dt.datetime, stations: str = "extremes",
                  say=None):
@@ -437,12 +449,14 @@ class _Writer:
                 raise IfcInputError(f"member {missing[0]}: its source entity is not in the file")
             self.physical = self._physical_of_structural()
         else:
-            self.analysis_model = self._derive_model()
+            self.analysis_model = self._derived_model_root()
             self.derived = True
             self.physical = self._physical_targets()
         self.load_groups = self._load_groups()
         groups = self._result_groups()
         self._start_bulk()  # nothing is created through ifcopenshell after this
+        if self.derived:
+            self._derive_model()
         self._write_results(groups)
         self.say(f"writing IFC: property sets, {len(self.out):,} entities")
         self._write_member_psets()
@@ -509,64 +523,75 @@ class _Writer:
             raise IfcInputError("the file has no IfcGeometricRepresentationContext")
         return contexts[0]
 
-    def _point(self, xyz):
-        return self.f.create_entity("IfcCartesianPoint", Coordinates=[self._length(v) for v in xyz])
-
-    def _direction(self, v):
-        return self.f.create_entity("IfcDirection", DirectionRatios=[float(round(c, 12)) + 0.0 for c in v])
-
-    def _derive_model(self):
+    def _derived_model_root(self):
+        """The derived IfcStructuralAnalysisModel (created in the file: the result groups refer to it)."""
         f, frame = self.f, self.frame
-        origin = f.create_entity("IfcAxis2Placement3D",
-                                 Location=f.create_entity("IfcCartesianPoint", Coordinates=[0.0, 0.0, 0.0]))
-        shared = None if self.ifc2x3 else f.create_entity("IfcLocalPlacement", RelativePlacement=origin)
-
-        def placement():
-            # IFC2X3: an IfcObjectPlacement places exactly one product (PlacesObject [1:1]); IFC4 shares one
-            if self.ifc2x3:
-                return f.create_entity("IfcLocalPlacement", RelativePlacement=origin)
-            return shared
-
-        ctx = self._context()
+        self._origin = f.create_entity("IfcAxis2Placement3D",
+                                       Location=f.create_entity("IfcCartesianPoint", Coordinates=[0.0, 0.0, 0.0]))
+        self._shared = None if self.ifc2x3 else f.create_entity("IfcLocalPlacement", RelativePlacement=self._origin)
         attrs = dict(Name=(frame.name or "plumbframe") + " (analytical, derived)", Description=DERIVED_TAG,
                      PredefinedType="LOADING_3D")
         if not self.ifc2x3:
-            attrs["SharedPlacement"] = shared
-        amodel = self._root("IfcStructuralAnalysisModel", **attrs)
-        vertices = []
+            attrs["SharedPlacement"] = self._shared
+        return self._root("IfcStructuralAnalysisModel", **attrs)
+
+    def _derive_model(self) -> None:
+        """Point connections, curve members, their relations and links to the physical elements, as STEP lines.
+
+        ``node_items`` and ``member_items`` become `_Ref` (id and Name) for the rest of the writer.
+        """
+        from .step import reals, string
+
+        frame, out, line = self.frame, self.out, self._line
+        ctx = f"#{self._context().id()}"
+        tag = string(TAG)
+        origin = f"#{self._origin.id()}"
+        shared = f"#{self._shared.id()}" if self._shared is not None else None
+        local = line("IfcLocalPlacement", ("RelativePlacement",))
+
+        def placement() -> str:
+            # IFC2X3: an IfcObjectPlacement places exactly one product (PlacesObject [1:1]); IFC4 shares one
+            return f"#{out.add(local % origin)}" if shared is None else shared
+
+        point = line("IfcCartesianPoint", ("Coordinates",))
+        vertex = line("IfcVertexPoint", ("VertexGeometry",))
+        topo = line("IfcTopologyRepresentation", ("ContextOfItems", "RepresentationIdentifier", "RepresentationType",
+                                                  "Items"))
+        shape = line("IfcProductDefinitionShape", ("Representations",))
+        edge_fmt = line("IfcEdge", ("EdgeStart", "EdgeEnd"))
+        direction = line("IfcDirection", ("DirectionRatios",))
+        xyz = reals(np.asarray(frame.nodes, float) / self._scale("length"))
+        vertices: list[str] = []
         self.node_items = []
         for i, nid in enumerate(frame.node_ids):
-            vp = f.create_entity("IfcVertexPoint", VertexGeometry=self._point(frame.nodes[i]))
+            pt = out.add(point % f"({xyz[3 * i]},{xyz[3 * i + 1]},{xyz[3 * i + 2]})")
+            vp = f"#{out.add(vertex % f'#{pt}')}"
             vertices.append(vp)
-            rep = f.create_entity("IfcProductDefinitionShape", Representations=[f.create_entity(
-                "IfcTopologyRepresentation", ContextOfItems=ctx, RepresentationIdentifier="Reference",
-                RepresentationType="Vertex", Items=[vp])])
+            rep = out.add(shape % f"(#{out.add(topo % (ctx, string('Reference'), string('Vertex'), f'({vp})'))})")
             cond = self._node_condition(i)
-            self.node_items.append(self._root("IfcStructuralPointConnection", Name=nid, Description=TAG,
-                                              ObjectPlacement=placement(), Representation=rep, AppliedCondition=cond))
-        R = self.results.R
+            eid = self._add_root("IfcStructuralPointConnection", Name=string(nid), Description=tag,
+                                 ObjectPlacement=placement(), Representation=f"#{rep}",
+                                 AppliedCondition=cond or "$")
+            self.node_items.append(_Ref(eid, nid))
+        axes = [] if self.ifc2x3 else reals(np.array([np.round(r[2], 12) for r in self.results.R]).reshape(-1) + 0.0)
         self.member_items = []
         for k, mid in enumerate(frame.member_ids):
             a, b = frame.members[k]
-            edge = f.create_entity("IfcEdge", EdgeStart=vertices[a], EdgeEnd=vertices[b])
-            rep = f.create_entity("IfcProductDefinitionShape", Representations=[f.create_entity(
-                "IfcTopologyRepresentation", ContextOfItems=ctx, RepresentationIdentifier="Reference",
-                RepresentationType="Edge", Items=[edge])])
-            attrs = dict(Name=mid, Description=TAG, ObjectPlacement=placement(), Representation=rep,
-                         PredefinedType="PIN_JOINED_MEMBER" if frame.truss[k] else "RIGID_JOINED_MEMBER")
+            edge = out.add(edge_fmt % (vertices[a], vertices[b]))
+            rep = out.add(shape % f"(#{out.add(topo % (ctx, string('Reference'), string('Edge'), f'(#{edge})'))})")
+            values = dict(Name=string(mid), Description=tag, ObjectPlacement=placement(), Representation=f"#{rep}",
+                          PredefinedType=".PIN_JOINED_MEMBER." if frame.truss[k] else ".RIGID_JOINED_MEMBER.")
             if not self.ifc2x3:
-                attrs["Axis"] = self._direction(R[k][2])
-            member = self._root("IfcStructuralCurveMember", **attrs)
-            self.member_items.append(member)
+                values["Axis"] = f"#{out.add(direction % f'({axes[3 * k]},{axes[3 * k + 1]},{axes[3 * k + 2]})')}"
+            member = self._add_root("IfcStructuralCurveMember", **values)
+            self.member_items.append(_Ref(member, mid))
             for end, node in ((0, a), (1, b)):
-                rel_cond = None
-                if frame.releases[k, end].any():
-                    rel_cond = self._release_condition(frame.releases[k, end])
-                self._root("IfcRelConnectsStructuralMember", Name=f"{mid}-{frame.node_ids[node]}",
-                           RelatingStructuralMember=member, RelatedStructuralConnection=self.node_items[node],
-                           AppliedCondition=rel_cond)
-        self._root("IfcRelAssignsToGroup", RelatedObjects=self.node_items + self.member_items,
-                   RelatingGroup=amodel)
+                rel_cond = self._release_condition(frame.releases[k, end]) if frame.releases[k, end].any() else "$"
+                self._add_root("IfcRelConnectsStructuralMember", Name=string(f"{mid}-{frame.node_ids[node]}"),
+                               RelatingStructuralMember=f"#{member}",
+                               RelatedStructuralConnection=f"#{self.node_items[node].id()}", AppliedCondition=rel_cond)
+        everything = "(" + ",".join(f"#{e.id()}" for e in (*self.node_items, *self.member_items)) + ")"
+        self._add_root("IfcRelAssignsToGroup", RelatedObjects=everything, RelatingGroup=f"#{self.analysis_model.id()}")
         by_physical: dict[int, list] = defaultdict(list)
         phys_entities = {}
         for k, guid in enumerate(frame.member_sources):
@@ -575,53 +600,67 @@ class _Writer:
                 by_physical[ent.id()].append(self.member_items[k])
                 phys_entities[ent.id()] = ent
         for pid, items in by_physical.items():
-            self._root("IfcRelAssignsToProduct", RelatedObjects=items, RelatingProduct=phys_entities[pid])
+            self._add_root("IfcRelAssignsToProduct", RelatedObjects="(" + ",".join(f"#{i.id()}" for i in items) + ")",
+                           RelatingProduct=f"#{pid}")
         self._associate_materials(phys_entities, by_physical)
-        return amodel
 
     def _associate_materials(self, phys_entities, by_physical) -> None:
-        by_material: dict[int, tuple[Any, list]] = {}
+        from .step import string
+
+        by_material: dict[int, list] = {}
         for pid, items in by_physical.items():
             for rel in getattr(phys_entities[pid], "HasAssociations", None) or ():
                 if rel.is_a("IfcRelAssociatesMaterial"):
-                    mat = rel.RelatingMaterial
-                    by_material.setdefault(mat.id(), (mat, []))[1].extend(items)
+                    by_material.setdefault(rel.RelatingMaterial.id(), []).extend(items)
                     break
-        for mat, items in by_material.values():
-            self._root("IfcRelAssociatesMaterial", Name="plumbframe", RelatedObjects=items, RelatingMaterial=mat)
+        for mat, items in by_material.items():
+            self._add_root("IfcRelAssociatesMaterial", Name=string("plumbframe"),
+                           RelatedObjects="(" + ",".join(f"#{i.id()}" for i in items) + ")", RelatingMaterial=f"#{mat}")
 
-    def _stiffness_value(self, fixed: bool, spring: float, rotational: bool):
-        f = self.f
+    def _stiffness_value(self, fixed: bool, spring: float, rotational: bool) -> str:
+        """One stiffness attribute of an IfcBoundaryNodeCondition as STEP text."""
+        from .step import real
+
         if self.ifc2x3:  # IFC2X3: a number; -1 is the customary value for a rigid restraint
             if fixed:
-                return -1.0
+                return real(-1.0)
             scale = self.units.rotational_stiffness if rotational else self.units.linear_stiffness
-            return float(spring) / scale if spring > 0 else 0.0
+            return real(float(spring) / scale if spring > 0 else 0.0)
         if fixed:
-            return f.create_entity("IfcBoolean", True)
+            return "IFCBOOLEAN(.T.)"
         if spring > 0:
             scale = self.units.rotational_stiffness if rotational else self.units.linear_stiffness
-            cls = "IfcRotationalStiffnessMeasure" if rotational else "IfcLinearStiffnessMeasure"
-            return f.create_entity(cls, float(spring) / scale)
-        return f.create_entity("IfcBoolean", False)
+            cls = "IFCROTATIONALSTIFFNESSMEASURE" if rotational else "IFCLINEARSTIFFNESSMEASURE"
+            return f"{cls}({real(float(spring) / scale)})"
+        return "IFCBOOLEAN(.F.)"
 
-    def _node_condition(self, i: int):
+    _CONDITION_NAMES = {True: ("LinearStiffnessX", "LinearStiffnessY", "LinearStiffnessZ", "RotationalStiffnessX",
+                               "RotationalStiffnessY", "RotationalStiffnessZ"),
+                        False: ("TranslationalStiffnessX", "TranslationalStiffnessY", "TranslationalStiffnessZ",
+                                "RotationalStiffnessX", "RotationalStiffnessY", "RotationalStiffnessZ")}
+
+    def _condition(self, name: str, values: list[str]) -> str:
+        """An IfcBoundaryNodeCondition line (shared by content); returns its reference."""
+        from .step import string
+
+        cache = self.__dict__.setdefault("_conditions", {})
+        key = (name, tuple(values))
+        ref = cache.get(key)
+        if ref is None:
+            fmt = self._line("IfcBoundaryNodeCondition", ("Name", *self._CONDITION_NAMES[self.ifc2x3]))
+            ref = cache[key] = f"#{self.out.add(fmt % (string(name), *values))}"
+        return ref
+
+    def _node_condition(self, i: int) -> str | None:
         frame = self.frame
         if not (frame.restraints[i].any() or (frame.springs[i] > 0).any()):
             return None
-        names = (("LinearStiffnessX", "LinearStiffnessY", "LinearStiffnessZ") if self.ifc2x3 else
-                 ("TranslationalStiffnessX", "TranslationalStiffnessY", "TranslationalStiffnessZ")) + \
-            ("RotationalStiffnessX", "RotationalStiffnessY", "RotationalStiffnessZ")
-        values = {n: self._stiffness_value(bool(frame.restraints[i, c]), float(frame.springs[i, c]), c >= 3)
-                  for c, n in enumerate(names)}
-        return self.f.create_entity("IfcBoundaryNodeCondition", Name="support", **values)
+        return self._condition("support", [self._stiffness_value(bool(frame.restraints[i, c]), float(frame.springs[i, c]),
+                                                                 c >= 3) for c in range(6)])
 
-    def _release_condition(self, released):
-        names = (("LinearStiffnessX", "LinearStiffnessY", "LinearStiffnessZ") if self.ifc2x3 else
-                 ("TranslationalStiffnessX", "TranslationalStiffnessY", "TranslationalStiffnessZ")) + \
-            ("RotationalStiffnessX", "RotationalStiffnessY", "RotationalStiffnessZ")
-        values = {n: self._stiffness_value(not bool(released[c]), 0.0, c >= 3) for c, n in enumerate(names)}
-        return self.f.create_entity("IfcBoundaryNodeCondition", Name="end release", **values)
+    def _release_condition(self, released) -> str:
+        return self._condition("end release", [self._stiffness_value(not bool(released[c]), 0.0, c >= 3)
+                                               for c in range(6)])
 
     # -- load groups ------------------------------------------------------------
     def _load_groups(self) -> dict[str, Any]:
