@@ -13,7 +13,10 @@ needs far fewer to show what matters:
 * ``all``: every station.
 
 Every subset is a subset of ``all``, with the same values at the stations
-they share.
+they share. The writer selects the forces' stations and the deflections'
+stations apart (each with the other's values given as zeros), so that the
+internal-force reaction of a member carries its force extremes and the
+deflection reaction its deflection extremes, not each other's.
 """
 from __future__ import annotations
 

@@ -20,9 +20,10 @@ What is written (everything tagged so that a later run can find and replace it):
   N, Vy, Vz, T, My, Mz as ForceX, ForceY, ForceZ, MomentX, MomentY, MomentZ
   of one ``IfcStructuralLoadSingleForce`` per station (``Locations``: the
   distance from the member's start; which stations: `analysis.stations`,
-  by default the ends, the extremes and both sides of concentrated loads),
-  and a second one with the deflections
-  dy, dz of the member axis (``IfcStructuralLoadSingleDisplacement``). IFC2X3
+  by default the ends, both sides of concentrated loads and the extremes
+  of the forces), and a second one with the deflections dy, dz of the
+  member axis (``IfcStructuralLoadSingleDisplacement``) at the ends, the
+  load points and the extremes of the deflections. IFC2X3
   has neither entity: there the member forces go to property sets only;
 * where the input had no structural analysis model (route 'physical'), the
   derived analytical model: ``IfcStructuralAnalysisModel`` (Description
@@ -850,40 +851,48 @@ class _Writer:
         S = np.concatenate([dg.stations for dg in diagrams])
         F = np.concatenate([dg.forces for dg in diagrams])
         D = np.concatenate([dg.deflections for dg in diagrams])
-        keep = select_stations_batch(sizes, S, F, D, self.stations)
+        # each reaction at its own stations: the forces at the ends, both sides of concentrated loads and the
+        # forces' extremes; the deflections at the ends, the load points and the deflections' extremes
+        keep_f = select_stations_batch(sizes, S, F, np.zeros_like(D), self.stations)
+        keep_d = select_stations_batch(sizes, S, np.zeros_like(F), D, self.stations)
         S = S + np.repeat(np.array([offset for _, offset in order], float), sizes)  # along the IFC member
         seg_starts = np.concatenate([[0], np.cumsum(sizes)[:-1]])
-        per_segment = np.add.reduceat(keep.astype(np.int64), seg_starts) if sizes.size else sizes
         n_segments = [len(segments) for segments in chains.values()]
-        counts = np.add.reduceat(per_segment, np.concatenate([[0], np.cumsum(n_segments)[:-1]])).tolist() \
-            if n_segments else []
-        total = int(keep.sum())
+        chain_starts = np.concatenate([[0], np.cumsum(n_segments)[:-1]])
+
+        def per_chain(keep: np.ndarray) -> list[int]:
+            per_segment = np.add.reduceat(keep.astype(np.int64), seg_starts) if sizes.size else sizes
+            counts = np.add.reduceat(per_segment, chain_starts).tolist() if n_segments else []
+            return [0, *np.cumsum(counts).astype(int).tolist()]
+
+        starts_f, starts_d = per_chain(keep_f), per_chain(keep_d)
+        total_f, total_d = int(keep_f.sum()), int(keep_d.sum())
         fs = np.array([u.force] * 3 + [u.moment] * 3)
-        self.say(f"writing IFC: {case}: {total:,} stations of {len(chains):,} members")
-        tok_s = reals(S[keep] / u.length)
-        tok_f = reals(F[keep] / fs)
-        tok_d = reals(D[keep] / u.length)
+        self.say(f"writing IFC: {case}: {total_f:,} force and {total_d:,} deflection stations of {len(chains):,} members")
+        where_f = [f"({t})" for t in reals(S[keep_f] / u.length)]
+        where_d = [f"({t})" for t in reals(S[keep_d] / u.length)]
+        tok_f = reals(F[keep_f] / fs)
+        tok_d = reals(D[keep_d] / u.length)
         force_fmt = self._line("IfcStructuralLoadSingleForce", ("ForceX", "ForceY", "ForceZ", "MomentX", "MomentY",
                                                                  "MomentZ"))
         defl_fmt = self._line("IfcStructuralLoadSingleDisplacement", ("DisplacementY", "DisplacementZ"))
-        f0 = out.block(total)
-        out.extend([f"#{f0 + j}={force_fmt % tuple(tok_f[6 * j:6 * j + 6])};\n" for j in range(total)])
-        d0 = out.block(total)
-        out.extend([f"#{d0 + j}={defl_fmt % (tok_d[2 * j], tok_d[2 * j + 1])};\n" for j in range(total)])
+        f0 = out.block(total_f)
+        out.extend([f"#{f0 + j}={force_fmt % tuple(tok_f[6 * j:6 * j + 6])};\n" for j in range(total_f)])
+        d0 = out.block(total_d)
+        out.extend([f"#{d0 + j}={defl_fmt % (tok_d[2 * j], tok_d[2 * j + 1])};\n" for j in range(total_d)])
         config_fmt = self._line("IfcStructuralLoadConfiguration", ("Name", "Values", "Locations"))
         names = {what: string(f"{case}: {what}") for what in ("internal forces", "deflections")}
-        n_items = len(counts)
+        n_items = len(starts_f) - 1
         c0 = out.block(2 * n_items)
-        lines, starts = [], np.concatenate([[0], np.cumsum(counts)]).astype(int).tolist()
+        lines: list[str] = []
         items, labels = [], []
-        where_all = [f"({t})" for t in tok_s]
-        refs_f = [f"#{f0 + x}" for x in range(total)]
-        refs_d = [f"#{d0 + x}" for x in range(total)]
+        refs_f = [f"#{f0 + x}" for x in range(total_f)]
+        refs_d = [f"#{d0 + x}" for x in range(total_d)]
+        kinds = (("internal forces", refs_f, where_f, starts_f), ("deflections", refs_d, where_d, starts_d))
         for j, (ref, label) in enumerate(self._chain_labels(chains)):
-            a, b = starts[j], starts[j + 1]
-            where = "(" + ",".join(where_all[a:b]) + ")"
-            for w, (what, refs) in enumerate((("internal forces", refs_f), ("deflections", refs_d))):
-                lines.append(f"#{c0 + 2 * j + w}={config_fmt % (names[what], '(' + ','.join(refs[a:b]) + ')', where)};\n")
+            for w, (what, refs, where, starts) in enumerate(kinds):
+                a, b = starts[j], starts[j + 1]
+                lines.append(f"#{c0 + 2 * j + w}={config_fmt % (names[what], '(' + ','.join(refs[a:b]) + ')', '(' + ','.join(where[a:b]) + ')')};\n")
                 labels.append(label[w])
                 items.append(ref)
         out.extend(lines)

@@ -362,3 +362,41 @@ def test_physical_route_adds_derived_model(tmp_path):
     out2 = tmp_path / "out2.ifc"
     write_results(out, out2, model, res)
     assert counts(out2) == counts(out)
+
+
+def test_force_and_deflection_reactions_carry_their_own_extremes(tmp_path, assert_valid_ifc):
+    # under floor loads a member's moment peaks where the shear vanishes and its deflection where the slope
+    # does: the internal-force reaction holds the ends, load points and force extremes, the deflection
+    # reaction the ends, load points and deflection extremes (`analysis.stations`), each read against the
+    # JSON's complete diagrams (the selection rule of the module, common practice, no source)
+    import json
+
+    from analysis.cli import main
+    from analysis.stations import select_stations
+
+    src, out, js = tmp_path / "portal.ifc", tmp_path / "portal.results.ifc", tmp_path / "portal.json"
+    assert main(["sample", "workshop_portal", "-o", str(src)]) == 0
+    assert main(["analyze", str(src), "-o", str(out), "--json", str(js)]) == 0
+    assert_valid_ifc(out)
+    doc = json.loads(js.read_text())
+    f = ifcopenshell.open(str(out))
+    scale = next(u for u in f.by_type("IfcSIUnit") if u.UnitType == "LENGTHUNIT")
+    to_file = 1e3 if scale.Prefix == "MILLI" else 1.0
+    checked = differ = 0
+    for member in f.by_type("IfcStructuralCurveMember"):
+        for case, cr in doc["cases"].items():
+            d = cr["members"].get(member.Name)
+            if d is None:
+                continue
+            acts = [r.RelatedStructuralActivity for r in member.AssignedStructuralActivity or ()]
+            s = np.array(d["stations"])
+            F = np.array([d[k] for k in ("N", "Vy", "Vz", "T", "My", "Mz")]).T
+            D = np.array([d["dy"], d["dz"]]).T
+            for what, want in (("internal forces", select_stations(s, F, np.zeros_like(D), "extremes")),
+                               ("deflections", select_stations(s, np.zeros_like(F), D, "extremes"))):
+                cfg = _curve_config(acts, case, what)
+                assert [loc[0] for loc in cfg.Locations] == pytest.approx(s[want] * to_file, abs=1e-9)
+            differ += set(select_stations(s, F, np.zeros_like(D), "extremes")) != set(
+                select_stations(s, np.zeros_like(F), D, "extremes"))
+            checked += 1
+    assert checked >= 6 and differ >= 1  # some member has its force and deflection extremes at different stations
