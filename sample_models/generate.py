@@ -1098,7 +1098,30 @@ def build_sample(name: str, schema: str | None = None) -> ifcopenshell.file:
     if schema not in ("IFC2X3", "IFC4", "IFC4X3"):
         raise ValueError(f"unsupported schema {schema!r}")
     builder, units = _BUILDERS[name]
-    return builder(name, schema, units)
+    return _declare_derived_units(builder(name, schema, units))
+
+
+# unit types the samples' values are given in, as products of the declared base units
+_DERIVED = (("MODULUSOFELASTICITYUNIT", (("FORCEUNIT", 1), ("LENGTHUNIT", -2))),
+            ("LINEARFORCEUNIT", (("FORCEUNIT", 1), ("LENGTHUNIT", -1))),
+            ("MASSDENSITYUNIT", (("MASSUNIT", 1), ("LENGTHUNIT", -3))))
+
+
+def _declare_derived_units(f: ifcopenshell.file) -> ifcopenshell.file:
+    """Declare each unit type of `_DERIVED` the file leaves out, built from its own base units, so that no
+    value is read in an undeclared unit (the values stay as they are: a reader derives the same unit).
+    Created last, so the ids of everything else do not move."""
+    assignment = f.by_type("IfcProject")[0].UnitsInContext
+    units = list(assignment.Units)
+    declared = {u.UnitType for u in units}
+    base = {u.UnitType: u for u in units if u.is_a("IfcNamedUnit")}
+    for unit_type, elements in _DERIVED:
+        if unit_type in declared:
+            continue
+        parts = [f.create_entity("IfcDerivedUnitElement", Unit=base[t], Exponent=e) for t, e in elements]
+        units.append(f.create_entity("IfcDerivedUnit", Elements=parts, UnitType=unit_type))
+    assignment.Units = units
+    return f
 
 
 def write_sample(name: str, path: str | pathlib.Path, schema: str | None = None) -> pathlib.Path:

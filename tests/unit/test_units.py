@@ -171,8 +171,8 @@ def test_si_scales_are_identity():
 
 # --------------------------------------------------------------------------- warnings only for the units in use
 def _portal_file(tmp_path, *, moment=False, declare_linear_force=False):
-    """The bundled workshop portal (m, N, Pa; it declares neither TORQUEUNIT nor LINEARFORCEUNIT), optionally
-    with a moment on one point action, or with LINEARFORCEUNIT declared as N/m."""
+    """The bundled workshop portal (m, N, Pa; it does not declare TORQUEUNIT), optionally with a moment on one
+    point action; its own LINEARFORCEUNIT (N/m) is taken out unless ``declare_linear_force``."""
     from analysis.samples import write_sample
 
     path = tmp_path / "portal.ifc"
@@ -181,13 +181,10 @@ def _portal_file(tmp_path, *, moment=False, declare_linear_force=False):
     if moment:
         load = f.by_type("IfcStructuralLoadSingleForce")[0]
         load.MomentY = 5e3
-    if declare_linear_force:
-        assignment = f.by_type("IfcProject")[0].UnitsInContext
-        newton = _si(f, "FORCEUNIT", "NEWTON")
-        metre = _si(f, "LENGTHUNIT", "METRE")
-        lf = f.createIfcDerivedUnit([f.createIfcDerivedUnitElement(newton, 1), f.createIfcDerivedUnitElement(metre, -1)],
-                                    "LINEARFORCEUNIT", None)
-        assignment.Units = list(assignment.Units) + [lf]
+    assignment = f.by_type("IfcProject")[0].UnitsInContext
+    assert any(getattr(u, "UnitType", None) == "LINEARFORCEUNIT" for u in assignment.Units)
+    if not declare_linear_force:
+        assignment.Units = [u for u in assignment.Units if getattr(u, "UnitType", None) != "LINEARFORCEUNIT"]
     f.write(str(path))
     return path
 
