@@ -711,8 +711,6 @@ class _Writer:
         self._owner_ref = f"#{self.owner.id()}" if self.owner is not None else "$"
         self._formats: dict[tuple[str, tuple[str, ...]], str] = {}
         self._pending: list[tuple[str, list, list[tuple[str, str, Any]]]] = []
-        self._stats: dict[str, tuple[list, list, list, list]] | None = None
-        self._lengths: list[float] = []
         self._labels: list[tuple[str, tuple[str, str]]] | None = None
         self._common_props: list[tuple[str, str, Any]] | None = None
 
@@ -1026,58 +1024,77 @@ class _Writer:
                 ("Idealisation", "IfcText", idealisation_text(self.results))]
 
     def member_extremes(self, members: list[int]) -> list[tuple[str, str, Any]]:
-        """Property list of PF_MemberForces for the frame members ``members`` (file units)."""
-        res = self.results
-        lo = [math.inf] * 6
-        hi = [-math.inf] * 6
-        lo_case = [""] * 6
-        hi_case = [""] * 6
-        defl, defl_case, ratio, disp, disp_case = 0.0, "", math.inf, 0.0, ""
-        stats = self._member_stats()
-        lengths = self._lengths
-        for name in res.cases:
-            mins, maxs, rels, totals = stats[name]
-            for k in members:
-                mn, mx = mins[k], maxs[k]
-                for a in range(6):
-                    if mn[a] < lo[a]:
-                        lo[a], lo_case[a] = mn[a], name
-                    if mx[a] > hi[a]:
-                        hi[a], hi_case[a] = mx[a], name
-                d_rel, d_abs = rels[k], totals[k]
-                if d_rel > defl:
-                    defl, defl_case = d_rel, name
-                if d_rel > 0:
-                    ratio = min(ratio, lengths[k] / d_rel)
-                if d_abs > disp:
-                    disp, disp_case = d_abs, name
-        props = []
-        for a, action in enumerate(ACTION_NAMES):
-            if not np.isfinite(lo[a]):
-                continue
-            typ = "IfcForceMeasure" if a < 3 else "IfcTorqueMeasure"
-            conv = self._force if a < 3 else self._moment
-            props += [(f"{action}Min", typ, conv(lo[a])), (f"{action}MinCase", "IfcLabel", lo_case[a]),
-                      (f"{action}Max", typ, conv(hi[a])), (f"{action}MaxCase", "IfcLabel", hi_case[a])]
-        props += [("MaxDeflection", "IfcLengthMeasure", self._length(defl)),
-                  ("MaxDeflectionCase", "IfcLabel", defl_case or None),
-                  ("SpanToDeflection", "IfcReal", float(ratio) if math.isfinite(ratio) else None),
-                  ("MaxAxisDisplacement", "IfcLengthMeasure", self._length(disp)),
-                  ("MaxAxisDisplacementCase", "IfcLabel", disp_case or None),
-                  ("Members", "IfcText", ", ".join(self.frame.member_ids[k] for k in members))]
-        return props + self._common()
+        """Property list of PF_MemberForces for the frame members ``members`` (file units): per action its
+        smallest and largest value over the members and cases with the first case reaching it, the largest
+        deflection from the chord and displacement with their cases, the span-to-deflection ratio, the
+        members' ids, and the common properties."""
+        return self.member_extremes_many([members])[0]
 
-    def _member_stats(self) -> dict[str, tuple[list, list, list, list]]:
-        """Per case, as lists: force minima and maxima (m,6), axis deflection from the chord and total (m,)."""
-        if self._stats is None:
-            res = self.results
-            self._stats = {}
-            for name in res.cases:
-                lo, hi = res.force_ranges(name)
-                rel, total = res.axis_deflections(name)
-                self._stats[name] = (lo.tolist(), hi.tolist(), rel.tolist(), total.tolist())
-            self._lengths = np.asarray(res.L, float).tolist()
-        return self._stats
+    def member_extremes_many(self, groups: list[list[int]]) -> list[list[tuple[str, str, Any]]]:
+        """`member_extremes` of many member groups at once (numpy over all of them, case by case)."""
+        res = self.results
+        names = list(res.cases)
+        if not groups:
+            return []
+        sizes = np.array([len(g) for g in groups], dtype=np.int64)
+        idx = np.concatenate([np.asarray(g, dtype=np.int64) for g in groups])
+        starts = np.concatenate([[0], np.cumsum(sizes)[:-1]])
+        n_cases, n_groups = len(names), len(groups)
+        lo = np.full((n_cases, n_groups, 6), np.inf)
+        hi = np.full((n_cases, n_groups, 6), -np.inf)
+        rel = np.full((n_cases, n_groups), -np.inf)
+        tot = np.full((n_cases, n_groups), -np.inf)
+        ratio = np.full(n_groups, np.inf)
+        L = np.asarray(res.L, float)[idx]
+        for c, name in enumerate(names):
+            mn, mx = res.force_ranges(name)
+            r, t = res.axis_deflections(name)
+            # NaN (no such component) never wins, as in a comparison
+            lo[c] = np.minimum.reduceat(np.where(np.isnan(mn[idx]), np.inf, mn[idx]), starts, axis=0)
+            hi[c] = np.maximum.reduceat(np.where(np.isnan(mx[idx]), -np.inf, mx[idx]), starts, axis=0)
+            rk, tk = np.nan_to_num(r[idx], nan=-np.inf), np.nan_to_num(t[idx], nan=-np.inf)
+            rel[c] = np.maximum.reduceat(rk, starts)
+            tot[c] = np.maximum.reduceat(tk, starts)
+            with np.errstate(divide="ignore", invalid="ignore"):
+                q = np.where(rk > 0, L / np.where(rk > 0, rk, 1.0), np.inf)
+            ratio = np.minimum(ratio, np.minimum.reduceat(q, starts))
+        # the first case reaching each extreme (np.argmin/argmax: the first of equal values)
+        c_lo, c_hi = lo.argmin(axis=0), hi.argmax(axis=0)
+        v_lo = np.take_along_axis(lo, c_lo[None], axis=0)[0]
+        v_hi = np.take_along_axis(hi, c_hi[None], axis=0)[0]
+        c_rel, c_tot = rel.argmax(axis=0), tot.argmax(axis=0)
+        v_rel = np.take_along_axis(rel, c_rel[None], axis=0)[0]
+        v_tot = np.take_along_axis(tot, c_tot[None], axis=0)[0]
+        fs = np.array([self._scale("force")] * 3 + [self._scale("moment")] * 3)
+        length = self._scale("length")
+        lo_l, hi_l = (v_lo / fs).tolist(), (v_hi / fs).tolist()
+        ok_lo, ok_hi = np.isfinite(v_lo).tolist(), np.isfinite(v_hi).tolist()
+        c_lo_l, c_hi_l = c_lo.tolist(), c_hi.tolist()
+        defl = np.where(v_rel > 0, v_rel, 0.0) / length
+        disp = np.where(v_tot > 0, v_tot, 0.0) / length
+        defl_case = [names[c] if v > 0 else None for c, v in zip(c_rel.tolist(), v_rel.tolist())]
+        disp_case = [names[c] if v > 0 else None for c, v in zip(c_tot.tolist(), v_tot.tolist())]
+        ratio_l = [float(x) if math.isfinite(x) else None for x in ratio.tolist()]
+        defl_l, disp_l = defl.tolist(), disp.tolist()
+        kinds = [("IfcForceMeasure" if a < 3 else "IfcTorqueMeasure", action) for a, action in enumerate(ACTION_NAMES)]
+        ids = self.frame.member_ids
+        common = self._common()
+        out = []
+        for g, members in enumerate(groups):
+            props: list[tuple[str, str, Any]] = []
+            for a, (typ, action) in enumerate(kinds):
+                if not (ok_lo[g][a] and ok_hi[g][a]):
+                    continue
+                props += [(f"{action}Min", typ, lo_l[g][a]), (f"{action}MinCase", "IfcLabel", names[c_lo_l[g][a]]),
+                          (f"{action}Max", typ, hi_l[g][a]), (f"{action}MaxCase", "IfcLabel", names[c_hi_l[g][a]])]
+            props += [("MaxDeflection", "IfcLengthMeasure", defl_l[g]),
+                      ("MaxDeflectionCase", "IfcLabel", defl_case[g]),
+                      ("SpanToDeflection", "IfcReal", ratio_l[g]),
+                      ("MaxAxisDisplacement", "IfcLengthMeasure", disp_l[g]),
+                      ("MaxAxisDisplacementCase", "IfcLabel", disp_case[g]),
+                      ("Members", "IfcText", ", ".join(ids[k] for k in members))]
+            out.append(props + common)
+        return out
 
     def _write_member_psets(self) -> None:
         if not self.results.cases:
@@ -1088,12 +1105,10 @@ class _Writer:
             if item is not None:
                 seen[item.id()].append(k)
                 ents[item.id()] = item
-        for iid, ks in seen.items():
-            self._pset("PF_MemberForces", [ents[iid]], self.member_extremes(ks))
-        for target in self.physical.values():
-            if target.entity.id() in ents:
-                continue
-            self._pset("PF_MemberForces", [target.entity], self.member_extremes(target.members))
+        owners = [ents[iid] for iid in seen] + [t.entity for t in self.physical.values() if t.entity.id() not in ents]
+        groups = list(seen.values()) + [t.members for t in self.physical.values() if t.entity.id() not in ents]
+        for owner, props in zip(owners, self.member_extremes_many(groups)):
+            self._pset("PF_MemberForces", [owner], props)
 
     def _write_support_psets(self) -> None:
         frame, res = self.frame, self.results
