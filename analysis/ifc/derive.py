@@ -981,11 +981,9 @@ class _Deriver:
             for rel in f.by_type("IfcRelAssociatesProfileProperties"):
                 for o in rel.RelatedObjects:
                     assoc[o.id()] = (assoc.get(o.id()), "pp", rel.id())
-        typed: dict[int, int] = {}
-        for rel in f.by_type("IfcRelDefinesByType"):
-            t = rel.RelatingType.id()
-            for o in rel.RelatedObjects:
-                typed[o.id()] = t
+        from .selection import _types
+
+        typed = {eid: t.id() for eid, t in _types(f).items() if t is not None}  # element id -> its type's id
 
         groups: dict[tuple, tuple] = {}
         sections: dict[tuple, _SectionInfo] = {}
