@@ -1554,7 +1554,8 @@ class _Deriver:
         pts = A[owner] + frac[:, None] * (B - A)[owner]
         spacing = lengths / counts  # sample spacing per element
         tree = cKDTree(pts)
-        pairs = tree.query_pairs(r=reach + 0.5 * float(spacing.max()) * 1.01 + tol, output_type="ndarray")
+        # two crossing lines' nearest samples lie up to half of each one's spacing from the crossing
+        pairs = tree.query_pairs(r=reach + float(spacing.max()) * 1.01 + tol, output_type="ndarray")
         if len(pairs) == 0:
             return P, node_count, links
         oa, ob = owner[pairs[:, 0]], owner[pairs[:, 1]]

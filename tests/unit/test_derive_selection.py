@@ -453,3 +453,21 @@ def test_column_in_a_wall_and_beam_in_a_slab_are_not_held_along_their_spans():
     fr, diags, _ = m.derive()
     assert set(fr.member_ids) == {"C1", "C2", "B1"}
     assert not any("from its start" in d.message for d in diags)
+
+
+def test_every_rafter_crossing_a_long_purlin_is_joined():
+    # a 13 m purlin under sloping rafters 0.7 m apart (sections 80 x 160 mm): each rafter's centre line
+    # passes 125 mm from the purlin's, inside the 170 mm at which their sections touch (half of each size
+    # plus the tolerance), wherever the samples of the two lines happen to fall (geometry of crossing
+    # lines, common practice, no source)
+    m = Physical()
+    small = (0.08, 0.16)
+    m.element("IfcBeam", "P", (-0.5, 0.23, 3.28), (12.5, 0.23, 3.28), small)
+    xs = [round(0.4 + 0.7 * i, 6) for i in range(17)]
+    for i, x in enumerate(xs):
+        m.element("IfcMember", f"R{i}", (x, -0.54, 2.98), (x, 5.04, 6.2), small, predefined="RAFTER")
+    fr, diags, notes = m.derive(supports=["IfcBeam:pinned"])
+    ids = set(fr.member_ids)
+    missed = [f"R{i}" for i in range(len(xs)) if f"R{i}/2" not in ids]
+    assert not missed
+    assert sum("crosses" in d.message for d in diags) == len(xs)
