@@ -656,8 +656,9 @@ def summary_table(model, results=None, ind=None, outputs: Sequence[tuple[str, st
                 lines.append(f"    {action:<3} {_fmt(v, unit)}   {mid:<16} {case}")
             t, tn, tc, r, rn, rc = largest_displacement(results)
             if tn or rn:
-                lines.append(f"  largest displacement {_fmt(t, 'mm').strip()} at node {tn} ({tc}); "
-                             f"rotation {_fmt(r, 'mrad').strip()} at node {rn} ({rc})")
+                parts = [f"{_fmt(t, 'mm').strip()} at node {tn} ({tc})" if tn else "no translation",
+                         f"rotation {_fmt(r, 'mrad').strip()} at node {rn} ({rc})" if rn else "no rotation"]
+                lines.append("  largest displacement " + "; ".join(parts))
             else:  # an all-rigid determinate truss, say: the supports and rigid members hold every joint
                 lines.append("  largest displacement none: no joint moves under any case")
             worst = max((cr.equilibrium_residual for cr in results.cases.values()
@@ -777,7 +778,8 @@ def _analyze(args, con) -> int:
         con.info(f"analysed in {time.perf_counter() - t0:.2f} s with {results.solver}")
         from .magnitudes import displacement_warnings
 
-        model.diagnostics.extend(displacement_warnings(results))  # kilometre displacements: a unit mistake
+        # kilometre displacements (a unit mistake) or a frame barely held: first, ahead of the reader's findings
+        model.diagnostics[:0] = displacement_warnings(results)
     except UnstableStructureError as exc:
         _print_unstable(con, exc, ind, model)
         return EXIT_UNSTABLE

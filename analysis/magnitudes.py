@@ -234,5 +234,5 @@ def displacement_warnings(results, ratio: float = 1.0 / 50.0) -> list:
         return []
     return [Diagnostic("warning", None, f"the largest displacement, {worst * 1e3:.4g} mm at node {where[0]} "
                                         f"({where[1]}), is 1/{size / worst:.3g} of the frame's size ({size:.4g} m): "
-                                        "far beyond what a linear analysis represents; check the units of E, the "
+                                        "far beyond what a linear analysis represents; check the supports, the units of E, the "
                                         "sections and the loads")]

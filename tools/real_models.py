@@ -21,7 +21,8 @@ largest equilibrium residual; the total vertical reaction of the
 element's member, V the volume of its body mesh; where the geometry kernel
 cannot build a body in place, the volume of its Body items built alone, as
 the note says; the number of included elements whose body cannot be built at
-all is given beside it, and then no ratio) and their ratio; whether the written results IFC passes
+all is given beside it, and then no ratio) and their ratio; the largest translation of a node under
+self-weight (a barely held part of the frame shows here first); whether the written results IFC passes
 ``ifcopenshell.validate`` (schema and where-rules; a fourth subprocess),
 counting only problems beyond those the input file has itself; the
 first line of the error or mechanism, if any. The table is Markdown.
@@ -246,6 +247,8 @@ def measure(path: Path, timeout: float, extra: list[str]) -> dict:
             sw = cases.get("Self-weight")
             if sw:
                 row["reaction_z"] = sum(r.get("fz", 0.0) for r in sw.get("reactions", {}).values())
+                row["max_u"] = max((sum((d.get(k) or 0.0) ** 2 for k in ("ux", "uy", "uz")) ** 0.5
+                                    for d in sw.get("displacements", {}).values()), default=None)
     return row
 
 
@@ -263,8 +266,9 @@ def _fmt_valid(v: dict | None) -> str:
 
 def table(rows: list[dict]) -> str:
     head = ("| file | schema | elements | included | left out | materials | nodes | members | supports | check | "
-            "analyze | s | MB | residual | ΣRz self-weight kN | ρ·g·V kN | ratio | results IFC valid | note |")
-    lines = [head, "|" + "---|" * 19]
+            "analyze | s | MB | residual | ΣRz self-weight kN | ρ·g·V kN | ratio | max u self-weight mm | "
+            "results IFC valid | note |")
+    lines = [head, "|" + "---|" * 20]
     for r in rows:
         rz, w = r.get("reaction_z"), r.get("rho_g_V")
         missing = int(r.get("no_volume") or 0)
@@ -285,6 +289,7 @@ def table(rows: list[dict]) -> str:
             f"{res:.1e}" if isinstance(res, float) else "–",
             f"{rz / 1e3:.2f}" if rz is not None else "–",
             (f"{w / 1e3:.2f}" if w else "–") + (f" ({missing} without geometry)" if missing else ""), ratio,
+            f"{r['max_u'] * 1e3:.3g}" if r.get("max_u") is not None else "–",
             _fmt_valid(r.get("valid")), note.replace("|", "/")]) + " |")
     return "\n".join(lines)
 

@@ -17,12 +17,13 @@ from __future__ import annotations
 import logging
 import math
 import os
-from typing import Any, Sequence
+from typing import Any, Collection, Sequence
 
 import numpy as np
 import numpy.typing as npt
 
-__all__ = ["bearing_hits", "body_triangles", "carried_by", "span_runs", "BEARING_CLASSES", "SPAN_BEARING_CLASSES"]
+__all__ = ["bearing_hits", "body_triangles", "carried_by", "rests_on", "span_runs", "BEARING_CLASSES",
+           "SPAN_BEARING_CLASSES"]
 
 logger = logging.getLogger(__name__)
 
@@ -67,7 +68,8 @@ def body_triangles(ifc_file, entities: Sequence[Any]) -> dict[int, npt.NDArray[n
 
 
 def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDArray[np.float64],
-                 below: npt.NDArray[np.float64], tol: float, embedded: bool = True) -> npt.NDArray[np.int64]:
+                 below: npt.NDArray[np.float64], tol: float,
+                 embedded: bool | Collection[int] = True) -> npt.NDArray[np.int64]:
     """For each point, the id of the element it bears on, or -1.
 
     Parameters
@@ -82,6 +84,9 @@ def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDAr
     tol : float
         The gap (m) allowed between the underside and the face, either way
         (the face may also lie anywhere between the underside and the point).
+    embedded : bool or collection of ids
+        Whether a point inside a body bears on it (True: every body; a
+        collection: only those elements').
     """
     q = len(points)
     hit = np.full(q, -1, dtype=np.int64)
@@ -98,7 +103,8 @@ def bearing_hits(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDAr
         if len(cand) == 0:
             continue
         # a point inside the body (an end built into a wall): bears, with gap 0
-        within = _inside(tri_all, pts[cand, :3]) if embedded else np.zeros(len(cand), dtype=bool)
+        embeds = embedded if isinstance(embedded, bool) else eid in embedded
+        within = _inside(tri_all, pts[cand, :3]) if embeds else np.zeros(len(cand), dtype=bool)
         for i in cand[within]:
             o = owner[i]
             if best[o] > 0.0:
@@ -151,9 +157,41 @@ def carried_by(triangles: dict[int, npt.NDArray[np.float64]], points: npt.NDArra
     return {int(h) for h in hit if h >= 0}
 
 
+def rests_on(triangles: npt.NDArray[np.float64], others: dict[int, npt.NDArray[np.float64]], tol: float) -> bool:
+    """Whether a body (its triangles) rests on any of ``others``: a corner or centre of one of its downward
+    faces within ``tol`` above an upward face of theirs, or a corner or centre of one of their upward faces
+    within ``tol`` below a downward face of its own (either face may be the larger one)."""
+    if not others or len(triangles) == 0:
+        return False
+    down = _facing(triangles, -1.0)
+    if len(down) == 0:
+        return False
+    pts = _corners_and_centres(down)
+    if (bearing_hits(others, pts[:, None, :], np.zeros(len(pts)), tol, embedded=False) >= 0).any():
+        return True
+    for tri in others.values():
+        up = _facing(tri, 1.0)
+        if len(up):
+            below = _corners_and_centres(up)
+            if carried_by({0: triangles}, below[:, None, :], np.zeros(len(below)), tol):
+                return True
+    return False
+
+
+def _facing(tri: npt.NDArray[np.float64], sign: float) -> npt.NDArray[np.float64]:
+    """The triangles facing up (``sign`` 1) or down (-1), as `bearing_hits` counts a face upward."""
+    nrm = np.cross(tri[:, 1] - tri[:, 0], tri[:, 2] - tri[:, 0])
+    norm = np.linalg.norm(nrm, axis=1)
+    return tri[(norm > 0) & (sign * nrm[:, 2] > _UP * np.maximum(norm, 1e-300))]
+
+
+def _corners_and_centres(tri: npt.NDArray[np.float64]) -> npt.NDArray[np.float64]:
+    return np.unique(np.vstack([tri.reshape(-1, 3), tri.mean(axis=1)]), axis=0)
+
+
 def span_runs(triangles: dict[int, npt.NDArray[np.float64]], A: npt.NDArray[np.float64], B: npt.NDArray[np.float64],
-              below: npt.NDArray[np.float64], tol: float, members: Sequence[int], step: float = 0.02
-              ) -> list[tuple[int, float, float, int]]:
+              below: npt.NDArray[np.float64], tol: float, members: Sequence[int], step: float = 0.02,
+              embedded: bool | Collection[int] = True) -> list[tuple[int, float, float, int]]:
     """Where members bear on the given bodies along their spans: runs ``(member, t0, t1, element id)``.
 
     Each member in ``members`` (indices into ``A``, ``B``: the centre-line ends, m) is sampled every
@@ -162,7 +200,8 @@ def span_runs(triangles: dict[int, npt.NDArray[np.float64]], A: npt.NDArray[np.f
     consecutive bearing samples, ``t0`` and ``t1`` the fractions of the length where it starts and ends
     (the outer edges of its first and last samples); a run over several bodies in a row (a plate over a
     wall corner) is one, named after the body under its first sample. Only member-body pairs whose
-    bounding boxes come within the tolerance and the member's depth are sampled.
+    bounding boxes come within the tolerance and the member's depth are sampled. ``embedded`` is passed
+    on to `bearing_hits`.
     """
     out: list[tuple[int, float, float, int]] = []
     if not triangles or len(members) == 0:
@@ -186,7 +225,7 @@ def span_runs(triangles: dict[int, npt.NDArray[np.float64]], A: npt.NDArray[np.f
             free = owner < 0
             if not free.any():
                 break
-            hit = bearing_hits({ids[j]: triangles[ids[j]]}, pts[free], depth[free], tol)
+            hit = bearing_hits({ids[j]: triangles[ids[j]]}, pts[free], depth[free], tol, embedded)
             owner[np.flatnonzero(free)[hit >= 0]] = ids[j]
         on = owner >= 0
         if not on.any():

@@ -103,12 +103,15 @@ Supports
     below it — the underside of its section (half its vertical extent below
     the centroid) within the tolerance of an upward-facing face of that
     element's body (``ifcopenshell.geom``), or the end built into the body
-    (a beam in a wall pocket) — or a column connected to a
+    of a wall, footing or pile (a beam in a wall pocket; a beam or member
+    inside a slab's body, a rafter in a roof build-up, is not held by it,
+    a column foot cast into a slab is) — or a column connected to a
     footing by ``IfcRelConnectsElements``: column bottoms as in (a), beam
     and member ends pinned; a wall or slab that itself rests on other frame
     members (a deck on beams, a wall on a transfer beam: a downward face of
     its body on their sections' tops) hands its load on to them and is no
-    support; beams and members that are no steeper than 45 degrees also bear
+    support, unless it also rests on a wall, footing or pile (a floor slab on
+    beams and walls); beams and members that are no steeper than 45 degrees also bear
     along their spans on walls, footings and piles (sampled every 20 mm): a
     contact up to 1 m long (or four section sizes) inside the span is one
     pinned bearing at its middle (a rafter over a wall, a ridge beam on a
@@ -1974,11 +1977,13 @@ class _Deriver:
         contact: a short run (up to `_SEAT` or four section sizes) inside the span gives a node at its
         middle (a rafter over a wall, a ridge beam on a gable wall), a short run at an end is that end's
         own bearing, and a longer run (a wall plate on a wall) gives a node at each of its ends inside
-        the span and holds every node of the member within it. New nodes are appended to ``P`` and landed
-        on their members; the findings are kept per bearer set for `_bearing_supports`. Walls and slabs
-        resting on other frame members are dropped (`_carried`). Returns ``(P, node_count)``.
+        the span and holds every node of the member within it. Only walls, footings and piles hold what is
+        built into their bodies. New nodes are appended to ``P`` and landed on their members; the findings
+        are kept per bearer set for `_bearing_supports`. Walls and slabs resting on other frame members are
+        dropped (`_carried`) unless they also rest on a wall, footing or pile (`analysis.ifc.bearing.rests_on`).
+        Returns ``(P, node_count)``.
         """
-        from .bearing import bearing_hits, span_runs
+        from .bearing import SPAN_BEARING_CLASSES, bearing_hits, rests_on, span_runs
 
         self._bearings: dict[Any, tuple[list, list]] = {}
         tol = self.tol
@@ -1996,6 +2001,8 @@ class _Deriver:
             pts[i, 0] = p
             pts[i, 1] = p + (q - p) / lengths[k] * min(tol, 0.25 * lengths[k])  # an end flush with a face still bears
         below = under_k[[k for k, _ in ends]]
+        lower = (B[:, 2] < A[:, 2]).astype(int)  # which end of each element is its foot
+        column_ends = np.array([elements[k].kind == "column" and e_ == lower[k] for k, e_ in ends], dtype=bool)
         new_points: list[np.ndarray] = []
 
         def node_at(k: int, tv: float) -> int:
@@ -2018,10 +2025,16 @@ class _Deriver:
             tris = self._triangles(bearers)
             if not tris:
                 continue
-            hit = bearing_hits(tris, pts, below, tol)
+            # a beam or member inside a slab's body (a rafter in a roof build-up, a beam cast into a deck) does
+            # not bear on it: only a wall, footing or pile holds what is built into it; a column foot cast into
+            # a slab (a raft) is held by it
+            embeds = {eid for eid in tris if not self.ifc_file.by_id(eid).is_a("IfcSlab")}
+            hit = bearing_hits(tris, pts, below, tol, embeds)
+            if column_ends.any():
+                hit[column_ends] = bearing_hits(tris, pts[column_ends], below[column_ends], tol)
             span_tris = tris if span_classes is None else {
                 eid: t for eid, t in tris.items() if any(self.ifc_file.by_id(eid).is_a(c) for c in span_classes)}
-            runs = span_runs(span_tris, A, B, under_k, tol, spanning, _SPAN_STEP)
+            runs = span_runs(span_tris, A, B, under_k, tol, spanning, _SPAN_STEP, embeds)
             if kind is None and ((hit >= 0).any() or runs):
                 # a wall or slab that itself rests on frame members (a slab on beams, a wall on a transfer beam)
                 # hands its load on to them: it is no support
@@ -2031,6 +2044,16 @@ class _Deriver:
                 for k, _, _, eid in runs:
                     on[eid].add(k)
                 carried = self._carried(tris, on, A, B, lengths, under_k)
+                # one that also rests on a wall, footing or pile below it (a floor slab on walls and beams) still
+                # carries what stands on it down to them
+                grounded = {c for c in carried if rests_on(tris[c], {
+                    e: t for e, t in tris.items() if e != c and any(self.ifc_file.by_id(e).is_a(k)
+                                                                    for k in SPAN_BEARING_CLASSES)}, tol)}
+                if grounded:
+                    carried -= grounded
+                    self.notes.append(f"{len(grounded)} walls or slabs rest on frame members but also on walls, footings or "
+                                      "piles, so they stay supports: "
+                                      + _names([entity_label(self.ifc_file.by_id(c)) for c in sorted(grounded)]) + ".")
                 if carried:
                     hit[np.isin(hit, np.fromiter(carried, dtype=np.int64))] = -1
                     runs = [r for r in runs if r[3] not in carried]

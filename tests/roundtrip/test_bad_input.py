@@ -799,6 +799,8 @@ def test_steel_modulus_orders_of_magnitude_off_is_warned(capsys, tmp_path, porta
     assert r.code == 0, r
     assert "material 'Steel S355': E = 0.00029 GPa is outside the plausible range of steel" in r.out
     assert "largest displacement" in r.out and "of the frame's size" in r.out
+    first = next(line for line in r.out.splitlines() if line.startswith("  warning: "))
+    assert "of the frame's size" in first and "check the supports" in first  # ahead of the reader's findings
 
 
 def test_plausible_model_gives_no_plausibility_warning(capsys, tmp_path, portal_text):

@@ -453,6 +453,22 @@ def test_column_in_a_wall_and_beam_in_a_slab_are_not_held_along_their_spans():
     fr, diags, _ = m.derive()
     assert set(fr.member_ids) == {"C1", "C2", "B1"}
     assert not any("from its start" in d.message for d in diags)
+    assert fr.restraints.any(axis=1).sum() == 2  # the column bases only: B1's ends inside the deck are not held by it
+
+
+def test_a_slab_on_beams_and_walls_still_carries_a_column_down():
+    # the deck lies on B1's top face and, beyond the frame, on a wall: what stands on it goes down the wall
+    m = portal()
+    box = _wall(m, (-0.5, -1.0, 4.2), (9.5, 2.0), 0.2)
+    m.f.create_entity("IfcSlab", GlobalId=m.gid(), Name="Deck", ObjectPlacement=box.ObjectPlacement,
+                      Representation=box.Representation)
+    m.f.remove(box)
+    _wall(m, (8.5, -1.0, 0.0), (0.3, 2.0), 4.2)  # its top under the deck's far end
+    m.element("IfcColumn", "C3", (3, 0, 4.4), (3, 0, 7.0), COL)
+    fr, diags, notes = m.derive()
+    k = fr.member_index("C3")
+    assert fr.restraints[fr.members[k, 0]].all()
+    assert any("also on walls, footings or piles, so they stay supports" in n and "'Deck'" in n for n in notes)
 
 
 def test_every_rafter_crossing_a_long_purlin_is_joined():
