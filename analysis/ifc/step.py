@@ -16,12 +16,13 @@ from __future__ import annotations
 import base64
 import math
 import os
+import re
 from typing import Any, Iterable
 
 import numpy as np
 
 __all__ = ["SIGNIFICANT_DIGITS", "real", "reals", "string", "ref", "refs", "enum", "new_guids", "EntityTemplates",
-           "StepLines", "append_data"]
+           "StepLines", "append_data", "splice_data"]
 
 #: Significant digits of every number the bulk writer formats.
 SIGNIFICANT_DIGITS = 12
@@ -165,6 +166,7 @@ class StepLines:
     """Numbered DATA lines after ``first_id``; `add` returns the id of the new entity."""
 
     def __init__(self, first_id: int) -> None:
+        self.first_id = first_id
         self.next_id = first_id
         self.lines: list[str] = []
 
@@ -225,3 +227,64 @@ def append_data(path: str, chunks: Iterable[str]) -> None:
         if buf:
             fh.write("".join(buf).encode("ascii"))
         fh.write(rest)
+
+
+def _record_span(data: bytes, eid: int, ifc_class: str) -> tuple[int, int] | None:
+    """Byte span of entity ``#eid`` (of class ``ifc_class``) in a STEP file's text, or None where unsure."""
+    head = re.compile(rb"(?:^|(?<=[;\s]))#%d\s*=\s*([A-Za-z0-9_]+)\s*\(" % eid)
+    found = [m for m in head.finditer(data)]
+    found = [m for m in found if m.group(1).upper() == ifc_class.upper().encode("ascii")]
+    if len(found) != 1:  # not there, or also inside a string: leave it to ifcopenshell's own writer
+        return None
+    m = found[0]
+    tail = _RECORD_TAIL.match(data, m.end())
+    if tail is None:
+        return None
+    return m.start(), tail.end()
+
+
+_RECORD_TAIL = re.compile(rb"(?:[^';]+|'[^']*')*;")
+
+
+def splice_data(out_path: str, source: bytes, replace: dict[int, tuple[str, str]], chunks: Iterable[str]) -> bool:
+    """Write ``source`` (a STEP file's bytes) to ``out_path`` with entities replaced and DATA lines added.
+
+    ``replace`` maps an entity id to ``(IFC class, its new STEP record)``;
+    ``chunks`` are DATA lines inserted before the closing ``ENDSEC;`` of the
+    DATA section. The rest of the file, its header included, is copied byte
+    for byte. Returns False, writing nothing, where the text cannot be
+    spliced with certainty (the caller then writes the file through
+    ifcopenshell).
+    """
+    end = source.rfind(b"END-ISO-10303-21")
+    at = source.rfind(b"ENDSEC;", 0, end) if end >= 0 else -1
+    if at < 0 or source.rfind(b"DATA;", 0, at) < 0:
+        return False
+    spans = []
+    for eid, (ifc_class, record) in replace.items():
+        span = _record_span(source, eid, ifc_class)
+        if span is None or span[1] > at:
+            return False
+        spans.append((span, record))
+    spans.sort()
+    with open(out_path, "wb") as fh:
+        pos = 0
+        for (a, b), record in spans:
+            fh.write(source[pos:a])
+            fh.write(record.encode("ascii"))
+            pos = b
+        fh.write(source[pos:at])
+        if source[at - 1:at] != b"\n":
+            fh.write(b"\n")
+        buf: list[str] = []
+        n = 0
+        for chunk in chunks:
+            buf.append(chunk)
+            n += len(chunk)
+            if n > 1 << 22:
+                fh.write("".join(buf).encode("ascii"))
+                buf, n = [], 0
+        if buf:
+            fh.write("".join(buf).encode("ascii"))
+        fh.write(source[at:])
+    return True

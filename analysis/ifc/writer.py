@@ -40,13 +40,18 @@ The few entities that existing ones refer to (result groups, the derived
 model) are created with ``create_entity``; the bulk (reactions, loads,
 relationships, property sets: hundreds of thousands on a building) is
 formatted as STEP lines numbered after the file's highest id and appended to
-the DATA section ifcopenshell writes (`analysis.ifc.step`), which costs a
-fraction of creating them one by one. Numbers carry
+the DATA section (`analysis.ifc.step`), which costs a fraction of creating
+them one by one. Where nothing of the source was removed (no earlier
+results), the output is the source's own text with the few changed entities
+rewritten in place and the new ones added; otherwise ifcopenshell writes the
+changed file and the bulk is appended to it. Numbers carry
 `analysis.ifc.step.SIGNIFICANT_DIGITS` significant digits.
 """
 from __future__ import annotations
 
 import datetime as _dt
+import hashlib
+import itertools
 import logging
 import math
 import os
@@ -191,6 +196,7 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
     read_stamp = getattr(model, "source_stamp", None)
     if read_stamp is not None:  # the file may have been saved again since it was read and analysed
         verify_unchanged(source_path, read_stamp, source.stamp)
+    source_max = int(f.get_max_id())
     w = _Writer(f, model, results, indeterminacy, date or _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0),
                 stations=stations, say=say)
     say("removing earlier results")
@@ -198,8 +204,35 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
     say("writing results")
     w.run()
     say(f"writing IFC: saving {len(w.out):,} new entities")
-    _atomic_write(f, out_path, w.out.lines)
+    splice = None
+    if not w.removed:  # nothing of the source went: its text is copied and only the changed entities rewritten
+        splice = _Splice(source_path, (read_stamp or source.stamp).sha256,
+                         {eid: (f.by_id(eid).is_a(), f.by_id(eid).to_string(True) + ";")
+                          for eid in sorted(w.modified) if eid <= source_max},
+                         [f"{e.to_string(True)};\n" for e in _created(f, source_max + 1, w.out.first_id)])
+    _atomic_write(f, out_path, w.out.lines, splice)
     return w.summary(out_path)
+
+
+@dataclass(frozen=True)
+class _Splice:
+    """How to write the output from the source's own text (see `analysis.ifc.step.splice_data`)."""
+
+    path: str
+    sha256: str
+    replace: dict[int, tuple[str, str]]  # entity id -> (IFC class, new record) of the source entities changed
+    created: list[str]  # records of the entities created through ifcopenshell
+
+
+def _created(f, first: int, stop: int) -> list:
+    """The entities with ids in [first, stop) (made through ifcopenshell before the bulk lines)."""
+    out = []
+    for eid in range(first, stop):
+        try:
+            out.append(f.by_id(eid))
+        except RuntimeError:  # an id never used or removed again
+            continue
+    return out
 
 
 def _same_file(a: str, b: str) -> bool:
@@ -211,18 +244,38 @@ def _same_file(a: str, b: str) -> bool:
     return os.path.abspath(a) == os.path.abspath(b)
 
 
-def _atomic_write(f, out_path: str, lines: list[str]) -> None:
+def _atomic_write(f, out_path: str, lines: list[str], splice: _Splice | None = None) -> None:
     """Write ``f`` with the bulk ``lines`` appended to its DATA section, atomically.
 
     The lines are STEP text, so they are appended to a STEP file; another
     format (``.ifczip``, ``.ifcxml``) is written from that file by ifcopenshell.
+    With ``splice`` and a STEP source, the source's own bytes are copied with
+    the changed entities rewritten in place (no re-serialisation of the model:
+    faster, and the design team's text stays as it was); where that cannot be
+    done with certainty, ifcopenshell writes the file.
     """
     suffix = os.path.splitext(out_path)[1] or ".ifc"
     from ..fileio import atomic_write
-    from .step import append_data
+    from .step import append_data, splice_data
+
+    def spliced(tmp: str) -> bool:
+        if splice is None:
+            return False
+        with open(splice.path, "rb") as fh:
+            data = fh.read()
+        if hashlib.sha256(data).hexdigest() != splice.sha256:
+            raise IfcInputError(f"{splice.path}: the input file changed on disk after it was read (saved again during "
+                                "the run?); the results belong to the earlier version, so nothing was written: run "
+                                "the analysis again")
+        head = data[3:64] if data.startswith(b"\xef\xbb\xbf") else data[:64]
+        if not head.lstrip().startswith(b"ISO-10303-21"):
+            return False
+        return splice_data(tmp, data, splice.replace, itertools.chain(splice.created, lines))
 
     def write(tmp: str) -> None:
         if suffix.lower() == ".ifc":
+            if spliced(tmp):
+                return
             f.write(tmp)
             append_data(tmp, lines)
             return
@@ -370,6 +423,7 @@ class _Writer:
         self.date = date
         self.removed = 0
         self.notes: list[str] = []
+        self.modified: set[int] = set()  # ids of source entities changed through ifcopenshell
         self.owner = self._owner_history()
         self.counts: defaultdict[str, int] = defaultdict(int)
         self._properties: dict[tuple[str, str], int] = {}  # shared IfcPropertySingleValue by content
@@ -699,6 +753,7 @@ class _Writer:
             self.counts["groups"] += 1
         existing = [g for g in (self.analysis_model.HasResults or ())]
         self.analysis_model.HasResults = existing + groups if (existing or groups) else None
+        self.modified.add(self.analysis_model.id())
         return groups
 
     def _start_bulk(self) -> None:
@@ -941,6 +996,59 @@ class _Writer:
         self._pending.append((name, objects, [p for p in props if p[2] is not None]))
         self.counts["psets"] += 1
 
+    def _pset_columns(self, name: str, owners: list, columns: list[tuple[str, str, list]]) -> None:
+        """One property set ``name`` on each of ``owners`` from columns (see `member_extremes_columns`), its
+        properties shared by content with every other property set; written at once, column by column."""
+        from .step import new_guids, reals, string
+
+        n = len(owners)
+        if not n:
+            return
+        out, cache = self.out, self._properties
+        prop_fmt = self._line("IfcPropertySingleValue", ("Name", "NominalValue"))
+        lines: list[str] = []
+        refs_by_column: list[list[str | None]] = []
+        exact = (*self._TEXT_TYPES, "IfcInteger", "IfcBoolean")
+        for pname, typ, values in columns:
+            present = [v for v in values if v is not None]
+            if not present:
+                continue
+            if typ in self._TEXT_TYPES:
+                quoted = {v: string(v) for v in dict.fromkeys(present)}
+                tokens = [quoted[v] for v in present]
+            elif typ == "IfcInteger":
+                tokens = [str(int(v)) for v in present]
+            elif typ == "IfcBoolean":
+                tokens = [".T." if v else ".F." for v in present]
+            else:
+                assert typ not in exact
+                tokens = reals(np.array(present, dtype=float))
+            prefix = "IFCLABEL(" if typ == "IfcDateTime" and self.ifc2x3 else f"{typ.upper()}("
+            keys = [prefix + t + ")" for t in tokens]
+            unique = dict.fromkeys(keys)
+            quoted_name = string(pname)
+            for key in unique:
+                pid = cache.get((pname, key))
+                if pid is None:
+                    pid = cache[(pname, key)] = out.reserve()
+                    lines.append(f"#{pid}={prop_fmt % (quoted_name, key)};\n")
+                unique[key] = f"#{pid}"
+            refs = iter([unique[key] for key in keys])
+            refs_by_column.append([next(refs) if v is not None else None for v in values])
+        pset_fmt = self._line("IfcPropertySet", ("GlobalId", "OwnerHistory", "Name", "Description", "HasProperties"))
+        rel_fmt = self._line("IfcRelDefinesByProperties", ("GlobalId", "OwnerHistory", "RelatedObjects",
+                                                            "RelatingPropertyDefinition"))
+        guids = new_guids(2 * n)
+        first = out.block(2 * n)
+        tag, owner, quoted_set = string(TAG), self._owner_ref, string(name)
+        for j, row in enumerate(zip(*refs_by_column)):
+            pset = first + 2 * j
+            props_text = "(" + ",".join([r for r in row if r is not None]) + ")"
+            lines.append(f"#{pset}={pset_fmt % (repr_guid(guids[2 * j]), owner, quoted_set, tag, props_text)};\n"
+                         f"#{pset + 1}={rel_fmt % (repr_guid(guids[2 * j + 1]), owner, f'(#{owners[j].id()})', f'#{pset}')};\n")
+        out.extend(lines)
+        self.counts["psets"] += n
+
     def _flush_psets(self) -> None:
         """Every queued property set, its properties (each IfcPropertySingleValue shared by content) and relation.
 
@@ -1032,6 +1140,13 @@ class _Writer:
 
     def member_extremes_many(self, groups: list[list[int]]) -> list[list[tuple[str, str, Any]]]:
         """`member_extremes` of many member groups at once (numpy over all of them, case by case)."""
+        columns = self.member_extremes_columns(groups)
+        return [[(name, typ, values[g]) for name, typ, values in columns if values[g] is not None]
+                for g in range(len(groups))]
+
+    def member_extremes_columns(self, groups: list[list[int]]) -> list[tuple[str, str, list]]:
+        """PF_MemberForces of many member groups as columns: (property, IFC type, one value per group, None
+        where the group has no such value), in the order of the property set, common properties last."""
         res = self.results
         names = list(res.cases)
         if not groups:
@@ -1078,23 +1193,23 @@ class _Writer:
         defl_l, disp_l = defl.tolist(), disp.tolist()
         kinds = [("IfcForceMeasure" if a < 3 else "IfcTorqueMeasure", action) for a, action in enumerate(ACTION_NAMES)]
         ids = self.frame.member_ids
-        common = self._common()
-        out = []
-        for g, members in enumerate(groups):
-            props: list[tuple[str, str, Any]] = []
-            for a, (typ, action) in enumerate(kinds):
-                if not (ok_lo[g][a] and ok_hi[g][a]):
-                    continue
-                props += [(f"{action}Min", typ, lo_l[g][a]), (f"{action}MinCase", "IfcLabel", names[c_lo_l[g][a]]),
-                          (f"{action}Max", typ, hi_l[g][a]), (f"{action}MaxCase", "IfcLabel", names[c_hi_l[g][a]])]
-            props += [("MaxDeflection", "IfcLengthMeasure", defl_l[g]),
-                      ("MaxDeflectionCase", "IfcLabel", defl_case[g]),
-                      ("SpanToDeflection", "IfcReal", ratio_l[g]),
-                      ("MaxAxisDisplacement", "IfcLengthMeasure", disp_l[g]),
-                      ("MaxAxisDisplacementCase", "IfcLabel", disp_case[g]),
-                      ("Members", "IfcText", ", ".join(ids[k] for k in members))]
-            out.append(props + common)
-        return out
+        columns: list[tuple[str, str, list]] = []
+        for a, (typ, action) in enumerate(kinds):
+            ok = [lo_ok[a] and hi_ok[a] for lo_ok, hi_ok in zip(ok_lo, ok_hi)]
+            if not any(ok):
+                continue
+            columns += [(f"{action}Min", typ, [row[a] if k else None for row, k in zip(lo_l, ok)]),
+                        (f"{action}MinCase", "IfcLabel", [names[row[a]] if k else None for row, k in zip(c_lo_l, ok)]),
+                        (f"{action}Max", typ, [row[a] if k else None for row, k in zip(hi_l, ok)]),
+                        (f"{action}MaxCase", "IfcLabel", [names[row[a]] if k else None for row, k in zip(c_hi_l, ok)])]
+        columns += [("MaxDeflection", "IfcLengthMeasure", defl_l),
+                    ("MaxDeflectionCase", "IfcLabel", defl_case),
+                    ("SpanToDeflection", "IfcReal", ratio_l),
+                    ("MaxAxisDisplacement", "IfcLengthMeasure", disp_l),
+                    ("MaxAxisDisplacementCase", "IfcLabel", disp_case),
+                    ("Members", "IfcText", [", ".join(ids[k] for k in members) for members in groups])]
+        columns += [(name, typ, [value] * n_groups) for name, typ, value in self._common()]
+        return columns
 
     def _write_member_psets(self) -> None:
         if not self.results.cases:
@@ -1107,8 +1222,7 @@ class _Writer:
                 ents[item.id()] = item
         owners = [ents[iid] for iid in seen] + [t.entity for t in self.physical.values() if t.entity.id() not in ents]
         groups = list(seen.values()) + [t.members for t in self.physical.values() if t.entity.id() not in ents]
-        for owner, props in zip(owners, self.member_extremes_many(groups)):
-            self._pset("PF_MemberForces", [owner], props)
+        self._pset_columns("PF_MemberForces", owners, self.member_extremes_columns(groups))
 
     def _write_support_psets(self) -> None:
         frame, res = self.frame, self.results

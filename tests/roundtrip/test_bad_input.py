@@ -399,9 +399,29 @@ def test_ifc_library_write_failure_leaves_no_temporary(capsys, tmp_path, portal_
         raise RuntimeError("An unknown error occurred")
 
     monkeypatch.setattr(ifcopenshell.file, "write", failing_write)
+    # a fresh source is written from its own text; one that cannot be spliced goes through ifcopenshell
+    monkeypatch.setattr("analysis.ifc.step.splice_data", lambda *a, **k: False)
     r = run(capsys, "analyze", src, "-o", tmp_path / "out.ifc")
     assert_refused(r, "out.ifc: cannot be written", "An unknown error occurred")
     assert leftovers(tmp_path) == [] and not (tmp_path / "out.ifc").exists()
+
+
+def test_disk_full_while_copying_the_source_text_leaves_nothing(capsys, tmp_path, portal_text, monkeypatch):
+    import analysis.ifc.step as step
+
+    src = tmp_path / "W.ifc"
+    src.write_text(portal_text)
+    real_splice = step.splice_data
+
+    def full_disk(out_path, *a, **k):
+        real_splice(out_path, *a, **k)  # the temporary is there, half its worth
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(step, "splice_data", full_disk)
+    r = run(capsys, "analyze", src, "-o", tmp_path / "out.ifc")
+    assert_refused(r, "out.ifc: cannot be written", "No space left")
+    assert leftovers(tmp_path) == [] and not (tmp_path / "out.ifc").exists()
+    assert src.read_text() == portal_text
 
 
 # --------------------------------------------------------------------------- 14. option values

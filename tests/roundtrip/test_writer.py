@@ -400,3 +400,89 @@ def test_force_and_deflection_reactions_carry_their_own_extremes(tmp_path, asser
                 select_stations(s, np.zeros_like(F), D, "extremes"))
             checked += 1
     assert checked >= 6 and differ >= 1  # some member has its force and deflection extremes at different stations
+
+
+# --------------------------------------------------------------------------- the source's own text
+def _data_records(text: str) -> list[str]:
+    return [line for line in text.splitlines() if line.startswith("#")]
+
+
+def test_fresh_output_is_the_source_text_plus_results(written):
+    # without earlier results the output is the input's text, byte for byte, but for the analysis model's
+    # record (its HasResults now lists the result groups), with the new entities before the DATA section's end
+    src, out = written.src.read_text(), written.out.read_text()
+    model_id = ifcopenshell.open(str(written.src)).by_guid(written.ids["model"]).id()
+    assert out.startswith(src.split("DATA;")[0])
+    before, after = _data_records(src), _data_records(out)
+    changed = [k for k, (a, b) in enumerate(zip(before, after)) if a != b]
+    assert [before[k].split("=")[0] for k in changed] == [f"#{model_id}"]
+    assert out.rstrip().endswith("END-ISO-10303-21;") and out.count("ENDSEC;") == src.count("ENDSEC;")
+
+
+def _rewritten(text: str, model_id: int, crlf: bool) -> str:
+    """The same model as another exporter might write it: the analysis model's record over three lines,
+    a string holding a semicolon, two records on one line, CRLF line ends."""
+    lines = text.splitlines()
+    out = []
+    for k, line in enumerate(lines):
+        if line.startswith(f"#{model_id}="):
+            a, b = line.split(",", 1)
+            line = a + ",\n  " + b.replace(",$,", ",\n  $,", 1)
+        elif "IFCPROJECT(" in line:
+            line = line.replace("'Cantilever test'", "'Cantilever; test it''s'")
+        out.append(line)
+    joined = "\n".join(out) + "\n"
+    first = next(r for r in out if r.startswith("#1="))
+    second = next(r for r in out if r.startswith("#2="))
+    joined = joined.replace(first + "\n" + second, first + " " + second)
+    return joined.replace("\n", "\r\n") if crlf else joined
+
+
+@pytest.mark.parametrize("crlf", [False, True], ids=["LF", "CRLF"])
+def test_output_from_text_of_another_exporter(tmp_path, assert_valid_ifc, crlf):
+    from analysis import analyze
+    from analysis.ifc.writer import write_results
+
+    plain = tmp_path / "plain.ifc"
+    ids = make_cantilever_ifc(plain)
+    model_id = ifcopenshell.open(str(plain)).by_guid(ids["model"]).id()
+    src = tmp_path / "other.ifc"
+    src.write_bytes(_rewritten(plain.read_text(), model_id, crlf).encode("ascii"))
+    model = cantilever_model(ids, src)
+    res = analyze(model.frame)
+    out = tmp_path / "out.ifc"
+    write_results(src, out, model, res)
+    assert_valid_ifc(out)
+    f = ifcopenshell.open(str(out))
+    assert f.by_type("IfcProject")[0].Name == "Cantilever; test it's"
+    assert {g.Name for g in f.by_guid(ids["model"]).HasResults} == {"tip", "1.5 tip"}
+    reference = tmp_path / "reference.ifc"
+    write_results(plain, reference, cantilever_model(ids, plain), res)
+    assert counts(out) == counts(reference)
+    assert out.read_bytes().startswith(src.read_bytes().split(b"DATA;")[0])  # copied, not re-serialised
+
+
+def test_a_record_lookalike_in_a_string_falls_back_to_the_ifc_library(tmp_path, assert_valid_ifc, monkeypatch):
+    # a string that holds the text of the record to be rewritten: the splice is not sure, ifcopenshell writes
+    from analysis import analyze
+    from analysis.ifc.writer import write_results
+
+    plain = tmp_path / "plain.ifc"
+    ids = make_cantilever_ifc(plain)
+    model_id = ifcopenshell.open(str(plain)).by_guid(ids["model"]).id()
+    text = plain.read_text().replace("'Cantilever test'", f"'see #{model_id}=IFCSTRUCTURALANALYSISMODEL(x)'")
+    src = tmp_path / "odd.ifc"
+    src.write_text(text)
+    model = cantilever_model(ids, src)
+    out = tmp_path / "out.ifc"
+    import analysis.ifc.step as step
+
+    said = []
+    real = step.splice_data
+    monkeypatch.setattr(step, "splice_data", lambda *a: said.append(real(*a)) or said[-1])
+    write_results(src, out, model, analyze(model.frame))
+    assert said == [False]
+    assert_valid_ifc(out)
+    f = ifcopenshell.open(str(out))
+    assert f.by_type("IfcProject")[0].Name == f"see #{model_id}=IFCSTRUCTURALANALYSISMODEL(x)"
+    assert len(f.by_guid(ids["model"]).HasResults) == 2
