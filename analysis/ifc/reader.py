@@ -194,6 +194,9 @@ class IfcModel:
     plane: bool = False  # the analysis model declares in-plane 2D loading (IN_PLANE_LOADING_2D)
     source_stamp: Any = None  # analysis.ifc.source.SourceStamp of the bytes read (the writer checks it)
     left_out: list = field(default_factory=list)  # route 2: analysis.ifc.selection.LeftOut per element set aside
+    # the opened file, lent to the first `write_results` of this model (which changes it and lets it go),
+    # so that the writer need not parse the source again; None once taken
+    ifc_file: Any = field(default=None, repr=False, compare=False)
 
 
 @dataclass(frozen=True, slots=True)
@@ -374,7 +377,7 @@ def _read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, 
         _unit_notes(scales, notes)
         return IfcModel(frame=frame, diagnostics=source.diagnostics + list(diagnostics), route="physical", schema=schema,
                         analysis_models=[], path=path, units=scales, notes=notes + list(derive_notes), physical=physical,
-                        source_stamp=source.stamp, left_out=list(derived.left_out))
+                        source_stamp=source.stamp, left_out=list(derived.left_out), ifc_file=ifc_file)
 
     chosen = _choose_model(models, model, path)
     if len(models) > 1:
@@ -394,7 +397,7 @@ def _read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, 
     _unit_notes(scales, notes)
     return IfcModel(frame=frame, diagnostics=source.diagnostics + reader.diagnostics, route="structural", schema=schema,
                     analysis_models=listed, path=path, units=scales, notes=notes + reader.notes + axial_notes,
-                    physical=reader.physical, plane=plane, source_stamp=source.stamp)
+                    physical=reader.physical, plane=plane, source_stamp=source.stamp, ifc_file=ifc_file)
 
 
 def _unit_notes(scales, notes: list[str]) -> None:

@@ -231,18 +231,26 @@ def append_data(path: str, chunks: Iterable[str]) -> None:
 
 def _record_span(data: bytes, eid: int, ifc_class: str) -> tuple[int, int] | None:
     """Byte span of entity ``#eid`` (of class ``ifc_class``) in a STEP file's text, or None where unsure."""
-    head = re.compile(rb"(?:^|(?<=[;\s]))#%d\s*=\s*([A-Za-z0-9_]+)\s*\(" % eid)
-    found = [m for m in head.finditer(data)]
-    found = [m for m in found if m.group(1).upper() == ifc_class.upper().encode("ascii")]
+    name = b"#%d" % eid
+    found = []
+    at = data.find(name)
+    while at >= 0:  # every '#eid' that starts a record: after a ';', a blank or the file's start, before '='
+        if at == 0 or data[at - 1:at] in _BEFORE_RECORD:
+            m = _RECORD_HEAD.match(data, at + len(name))
+            if m is not None and m.group(1).upper() == ifc_class.upper().encode("ascii"):
+                found.append((at, m))
+        at = data.find(name, at + len(name))
     if len(found) != 1:  # not there, or also inside a string: leave it to ifcopenshell's own writer
         return None
-    m = found[0]
+    start, m = found[0]
     tail = _RECORD_TAIL.match(data, m.end())
     if tail is None:
         return None
-    return m.start(), tail.end()
+    return start, tail.end()
 
 
+_BEFORE_RECORD = (b";", b" ", b"\t", b"\r", b"\n")
+_RECORD_HEAD = re.compile(rb"\s*=\s*([A-Za-z0-9_]+)\s*\(")
 _RECORD_TAIL = re.compile(rb"(?:[^';]+|'[^']*')*;")
 
 

@@ -188,14 +188,20 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
             raise AnalysisError(f"{out_path}: the folder {folder} does not exist")
         if not os.access(folder, os.W_OK):
             raise AnalysisError(f"{out_path}: the folder {folder} is not writable")
-    say("opening the source")
     from .source import open_source, verify_unchanged
 
-    source = open_source(source_path, checks=False)
-    f = source.file
     read_stamp = getattr(model, "source_stamp", None)
-    if read_stamp is not None:  # the file may have been saved again since it was read and analysed
-        verify_unchanged(source_path, read_stamp, source.stamp)
+    lent = getattr(model, "ifc_file", None)
+    if lent is not None and read_stamp is not None and _same_file(read_stamp.path, source_path):
+        model.ifc_file = None  # this write changes it: the next one opens the source again
+        verify_unchanged(source_path, read_stamp)  # saved again since it was read and analysed?
+        f, sha256 = lent, read_stamp.sha256
+    else:
+        say("opening the source")
+        source = open_source(source_path, checks=False)
+        f, sha256 = source.file, source.stamp.sha256
+        if read_stamp is not None:  # the file may have been saved again since it was read and analysed
+            verify_unchanged(source_path, read_stamp, source.stamp)
     source_max = int(f.get_max_id())
     w = _Writer(f, model, results, indeterminacy, date or _dt.datetime.now(_dt.timezone.utc).replace(microsecond=0),
                 stations=stations, say=say)
@@ -206,7 +212,7 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
     say(f"writing IFC: saving {len(w.out):,} new entities")
     splice = None
     if not w.removed:  # nothing of the source went: its text is copied and only the changed entities rewritten
-        splice = _Splice(source_path, (read_stamp or source.stamp).sha256,
+        splice = _Splice(source_path, sha256,
                          {eid: (f.by_id(eid).is_a(), f.by_id(eid).to_string(True) + ";")
                           for eid in sorted(w.modified) if eid <= source_max},
                          [f"{e.to_string(True)};\n" for e in _created(f, source_max + 1, w.out.first_id)])
@@ -549,9 +555,19 @@ class _Writer:
 
     def _physical_of_structural(self) -> dict[int, _Target]:
         """Physical elements linked to the analytical members (IfcRelAssignsToProduct, either direction)."""
+        linked: defaultdict[int, list] = defaultdict(list)  # one pass over the relations, not two inverses per item
+        for rel in self.f.by_type("IfcRelAssignsToProduct"):
+            prod = rel.RelatingProduct
+            if prod is None:
+                continue
+            objects = rel.RelatedObjects or ()
+            if prod.is_a("IfcElement"):  # the item among RelatedObjects (its HasAssignments)
+                for obj in objects:
+                    linked[obj.id()].append(prod)
+            linked[prod.id()] += [o for o in objects if o.is_a("IfcElement")]  # the item as RelatingProduct
         targets: dict[int, _Target] = {}
         for k, item in enumerate(self.member_items):
-            for phys in _linked_physical(item):
+            for phys in dict.fromkeys(linked.get(item.id(), ())):
                 targets.setdefault(phys.id(), _Target(phys)).members.append(k)
         return targets
 
@@ -1299,17 +1315,3 @@ def _relative_deflection(stations, deflections, L: float) -> tuple[float, float]
     chord = d[0][None, :] * (1 - t)[:, None] + d[-1][None, :] * t[:, None]
     rel = np.linalg.norm(d - chord, axis=1)
     return float(rel.max()), float(np.linalg.norm(d, axis=1).max())
-
-
-def _linked_physical(item) -> list:
-    """Physical elements tied to an analytical item by IfcRelAssignsToProduct, in either direction."""
-    out = []
-    for rel in getattr(item, "HasAssignments", None) or ():
-        if rel.is_a("IfcRelAssignsToProduct"):
-            prod = rel.RelatingProduct
-            if prod is not None and prod.is_a("IfcElement"):
-                out.append(prod)
-    for rel in getattr(item, "ReferencedBy", None) or ():
-        if rel.is_a("IfcRelAssignsToProduct"):
-            out += [o for o in rel.RelatedObjects if o.is_a("IfcElement")]
-    return list(dict.fromkeys(out))

@@ -486,3 +486,25 @@ def test_a_record_lookalike_in_a_string_falls_back_to_the_ifc_library(tmp_path, 
     f = ifcopenshell.open(str(out))
     assert f.by_type("IfcProject")[0].Name == f"see #{model_id}=IFCSTRUCTURALANALYSISMODEL(x)"
     assert len(f.by_guid(ids["model"]).HasResults) == 2
+
+
+def test_the_readers_file_is_lent_to_one_write(tmp_path, assert_valid_ifc):
+    # the writer takes the file the reader opened (no second parse); a second write of the same model opens
+    # the source again and writes the same entities
+    from analysis import analyze
+    from analysis.cli import main
+    from analysis.ifc.reader import read_ifc
+    from analysis.ifc.writer import write_results
+
+    src = tmp_path / "portal.ifc"
+    assert main(["sample", "workshop_portal", "-o", str(src)]) == 0
+    model = read_ifc(src)
+    assert model.ifc_file is not None
+    res = analyze(model.frame)
+    first, second = tmp_path / "first.ifc", tmp_path / "second.ifc"
+    write_results(src, first, model, res)
+    assert model.ifc_file is None
+    write_results(src, second, model, res)
+    assert_valid_ifc(first)
+    assert counts(first) == counts(second)
+    assert read_ifc(first).frame.n_members == model.frame.n_members
