@@ -151,6 +151,9 @@ def _add_common(p: argparse.ArgumentParser) -> None:
                    help="distance in metres within which physical member ends are joined (default 0.01)")
     g.add_argument("--materials", metavar="FILE.toml", help="material map: IFC material names (exact or glob), "
                    "IFC classes and elements without material to grades or values (format in the README)")
+    g.add_argument("--sections", metavar="FILE.toml", help="section map: A, Iy, Iz, J by element, type or profile "
+                   "name (exact or glob), replacing the file's, and a default for members without a profile "
+                   "(format in the README)")
     g = p.add_argument_group("idealisation (whole model; a per-member property can override)")
     g.add_argument("--inextensible", action="store_true",
                    help="every member axially rigid, pin-jointed truss bars included")
@@ -446,7 +449,8 @@ def _read(args, con):
     t0 = time.perf_counter()
     model = read_ifc(args.input, model=args.model, merge_tolerance=args.merge_tolerance,
                      select=args.select, exclude=args.exclude, supports=args.supports, strict=args.strict,
-                     members=args.members, materials=args.materials, progress=con.progress)
+                     members=args.members, materials=args.materials, sections=args.sections,
+                     progress=con.progress)
     con.info(f"read {args.input} in {time.perf_counter() - t0:.2f} s "
              f"(route {getattr(model, 'route', '?')}, schema {getattr(model, 'schema', '?')})")
     return model

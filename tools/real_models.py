@@ -10,7 +10,8 @@ does and measures the included elements' body volumes with
 ``ifcopenshell.geom``), ``plumbframe check`` and ``plumbframe analyze … --json``.
 Options after ``--`` go to both commands (e.g. ``--members frame``). With
 ``--maps MAPDIR``, a file ``MAPDIR/<name>.toml`` beside a model's name is
-passed as its ``--materials`` map (the only per-file input).
+passed as its ``--materials`` map and ``MAPDIR/<name>.sections.toml`` as its
+``--sections`` map (the only per-file inputs).
 
 Columns: file; schema; elements (IfcBeam, IfcColumn, IfcMember in the file);
 included (elements that became members); left out by reason; materials by
@@ -95,6 +96,8 @@ def probe(path: str, extra: list[str]) -> dict:
               supports=args.supports, strict=args.strict, members=args.members)
     if getattr(args, "materials", None):
         kw["materials"] = args.materials
+    if getattr(args, "sections", None):
+        kw["sections"] = args.sections
     try:
         model = read_ifc(path, **kw)
     except Exception as exc:  # reported in the table; check/analyze give the exit code
@@ -276,7 +279,7 @@ def table(rows: list[dict]) -> str:
         res = r.get("residual")
         note = r.get("problem") or r.get("error") or r.get("probe") or ""
         if r.get("map"):
-            note = f"material map {r['map']}" + (f"; {note}" if note else "")
+            note = f"map {r['map']}" + (f"; {note}" if note else "")
         if r.get("unplaced_volume"):
             note = (f"V of {r['unplaced_volume']} from their body items alone (the kernel cannot place them)"
                     + (f"; {note}" if note else ""))
@@ -304,7 +307,8 @@ def main(argv: list[str] | None = None) -> int:
     p.add_argument("folder", nargs="?")
     p.add_argument("--timeout", type=float, default=600.0, help="seconds per subprocess (default 600)")
     p.add_argument("--out", help="also write the table to this file")
-    p.add_argument("--maps", metavar="MAPDIR", help="folder of per-model material maps <model name>.toml")
+    p.add_argument("--maps", metavar="MAPDIR", help="folder of per-model material maps <model name>.toml and "
+                   "section maps <model name>.sections.toml")
     p.add_argument("--probe", metavar="FILE", help=argparse.SUPPRESS)
     p.add_argument("--validate", metavar="FILE", help=argparse.SUPPRESS)
     p.add_argument("--against", metavar="FILE", help=argparse.SUPPRESS)
@@ -321,9 +325,12 @@ def main(argv: list[str] | None = None) -> int:
     rows = []
     for path in files:
         own = Path(args.maps) / f"{path.stem}.toml" if args.maps else None
-        row = measure(path, args.timeout, extra + (["--materials", str(own)] if own is not None and own.exists() else []))
-        if own is not None and own.exists():
-            row["map"] = own.name
+        sections = Path(args.maps) / f"{path.stem}.sections.toml" if args.maps else None
+        given = [p for p in (own, sections) if p is not None and p.exists()]
+        row = measure(path, args.timeout, extra + (["--materials", str(own)] if own in given else [])
+                      + (["--sections", str(sections)] if sections in given else []))
+        if given:
+            row["map"] = " and ".join(p.name for p in given)
         rows.append(row)
         print(f"{path.name}: check {row.get('check')}, analyze {row.get('analyze')}, {row.get('seconds', 0):.1f} s",
               file=sys.stderr)

@@ -169,6 +169,7 @@ from __future__ import annotations
 
 import logging
 import math
+import os
 from collections import Counter, defaultdict
 from collections.abc import Hashable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
@@ -1018,6 +1019,8 @@ class _Deriver:
                     if default_section is None:
                         raise IfcInputError(f"{el.label}: no profile (no material profile set and no extruded body) to take the section from", el.eid)
                     self.sec[k], self.mat[k] = self._default_section(default_section), material
+                    if default_section.source == "user map":
+                        self.sec[k].source = "user map"
                     el.cardinal = cardinal
                     self.diagnostics.append(Diagnostic("warning", el.eid, f"{el.label}: no profile; the default section {default_section.name!r} is used"))
                     self._centroid_line(el, self.sec[k])
@@ -1033,6 +1036,29 @@ class _Deriver:
             self.sec[k] = sec
             self.mat[k] = material
             self._centroid_line(el, sec)
+        self._apply_section_map(elements, typed)
+
+    def _apply_section_map(self, elements: list[_Element], typed: dict[int, int]) -> None:
+        """The user's section map (`analysis.ifc.section_map`): an entry naming the element, its type, its
+        ObjectType or its profile replaces the section's constants; where it lies (centroid, extent) stays."""
+        smap = _option(self.defaults, "sections", None)
+        if smap is None or not smap.names:
+            return
+        used: dict[str, int] = {}
+        for k, el in enumerate(elements):
+            type_name = self.ifc_file.by_id(typed[el.eid]).Name if el.eid in typed else None
+            profile = el.profile if el.profile is not None else el.body_profile
+            hit = smap.for_names([el.entity.Name, type_name, getattr(el.entity, "ObjectType", None),
+                                  getattr(profile, "ProfileName", None)])
+            if hit is None:
+                continue
+            key, given = hit
+            self.sec[k] = replace(self.sec[k], name=given.name, A=given.A, Iy=given.Iy, Iz=given.Iz,
+                                              J=given.J, Avy=given.Avy, Avz=given.Avz, source="user map")
+            used[key] = used.get(key, 0) + 1
+        if used:
+            self.notes.append(f"Sections from the section map {os.path.basename(smap.path)}: "
+                              + ", ".join(f"{key!r} {n} element{'s' if n != 1 else ''}" for key, n in used.items()))
 
     def _materials(self, elements: list[_Element], assoc: dict[int, Hashable], typed: dict[int, int]) -> list:
         """Every element's `Material`, or the one report naming every material that stays unknown.

@@ -168,6 +168,9 @@ class ReaderDefaults:
     materials : analysis.ifc.material_map.MaterialMap or None
         The user's material map (``--materials FILE.toml``): material names,
         IFC classes and elements without material to grades or values.
+    sections : analysis.ifc.section_map.SectionMap or None
+        The user's section map (``--sections FILE.toml``): sections by name,
+        replacing the file's, and its default (used where ``section`` is None).
     """
 
     E: float | None = None
@@ -176,6 +179,7 @@ class ReaderDefaults:
     density: float | None = None
     section: Section | None = None
     materials: MaterialMap | None = None
+    sections: Any = None  # analysis.ifc.section_map.SectionMap: sections by element, type or profile name
 
 
 @dataclass
@@ -283,7 +287,7 @@ class _ConnectionIndex:
 def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, support_level: float | None = None,
              defaults: ReaderDefaults | Mapping[str, Any] | None = None, area_loads=None, select: str | None = None,
              exclude: str | None = None, supports: Sequence[str] = (), strict: bool = False,
-             members: str | None = None, materials: Any = None, progress=None) -> IfcModel:
+             members: str | None = None, materials: Any = None, sections: Any = None, progress=None) -> IfcModel:
     """Read an IFC2X3 / IFC4 / IFC4X3 file into an analytical frame (SI units).
 
     Parameters
@@ -309,6 +313,10 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
     materials : str, os.PathLike or MaterialMap, optional
         The user's material map (a TOML file, see `analysis.ifc.material_map`):
         both routes. Replaces ``defaults.materials``.
+    sections : str, os.PathLike or SectionMap, optional
+        The user's section map (a TOML file, see `analysis.ifc.section_map`):
+        both routes. Replaces ``defaults.sections``; its default section
+        serves where ``defaults.section`` is None.
 
     Returns
     -------
@@ -328,16 +336,26 @@ def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, s
     return broken_file_guard(_read_ifc, os.fspath(path))(
         path, model=model, merge_tolerance=merge_tolerance, support_level=support_level, defaults=defaults,
         area_loads=area_loads, select=select, exclude=exclude, supports=supports, strict=strict, members=members,
-        materials=materials, progress=progress)
+        materials=materials, sections=sections, progress=progress)
 
 
 def _read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, support_level: float | None = None,
              defaults: ReaderDefaults | Mapping[str, Any] | None = None, area_loads=None, select: str | None = None,
              exclude: str | None = None, supports: Sequence[str] = (), strict: bool = False,
-             members: str | None = None, materials: Any = None, progress=None) -> IfcModel:
+             members: str | None = None, materials: Any = None, sections: Any = None, progress=None) -> IfcModel:
     path = os.fspath(path)
     if isinstance(defaults, Mapping):
         defaults = ReaderDefaults(**defaults)
+    if sections is not None:
+        import dataclasses
+
+        from .section_map import SectionMap, load_section_map
+
+        if not isinstance(sections, SectionMap):
+            sections = load_section_map(sections)
+        base = defaults or ReaderDefaults()
+        defaults = dataclasses.replace(base, sections=sections,
+                                       section=base.section if base.section is not None else sections.default)
     if materials is not None:
         import dataclasses
 
@@ -568,6 +586,7 @@ class _StructuralReader:
         self._axes_cache: dict[tuple[bytes, bytes, float], Mat | None] = {}
         self._relating_material: dict[int, int] = {}
         self._last_key: tuple[int, tuple[int, ...] | None] = (-1, None)
+        self._mapped: dict[str, int] = {}  # section map key -> members it gave the section
         self._materials: dict[tuple[Any, ...], Material] = {}
         self._profiles: dict[tuple[int, ...], tuple[Entity | None, int | None, Entity | None]] = {}
         self._sections: dict[tuple[int, int | None], tuple[Section, SectionProperties, list[str]]] = {}
@@ -724,10 +743,15 @@ class _StructuralReader:
         material_cache["resolver"].raise_unknown()
         if material_cache["resolver"].summary():
             self.notes.append(material_cache["resolver"].summary())
+        self._check_sections(members)
         for n, m in enumerate(members):
             if n % 5000 == 0:
                 say(f"reading: sections and axes, {n:,} of {len(members):,} members")
             self._member(m, ends[m.id()], need_density, material_cache)
+        if self._mapped:
+            smap = self.defaults.sections if self.defaults is not None else None
+            self.notes.append(f"Sections from the section map {os.path.basename(getattr(smap, 'path', ''))}: "
+                              + ", ".join(f"{key!r} {n} member{'s' if n != 1 else ''}" for key, n in self._mapped.items()))
         say(f"reading: loads on {len(members):,} members")
         self._loads()
         try:
@@ -1069,18 +1093,27 @@ class _StructuralReader:
 
         # section
         offset = _NO_OFFSET
+        mapped = self._mapped_section(member, profile)
         if profile is None:
-            if self.defaults is None or self.defaults.section is None:
-                raise self.fail(member, "no profile (IfcMaterialProfileSetUsage or profile properties) and no default section given")
-            import dataclasses
+            if mapped is not None:
+                section = mapped
+            elif self.defaults is None or self.defaults.section is None:
+                raise self.fail(member, "no profile (IfcMaterialProfileSetUsage or profile properties) and no default "
+                                        "section given (a section map gives one: --sections FILE.toml)")
+            else:
+                import dataclasses
 
-            section = dataclasses.replace(self.defaults.section, source="default")
-            self.warn(member, f"no profile in the file: default section '{section.name}' used")
+                smap = self.defaults.sections
+                source = "user map" if smap is not None and self.defaults.section is smap.default else "default"
+                section = dataclasses.replace(self.defaults.section, source=source)
+                self.warn(member, f"no profile in the file: default section '{section.name}' used")
         else:
             section, props_si, pset = self._section(member, profile, usage)
-            if pset:
+            if mapped is not None:
+                section = mapped  # the file's profile still places the axis (cardinal point)
+            elif pset:
                 self.warn(member, "Pset_ProfileMechanical values used for " + ", ".join(pset), "info")
-            if abs(props_si.Iyz) > 1e-6 * math.sqrt(max(props_si.Iy * props_si.Iz, 0.0)) and not truss:
+            if mapped is None and abs(props_si.Iyz) > 1e-6 * math.sqrt(max(props_si.Iy * props_si.Iz, 0.0)) and not truss:
                 self.warn(member, f"profile {entity_label(profile)} is not symmetric (Iyz = {props_si.Iyz:.4g} m4): bending is analysed about the profile axes, the product of inertia is neglected")
             offset = self._cardinal_offset(member, profile, cardinal, props_si, axes)
 
@@ -1129,6 +1162,45 @@ class _StructuralReader:
         phys = self._physical(member)
         if phys is not None:
             self.physical[mid] = str(phys.GlobalId)
+
+    def _section_names(self, member: Entity, profile: Entity | None) -> list[str | None]:
+        """What a section map entry may name: the member's Name and ObjectType, its profile's ProfileName and
+        the Name of the physical element it stands for."""
+        phys = self._physical(member)
+        return [member.Name, getattr(member, "ObjectType", None), getattr(profile, "ProfileName", None),
+                getattr(phys, "Name", None)]
+
+    def _mapped_section(self, member: Entity, profile: Entity | None, *, count: bool = True) -> Section | None:
+        """The section the user's section map gives the member (counted for the reader's note), or None."""
+        smap = self.defaults.sections if self.defaults is not None else None
+        if smap is None or not smap.names:
+            return None
+        hit = smap.for_names(self._section_names(member, profile))
+        if hit is None:
+            return None
+        if count:
+            self._mapped[hit[0]] = self._mapped.get(hit[0], 0) + 1
+        return hit[1]
+
+    def _check_sections(self, members: list[Entity]) -> None:
+        """One message naming every member left without a section (no profile, no map entry, no default)."""
+        if self.defaults is not None and self.defaults.section is not None:
+            return
+        missing = [m for m in members if self._profile(m)[0] is None and self._mapped_section(m, None, count=False) is None]
+        if not missing:
+            return
+        from .section_map import section_snippet
+
+        names: dict[str, int] = {}
+        for m in missing:
+            name = str(m.Name or m.GlobalId)
+            names[name] = names.get(name, 0) + 1
+        examples = "; ".join(entity_label(m) for m in missing[:3]) + (" ..." if len(missing) > 3 else "")
+        raise IfcInputError(
+            f"{len(missing)} of {len(members)} curve members have no profile (no IfcMaterialProfileSetUsage or profile "
+            f"properties) and no section was given for them: {examples}. Give their sections in a section map, "
+            "--sections FILE.toml, for instance (fill in the values):\n\n" + section_snippet(sorted(names.items())),
+            missing[0].id())
 
     def _end_offsets(self, member: Entity, ends: dict, node_i: Vec3, node_j: Vec3, offset: Vec3,
                      chord: float) -> tuple[Vec3, Vec3, Vec3, float]:
