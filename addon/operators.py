@@ -123,7 +123,8 @@ class PLUMBFRAME_OT_load_ifc(bpy.types.Operator):
                                     select=settings.select_query or None, exclude=settings.exclude_query or None,
                                     supports=[q.strip() for q in settings.supports_query.split(";") if q.strip()],
                                     members=settings.members_as, strict=settings.strict,
-                                    materials=bpy.path.abspath(settings.materials_path) if settings.materials_path else None)
+                                    materials=bpy.path.abspath(settings.materials_path) if settings.materials_path else None,
+                                    sections=bpy.path.abspath(settings.sections_path) if settings.sections_path else None)
         except analysis_error() as exc:
             self.report({"ERROR"}, str(exc))
             return {"CANCELLED"}

@@ -43,6 +43,7 @@ class PLUMBFRAME_PT_model(_Base, bpy.types.Panel):
         col = layout.column(align=True)
         col.prop(settings, "merge_tolerance")
         col.prop(settings, "materials_path")
+        col.prop(settings, "sections_path")
         col.prop(settings, "select_query")
         col.prop(settings, "exclude_query")
         col.prop(settings, "supports_query")

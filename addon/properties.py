@@ -63,6 +63,9 @@ class PLUMBFRAME_PG_settings(bpy.types.PropertyGroup):
     materials_path: StringProperty(name="Material map", description="TOML file naming what the IFC materials are "
                                    "(names or globs to grades or values, a fallback per IFC class, a default for "
                                    "elements without material)", subtype="FILE_PATH", default="")
+    sections_path: StringProperty(name="Section map", description="TOML file giving sections (A, Iy, Iz, J) by "
+                                  "element, type or profile name, replacing the file's, and a default for members "
+                                  "without a profile", subtype="FILE_PATH", default="")
     select_query: StringProperty(name="Select", default="",
                                  description="Elements that make the frame, as an ifcopenshell selector query "
                                              "(empty: load-bearing beams, columns and members)")

@@ -35,3 +35,25 @@ def test_material_map_chosen_in_the_addon(bpy_clean, tmp_path):
     (tmp_path / "materials.toml").write_text('[materials]\n"Solid" = "S999"\n')
     with pytest.raises(RuntimeError, match=r"materials.toml: \[materials\] 'Solid'"):
         bpy.ops.plumbframe.load_ifc(filepath=str(path))
+
+
+def test_section_map_chosen_in_the_addon(bpy_clean, addon, tmp_path):
+    # the same TOML file as --sections: a named entry replaces the sample's profile on those members
+    bpy = bpy_clean
+    scene = bpy.context.scene
+    settings = scene.plumbframe
+    assert bpy.ops.plumbframe.load_ifc(filepath=str(SAMPLES / "workshop_portal.ifc")) == {"FINISHED"}
+    plain = addon.engine.session(scene).frame
+    target = plain.section_names[0]
+    (tmp_path / "sections.toml").write_text(
+        f'[sections]\n"{target}" = {{ A = "53.8 cm2", Iy = "8356 cm4", Iz = "604 cm4", J = "20.1 cm4" }}\n')
+    settings.sections_path = str(tmp_path / "sections.toml")
+    assert bpy.ops.plumbframe.load_ifc(filepath=str(SAMPLES / "workshop_portal.ifc")) == {"FINISHED"}
+    frame = addon.engine.session(scene).frame
+    mapped = [k for k in range(frame.n_members) if frame.section_sources[k] == "user map"]
+    assert mapped == [k for k in range(plain.n_members) if plain.section_names[k] == target]
+    assert all(abs(frame.A[k] - 53.8e-4) < 1e-12 for k in mapped)
+    assert bpy.ops.plumbframe.analyze() == {"FINISHED"}
+    (tmp_path / "sections.toml").write_text('default = { A = "0 cm2", Iy = 1.0, Iz = 1.0, J = 1.0 }\n')
+    with pytest.raises(RuntimeError, match=r"sections.toml: default: A must be > 0"):
+        bpy.ops.plumbframe.load_ifc(filepath=str(SAMPLES / "workshop_portal.ifc"))
