@@ -442,3 +442,74 @@ def test_extended_maxwell_rule_on_pin_jointed_trusses(case):
     act = [0, 2] if plane else [0, 1, 2]
     restraints = int(frame.restraints[:, act].sum())
     assert r.static - r.mechanisms == b + restraints - (2 if plane else 3) * j
+
+
+# ------------------------------------------------------------------ large blocks: pivoted QR against the SVD
+@pytest.mark.parametrize("shape,rank", [((700, 650), 640), ((1500, 650), 600), ((400, 650), 400), ((900, 650), 650)])
+def test_pivoted_qr_null_space_matches_the_svd(shape, rank):
+    # a block of known rank (a product of random factors); numpy's SVD gives the reference nullity
+    from analysis.indeterminacy import _pivoted_qr_null
+
+    rng = np.random.default_rng(7)
+    B = rng.standard_normal((shape[0], rank)) @ rng.standard_normal((rank, shape[1]))
+    sv = np.linalg.svd(B, compute_uv=False)
+    assert int((sv > 1e-9 * sv[0]).sum()) == rank
+    N = _pivoted_qr_null(B)
+    assert N.shape == (shape[1], shape[1] - rank)
+    assert np.abs(B @ N).max(initial=0.0) <= 1e-9 * np.abs(B).max() * np.sqrt(shape[1])
+    assert np.allclose(N.T @ N, np.eye(N.shape[1]), atol=1e-10)
+
+
+def _space_grid(n: int, held: str):
+    """A square-on-square double-layer grid of pin-jointed bars (n x n top squares), pinned at every fourth
+    edge joint ('edges'), so less one corner ('corner free'), or at two opposite corners only ('two points':
+    the grid can turn about the line through them)."""
+    BAR = Section("bar", A=1e-3, Iy=1e-6, Iz=1e-6, J=1e-6)
+    b = FrameBuilder()
+    for i in range(n + 1):
+        for j in range(n + 1):
+            edge = (i in (0, n) or j in (0, n)) and (i + j) % 4 == 0
+            if held == "corner free" and (i, j) == (0, 0):
+                edge = False
+            if held == "two points":
+                edge = (i, j) in ((0, 0), (n, n))
+            b.add_node(f"T{i}_{j}", (2.0 * i, 2.0 * j, 1.5), support="pinned" if edge else None)
+    for i in range(n):
+        for j in range(n):
+            b.add_node(f"B{i}_{j}", (2.0 * i + 1, 2.0 * j + 1, 0.0))
+    bars = []
+    for i in range(n + 1):
+        for j in range(n + 1):
+            if i < n:
+                bars.append((f"T{i}_{j}", f"T{i + 1}_{j}"))
+            if j < n:
+                bars.append((f"T{i}_{j}", f"T{i}_{j + 1}"))
+    for i in range(n):
+        for j in range(n):
+            bars += [(f"B{i}_{j}", f"T{i + di}_{j + dj}") for di, dj in ((0, 0), (1, 0), (0, 1), (1, 1))]
+            if i < n - 1:
+                bars.append((f"B{i}_{j}", f"B{i + 1}_{j}"))
+            if j < n - 1:
+                bars.append((f"B{i}_{j}", f"B{i}_{j + 1}"))
+    for k, (p, q) in enumerate(bars):
+        b.add_member(f"m{k}", p, q, BAR, STEEL, truss=True)
+    return b.build()
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("inextensible", [False, True])
+@pytest.mark.parametrize("held", ["edges", "corner free", "two points"])
+def test_large_blocks_count_as_the_svd_does(monkeypatch, inextensible, held):
+    # the same space grid counted with the pivoted QR (blocks over QR_NULL_MIN columns) and with the SVD
+    import analysis.indeterminacy as ind
+
+    frame = _space_grid(12, held)
+    options = AnalysisOptions(inextensible=inextensible)
+    fast = indeterminacy(frame, options)
+    monkeypatch.setattr(ind, "QR_NULL_MIN", 10 ** 9)
+    reference = indeterminacy(frame, options)
+    assert (fast.kinematic, fast.static, fast.mechanisms) == (reference.kinematic, reference.static,
+                                                              reference.mechanisms)
+    assert fast.to_dict()["terms"] == reference.to_dict()["terms"]
+    if held == "two points":
+        assert fast.mechanisms >= 1  # at least the turn about the line through the two supports
