@@ -76,7 +76,9 @@ Loads
     ``IfcStructuralLinearAction``) with ``IfcStructuralLoadLinearForce`` are
     line loads: CONST uniform, LINEAR / POLYGONAL piecewise linear from the
     ``IfcStructuralLoadConfiguration`` locations; SINUS and PARABOLA are
-    approximated by 16 linear pieces (reported). GLOBAL_COORDS are the
+    approximated by 16 linear pieces (reported); DISCRETE, a configuration
+    of ``IfcStructuralLoadSingleForce`` values at its locations, gives point
+    loads there. GLOBAL_COORDS are the
     analysis model's axes; PROJECTED_LENGTH maps to projected line loads.
 Link to physical elements
     ``IfcRelAssignsToProduct`` in either direction: ``IfcModel.physical``
@@ -1674,17 +1676,7 @@ class _StructuralReader:
             if pos < -1e-6 * L or pos > L * (1 + 1e-6) or dist > 1e-3 * L + 1e-6:
                 raise self.fail(action, f"point action lies off {entity_label(member)} (at {pos:.6g} m along it, {dist:.3g} m away)")
             pos = min(max(pos, 0.0), L)
-            F = R @ np.array([float(getattr(load, f"Force{a}", None) or 0.0) for a in "XYZ"]) * self.s.force * factor
-            M = R @ np.array([float(getattr(load, f"Moment{a}", None) or 0.0) for a in "XYZ"]) * factor
-            M = M * self.s.moment if M.any() else M
-            out: list[PointLoad | LineLoad] = []
-            axes_name = "local" if local else "global"
-            for k, a in enumerate("xyz"):
-                if F[k]:
-                    out.append(PointLoad(mid, a, float(F[k]), pos, axes=axes_name, source=src))
-                if M[k]:
-                    out.append(PointLoad(mid, a, float(M[k]), pos, axes=axes_name, moment=True, source=src))
-            return out
+            return self._point_loads(mid, load, pos, R, factor, "local" if local else "global", src)
         if not kinds.curve:
             self.warn(action, f"{action.is_a()} on a curve member is not supported: ignored")
             return []
@@ -1695,6 +1687,9 @@ class _StructuralReader:
             raise self.fail(action, "PROJECTED_LENGTH with LOCAL_COORDS is not valid (IFC rule ProjectedIsGlobal)")
         kind = str(_argument(action, kinds.predefined) or "CONST")
         extent = self._action_extent(action, member, info)
+        if kind == "DISCRETE":
+            return self._discrete_loads(action, member, mid, load, extent, R, factor, "local" if local else "global",
+                                        src)
         samples = self._curve_samples(action, load, kind, extent)
         out = []
         axes_name = "local" if local else "global"
@@ -1707,6 +1702,48 @@ class _StructuralReader:
                 if w0[k] or w1[k]:
                     out.append(LineLoad(mid, a, float(w0[k]), float(w1[k]), start=float(max(s0, 0.0)), end=float(min(s1, L)),
                                         axes=axes_name, projected=projected, source=src))
+        return out
+
+    def _point_loads(self, mid: str, load: Entity, pos: float, R: Mat, factor: float, axes_name: str,
+                     src: str) -> list[PointLoad | LineLoad]:
+        """The point loads of an IfcStructuralLoadSingleForce at ``pos`` (m from end i) of member ``mid``."""
+        F = R @ np.array([float(getattr(load, f"Force{a}", None) or 0.0) for a in "XYZ"]) * self.s.force * factor
+        M = R @ np.array([float(getattr(load, f"Moment{a}", None) or 0.0) for a in "XYZ"]) * factor
+        M = M * self.s.moment if M.any() else M
+        out: list[PointLoad | LineLoad] = []
+        for k, a in enumerate("xyz"):
+            if F[k]:
+                out.append(PointLoad(mid, a, float(F[k]), pos, axes=axes_name, source=src))
+            if M[k]:
+                out.append(PointLoad(mid, a, float(M[k]), pos, axes=axes_name, moment=True, source=src))
+        return out
+
+    def _discrete_loads(self, action: Entity, member: Entity, mid: str, load: Entity, extent: tuple[float, float],
+                        R: Mat, factor: float, axes_name: str, src: str) -> list[PointLoad | LineLoad]:
+        """A DISCRETE curve action: the single forces of its IfcStructuralLoadConfiguration at its locations
+        (measured along the action from its start), each a point load on the member."""
+        if not load.is_a("IfcStructuralLoadConfiguration"):
+            raise self.fail(action, "DISCRETE curve action whose load is not an IfcStructuralLoadConfiguration "
+                                    "(IFC: discrete load points at given locations)")
+        values = list(load.Values or ())
+        locations = list(load.Locations or ())
+        if not values or len(locations) != len(values):
+            raise self.fail(action, "DISCRETE curve action: its load configuration needs one location per value "
+                                    f"(has {len(values)} values, {len(locations)} locations)")
+        if not all(v.is_a("IfcStructuralLoadSingleForce") for v in values):
+            kinds = ", ".join(sorted({v.is_a() for v in values}))
+            raise self.fail(action, f"DISCRETE curve action with {kinds} values: discrete load points are "
+                                    "IfcStructuralLoadSingleForce")
+        a, b = extent
+        span = abs(b - a)
+        out: list[PointLoad | LineLoad] = []
+        for value, loc in zip(values, locations):
+            d = float(_as_list(loc)[0]) * self.s.length
+            if d < -1e-9 * max(span, 1.0) or d > span * (1 + 1e-9) + 1e-12:
+                raise self.fail(action, f"DISCRETE curve action: location {d:.6g} m lies beyond the action's "
+                                        f"extent on {entity_label(member)} ({span:.6g} m)")
+            pos = min(max(a - d if b < a else a + d, 0.0), max(a, b))
+            out += self._point_loads(mid, value, pos, R, factor, axes_name, src)
         return out
 
     def _action_kind(self, action: Entity) -> _ActionKind:
@@ -1758,8 +1795,6 @@ class _StructuralReader:
             locations = list(load.Locations or ())
             if kind in ("SINUS", "PARABOLA", "CONST"):
                 raise self.fail(action, f"{kind} curve action with an IfcStructuralLoadConfiguration (not valid IFC)")
-            if kind == "DISCRETE":
-                raise self.fail(action, "DISCRETE curve actions are not supported")
             if len(values) < 2:
                 raise self.fail(action, "load configuration with fewer than two values")
             if locations and len(locations) != len(values):

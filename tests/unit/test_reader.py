@@ -249,6 +249,17 @@ class Model:
                             PredefinedType="LINEAR" if len(samples) == 2 else "POLYGONAL")
         return self._act(group, a, self.members[member])
 
+    def discrete_load(self, group, member, points, reverse=False):
+        """points: [(location m along the action, Fz N), ...]: a DISCRETE curve action (IFC4+ only)."""
+        f = self.f
+        values = [f.create_entity("IfcStructuralLoadSingleForce", ForceZ=fz * self.F) for _, fz in points]
+        load = f.create_entity("IfcStructuralLoadConfiguration", Name="discrete", Values=values,
+                               Locations=[[s * self.L] for s, _ in points])
+        a = f.create_entity("IfcStructuralCurveAction", GlobalId=self.gid(), Name="discrete", AppliedLoad=load,
+                            GlobalOrLocal="GLOBAL_COORDS", DestabilizingLoad=False, ProjectedOrTrue="TRUE_LENGTH",
+                            PredefinedType="DISCRETE")
+        return self._act(group, a, self.members[member])
+
     def write(self, path) -> str:
         f = self.f
         f.create_entity("IfcRelAssignsToGroup", GlobalId=self.gid(), RelatedObjects=self.items, RelatingGroup=self.model)
@@ -426,6 +437,49 @@ def test_polygonal_load_configuration(schema, tmp_path):
     res = analyze(fr)
     # triangle load: resultant = 1/2 * 6 m * 2 kN/m = 6 kN, split equally by symmetry (common practice, no source)
     np.testing.assert_allclose(res.case("G").reactions[:, 2], [3000.0, 3000.0], rtol=1e-9)
+
+
+@pytest.mark.parametrize("schema", ["IFC4", "IFC4X3_ADD2"])
+def test_discrete_curve_action_is_its_point_loads(schema, tmp_path):
+    # two equal loads P at the third points of a simply supported span: reactions P, moment P L / 3 between
+    # them (statics, common practice, no source); the same as two point actions, to rounding
+    L, P = 6.0, -9000.0
+
+    def model(discrete: bool):
+        m = Model(schema)
+        m.node("N1", (0.0, 0.0, 0.0), support=[True, True, True, True, False, False])
+        m.node("N2", (L, 0.0, 0.0), support=[False, True, True, False, False, False])
+        m.associate([m.member("B1", "N1", "N2")], m.steel(), m.rectangle())
+        g = m.case("G")
+        if discrete:
+            m.discrete_load(g, "B1", [(L / 3, P), (2 * L / 3, P)])
+        else:
+            m.member_point_force(g, "B1", (L / 3, 0.0, 0.0), P)
+            m.member_point_force(g, "B1", (2 * L / 3, 0.0, 0.0), P)
+        return read_ifc(m.write(tmp_path / f"d{int(discrete)}.ifc")).frame
+
+    fr = model(True)
+    loads = fr.load_cases[0].member
+    assert [(l.direction, l.position) for l in loads] == [("z", pytest.approx(2.0)), ("z", pytest.approx(4.0))]
+    res = analyze(fr)
+    np.testing.assert_allclose(res.case("G").reactions[:, 2], [-P, -P], rtol=1e-9)
+    dg = res.diagram("G", 0)
+    middle = (dg.stations > L / 3 + 1e-9) & (dg.stations < 2 * L / 3 - 1e-9)
+    bending = np.abs(dg.forces[:, 4:6]).max(axis=1)
+    np.testing.assert_allclose(bending[middle], abs(P) * L / 3, rtol=1e-9)
+    ref = analyze(model(False))
+    np.testing.assert_allclose(res.case("G").displacements, ref.case("G").displacements, rtol=1e-12, atol=1e-15)
+
+
+def test_discrete_curve_action_errors_name_the_action(tmp_path):
+    m = Model("IFC4")
+    m.node("N1", (0.0, 0.0, 0.0), support=[True] * 6)
+    m.node("N2", (4.0, 0.0, 0.0))
+    m.associate([m.member("B1", "N1", "N2")], m.steel(), m.rectangle())
+    g = m.case("G")
+    m.discrete_load(g, "B1", [(1.0, -1000.0), (5.0, -1000.0)])  # the second point lies beyond the member
+    with pytest.raises(IfcInputError, match=r"IfcStructuralCurveAction 'discrete'.*location 5 m lies beyond"):
+        read_ifc(m.write(tmp_path / "beyond.ifc"))
 
 
 @pytest.mark.parametrize("schema", SCHEMAS)
