@@ -214,7 +214,7 @@ class Indeterminacy:
             lines.append(f"  {sign:1} {text:<52}{value:>10}")
 
         row("", f"joints x DOF per joint ({t['joints']} x {t['dof_per_joint']})", t["joints"] * t["dof_per_joint"])
-        row("+", "releases (own end rotations of hinged ends)", t["releases"])
+        row("+", "releases (own end rotations of hinged and semi-rigid ends)", t["releases"])
         row("-", "restraints (support components)", t["restraints"])
         row("-", "constraints (independent)", t["constraints"])
         row("-", "reductions (rotations that are not unknowns)", t["reductions"])
@@ -334,12 +334,7 @@ def indeterminacy(frame: Frame, options: AnalysisOptions | None = None, *, mecha
 
 # --------------------------------------------------------------------------- kinematic terms
 def _kinematic_terms(frame: Frame, dofs, R: np.ndarray) -> tuple[dict, dict]:
-    from .stiffness.dofs import _in_plane_rotation_mask
-
-    user_rot = frame.releases[:, :, 4:6] & ~frame.truss[:, None, None]  # (m,2,2) My, Mz
-    if dofs.plane_axis is not None and frame.n_members:
-        user_rot = user_rot & _in_plane_rotation_mask(R, dofs.plane_axis)[:, None, 4:6]
-    releases = int(user_rot.sum())
+    releases = int(_own_rotation_ends(frame, dofs, R).sum())
     unattached_all = len(dofs.unattached) + len(dofs.skew_unattached)
     unattached_phys = len(_physical_unattached(frame, dofs, R))
     condensed_own = releases - dofs.n_hinges
@@ -355,6 +350,17 @@ def _kinematic_terms(frame: Frame, dofs, R: np.ndarray) -> tuple[dict, dict]:
     parts = {"unattached": unattached_phys, "pinned_condensed": unattached_all - unattached_phys,
              "own_condensed": condensed_own}
     return terms, parts
+
+
+def _own_rotation_ends(frame: Frame, dofs, R: np.ndarray) -> np.ndarray:
+    """(m,2,2) member-end bending rotations (My, Mz) that are unknowns of their own: released (hinged) ends
+    and semi-rigid ends (a spring to the joint), in the analysis' plane where it has one."""
+    from .stiffness.dofs import _in_plane_rotation_mask
+
+    own = (frame.releases[:, :, 4:6] | (frame.end_springs[:, :, 4:6] > 0)) & ~frame.truss[:, None, None]
+    if dofs.plane_axis is not None and frame.n_members:
+        own = own & _in_plane_rotation_mask(R, dofs.plane_axis)[:, None, 4:6]
+    return own
 
 
 def _physical_unattached(frame: Frame, dofs, R: np.ndarray) -> list:
@@ -664,6 +670,11 @@ def _geometric_mechanisms(frame: Frame, dofs, R: np.ndarray, force: bool = False
         if held_idx.size:
             blocks.append(sp.coo_array((np.ones(held_idx.size), (np.arange(held_idx.size), held_idx)),
                                        shape=(held_idx.size, n_ext)).tocsr())
+    # semi-rigid ends: the spring's deformation is the end's own rotation, zero in a mechanism
+    sprung = (frame.end_springs > 0) & (dofs.hinge_dof >= 0) if m else np.zeros((0, 2, 6), bool)
+    if sprung.any():
+        sk = N6 + (dofs.hinge_dof[sprung] - n_joint_x)
+        blocks.append(sp.coo_array((np.ones(sk.size), (np.arange(sk.size), sk)), shape=(sk.size, n_ext)).tocsr())
     if dofs.C.shape[0]:
         Cx = dofs.C.tocoo()
         x_ext = _x_to_ext(dofs, N6, n_joint_x)
@@ -1121,7 +1132,7 @@ def _notes(terms, parts, kinematic, static, m, st, redundant, descriptions, dofs
     if red:
         notes.append("reductions: " + "; ".join(red))
     if t["releases"]:
-        notes.append(f"releases: {t['releases']} hinged member ends turn on their own (one unknown each)")
+        notes.append(f"releases: {t['releases']} hinged or semi-rigid member ends turn on their own (one unknown each)")
     rigid_note = _rigid_note(dofs.frame, dofs.options)
     if rigid_note:
         notes.append(rigid_note)
@@ -1288,8 +1299,8 @@ class JointCount:
         if self.unknowns:
             parts.append("unknowns " + " ".join(self.unknowns))
         if self.own_rotations:
-            parts.append(f"+ {self.own_rotations} own rotation{'s' if self.own_rotations != 1 else ''} of hinged "
-                         f"end{'s' if self.own_rotations != 1 else ''} ({', '.join(self.own_members)})")
+            parts.append(f"+ {self.own_rotations} own rotation{'s' if self.own_rotations != 1 else ''} of hinged or "
+                         f"semi-rigid end{'s' if self.own_rotations != 1 else ''} ({', '.join(self.own_members)})")
         if self.restrained:
             parts.append(f"restrained {' '.join(self.restrained)} by its {self.support or 'support'}")
         if self.eliminated:
@@ -1327,8 +1338,6 @@ class _JointData:
 
 def _joint_data(frame: Frame, dofs, R: np.ndarray, terms: dict) -> _JointData:
     """Classify every joint component (vectorised; linear in the model size)."""
-    from .stiffness.dofs import _in_plane_rotation_mask
-
     n, m = frame.n_nodes, frame.n_members
     active = tuple(dofs.active)
     cls = np.full((n, 6), _INACTIVE, dtype=np.int8)
@@ -1363,9 +1372,7 @@ def _joint_data(frame: Frame, dofs, R: np.ndarray, terms: dict) -> _JointData:
     own = np.zeros(n, np.int64)
     own_members: dict[int, list[str]] = {}
     if m:
-        user_rot = frame.releases[:, :, 4:6] & ~frame.truss[:, None, None]
-        if dofs.plane_axis is not None:
-            user_rot = user_rot & _in_plane_rotation_mask(R, dofs.plane_axis)[:, None, 4:6]
+        user_rot = _own_rotation_ends(frame, dofs, R)
         kept = (dofs.hinge_dof >= 0).sum(axis=2)
         for end in (0, 1):
             np.add.at(releases, frame.members[:, end], user_rot[:, end].sum(axis=1))

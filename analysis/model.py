@@ -332,12 +332,17 @@ class Frame:
     material_sources: tuple[str, ...] = ()
     # members kept extensible under AnalysisOptions.inextensible (empty: none)
     extensible: BoolArray = field(default_factory=lambda: np.zeros(0, dtype=np.bool_))
+    # semi-rigid member ends (m,2,6): rotational spring stiffness N*m/rad between the end and its joint,
+    # about local y (My) and z (Mz) only; 0 = rigid (or released, where `releases` says so). Empty: none
+    end_springs: FloatArray = field(default_factory=lambda: np.zeros(0))
     _lookups: tuple = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         n, m = len(self.node_ids), len(self.member_ids)
         if np.asarray(self.extensible).size == 0:
             object.__setattr__(self, "extensible", np.zeros(m, dtype=np.bool_))
+        if np.asarray(self.end_springs).size == 0:
+            object.__setattr__(self, "end_springs", np.zeros((m, 2, 6)))
         specs = {
             "nodes": (np.float64, (n, 3)),
             "members": (np.int32, (m, 2)),
@@ -359,6 +364,7 @@ class Frame:
             "extensible": (np.bool_, (m,)),
             "restraints": (np.bool_, (n, 6)),
             "springs": (np.float64, (n, 6)),
+            "end_springs": (np.float64, (m, 2, 6)),
         }
         for key, (dtype, shape) in specs.items():
             a: np.ndarray = np.asarray(getattr(self, key), dtype=dtype)
@@ -466,6 +472,7 @@ class Frame:
                 k = int(np.argmax(both))
                 raise ModelError(f"member {self.member_labels[k]}: both axially rigid and extensible")
             self._validate_properties()
+            self._validate_end_springs()
         if (self.springs < 0).any() or not np.all(np.isfinite(self.springs)):
             k = int(np.argwhere((self.springs < 0) | ~np.isfinite(self.springs))[0, 0])
             raise ModelError(f"node {self.node_labels[k]}: spring stiffness must be a finite number >= 0")
@@ -492,6 +499,28 @@ class Frame:
             if bad.any():
                 k = int(np.argmax(bad))
                 raise ModelError(f"member {self.member_labels[k]}: {what} must be a number >= 0, got {values[k]!r}")
+
+    def _validate_end_springs(self) -> None:
+        es = self.end_springs
+        bad = ~np.isfinite(es) | (es < 0)
+        if bad.any():
+            k, end = (int(v) for v in np.argwhere(bad)[0][:2])
+            raise ModelError(f"member {self.member_labels[k]}: end spring at end {'ij'[end]} must be a finite number >= 0")
+        other = (es[:, :, :4] > 0).any(axis=(1, 2))
+        if other.any():
+            k = int(np.argmax(other))
+            raise ModelError(f"member {self.member_labels[k]}: only rotational end springs about local y and z (My, Mz) "
+                             "are supported")
+        sprung = es > 0
+        on_bar = sprung.any(axis=(1, 2)) & self.truss
+        if on_bar.any():
+            k = int(np.argmax(on_bar))
+            raise ModelError(f"member {self.member_labels[k]}: an axial bar (truss member) has no end moments to spring")
+        clash = sprung & self.releases
+        if clash.any():
+            k, end, c = (int(v) for v in np.argwhere(clash)[0])
+            raise ModelError(f"member {self.member_labels[k]}: {ACTION_NAMES[c]} at end {'ij'[end]} is both released "
+                             "and sprung")
 
     def _validate_groups(self) -> None:
         known = set(self.node_ids)
@@ -700,11 +729,15 @@ class FrameBuilder:
                    release_i: str | Iterable[str] = (), release_j: str | Iterable[str] = (),
                    offset_i: Sequence[float] = (0.0, 0.0, 0.0), offset_j: Sequence[float] = (0.0, 0.0, 0.0),
                    inextensible: bool = False, extensible: bool = False, source: str | None = None,
-                   label: str | None = None) -> str:
+                   label: str | None = None, spring_i: Mapping[str, float] | None = None,
+                   spring_j: Mapping[str, float] | None = None) -> str:
         """Add a member from ``node_i`` to ``node_j``.
 
         ``release_i``/``release_j`` name released end actions ('My Mz', or
-        'pinned' for both bending moments); ``truss=True`` makes an axial-only bar.
+        'pinned' for both bending moments); ``spring_i``/``spring_j`` make an
+        end semi-rigid: ``{"My": k}`` and/or ``{"Mz": k}``, a rotational spring
+        of k N*m/rad between the member end and its joint about the member's
+        local axis; ``truss=True`` makes an axial-only bar.
         ``inextensible=True`` makes this member axially rigid in every
         analysis; ``extensible=True`` keeps it extensible even under
         ``AnalysisOptions.inextensible``.
@@ -718,11 +751,18 @@ class FrameBuilder:
                 raise ModelError(f"member {label or member_id}: end node {node_id!r} does not exist")
         rel = (_parse_components(release_i, ACTION_NAMES, _RELEASE_WORDS),
                _parse_components(release_j, ACTION_NAMES, _RELEASE_WORDS))
+        springs = [[0.0] * 6, [0.0] * 6]
+        for end, given in enumerate((spring_i, spring_j)):
+            for name, value in (given or {}).items():
+                if name not in ("My", "Mz"):
+                    raise ModelError(f"member {label or member_id}: end spring {name!r}: only My and Mz (rotational "
+                                     "springs about the member's local y and z) are supported")
+                springs[end][ACTION_NAMES.index(name)] = float(value)
         self._members[member_id] = {
             "ends": (node_i, node_j), "section": section, "material": material,
             "ref": tuple(ref) if ref is not None else (math.nan,) * 3, "roll": float(roll), "truss": bool(truss),
             "releases": rel, "offsets": (tuple(offset_i), tuple(offset_j)), "inextensible": bool(inextensible),
-            "extensible": bool(extensible), "source": source, "label": label or member_id,
+            "extensible": bool(extensible), "source": source, "label": label or member_id, "springs": springs,
         }
         return member_id
 
@@ -774,6 +814,7 @@ class FrameBuilder:
             offsets=np.array(per_member(lambda mm: mm["offsets"]), dtype=float).reshape(-1, 2, 3),
             inextensible=flags(lambda mm: mm["inextensible"]),
             extensible=flags(lambda mm: mm["extensible"]),
+            end_springs=np.array(per_member(lambda mm: mm["springs"]), dtype=float).reshape(-1, 2, 6),
             restraints=np.array([nd["restraint"] for nd in nodes], dtype=bool).reshape(-1, 6),
             springs=np.array([nd["springs"] for nd in nodes], dtype=float).reshape(-1, 6),
             rigid_bodies=tuple(self._rigid),

@@ -28,13 +28,19 @@ SCHEMA = "plumbframe.results/1"
 
 
 def member_properties(frame: Frame, k: int) -> dict:
-    """The ``material`` and ``section`` entries of member ``k`` in the results JSON (SI, with their sources)."""
-    return {
+    """The ``material`` and ``section`` entries of member ``k`` in the results JSON (SI, with their sources), and
+    ``end_springs`` (N*m/rad per end and action) where the member has semi-rigid ends."""
+    out = {
         "material": {"name": frame.material_names[k], "E": float(frame.E[k]), "G": float(frame.G[k]),
                      "density": float(frame.density[k]), "source": frame.material_sources[k]},
         "section": {"name": frame.section_names[k], "A": float(frame.A[k]), "Iy": float(frame.Iy[k]),
                     "Iz": float(frame.Iz[k]), "J": float(frame.J[k]), "source": frame.section_sources[k]},
     }
+    springs = frame.end_springs[k]
+    if springs.any():
+        out["end_springs"] = {end: {ACTION_NAMES[c]: float(springs[e, c]) for c in range(6) if springs[e, c] > 0}
+                              for e, end in enumerate(("i", "j")) if springs[e].any()}
+    return out
 
 
 @dataclass

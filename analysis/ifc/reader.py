@@ -41,7 +41,10 @@ Member-end releases
     of IfcRelConnectsStructuralMember). So X, Y, Z translations and
     rotations map to N, Vy, Vz, T, My, Mz. ``FALSE`` (IFC2X3: ``0``)
     releases the end action; ``TRUE``, unset or ``-1`` (IFC2X3) keeps it
-    rigid. A finite spring (semi-rigid joint) is an error.
+    rigid. A finite rotational stiffness about the member's local y or z
+    is a semi-rigid end: a spring of that stiffness between the member end
+    and its joint (`Frame.end_springs`); a finite stiffness in a
+    translation or in torsion is an error.
 Member types
     PIN_JOINED_MEMBER, TENSION_MEMBER, COMPRESSION_MEMBER and CABLE become
     axial-only bars; tension- or compression-only behaviour is reported as
@@ -1121,14 +1124,13 @@ class _StructuralReader:
 
         # releases
         releases: list[list[str]] = [[], []]
+        end_springs: list[dict[str, float]] = [{}, {}]
         for k, rel in enumerate(ends["rels"]):
             cond = rel.AppliedCondition if isinstance(rel, _ImpliedConnection) else rel.get_argument(_REL_CONDITION)
             if cond is None:
                 continue
             fixed, springs, raw = self._condition_flags(cond, rel, "end condition")
             released_local = [raw[c] is not None and not fixed[c] and springs[c] == 0.0 for c in range(6)]
-            if any(springs):
-                raise self.fail(rel, "semi-rigid member end (finite stiffness in AppliedCondition) is not supported")
             ccs = getattr(rel, "ConditionCoordinateSystem", None)
             perm: npt.NDArray[np.intp] = np.arange(3)
             if ccs is not None:
@@ -1138,10 +1140,21 @@ class _StructuralReader:
                 perm = turned
             for c in range(3):
                 for base in (0, 3):
+                    action = ACTION_NAMES[base + int(perm[c])]
                     if released_local[base + c]:
-                        releases[k].append(ACTION_NAMES[base + int(perm[c])])
+                        releases[k].append(action)
+                    elif springs[base + c] > 0 and not truss:
+                        if action not in ("My", "Mz"):
+                            raise self.fail(rel, f"semi-rigid member end in {action} (finite stiffness in AppliedCondition): "
+                                                 "only rotational springs about the member's local y and z (My, Mz) "
+                                                 "are supported")
+                        end_springs[k][action] = float(springs[base + c])
             if truss and releases[k]:
                 releases[k] = []  # an axial bar has no end moments or shears to release
+        if any(end_springs):
+            self.warn(member, "semi-rigid end" + ("s" if all(end_springs) else "") + ": " + "; ".join(
+                f"end {'ij'[k]} " + ", ".join(f"{a} {v:.6g} N*m/rad" for a, v in sp_.items())
+                for k, sp_ in enumerate(end_springs) if sp_), "info")
 
         # ends, offsets
         conn_i, conn_j = (c for _, c in ends["conns"])
@@ -1159,7 +1172,8 @@ class _StructuralReader:
             mid, self.node_ids[conn_i.id()], self.node_ids[conn_j.id()], section, material,
             ref=tuple(ref.tolist()) if ref is not None else None, roll=roll, truss=truss,
             release_i=releases[0], release_j=releases[1], offset_i=tuple(off_i.tolist()), offset_j=tuple(off_j.tolist()),
-            source=str(member.get_argument(_GLOBAL_ID)), label=label)
+            source=str(member.get_argument(_GLOBAL_ID)), label=label, spring_i=end_springs[0] or None,
+            spring_j=end_springs[1] or None)
         self.member_info[member.id()] = {"id": mid, "start": start, "axes": axes, "length": length}
         phys = self._physical(member)
         if phys is not None:

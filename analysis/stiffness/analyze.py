@@ -101,7 +101,21 @@ class Assembly:
         c = np.broadcast_to(idx[:, None, :], (idx.shape[0], w, w)).ravel()
         v = Ke.ravel()
         keep = (r >= 0) & (c >= 0) & (v != 0.0)
-        return sp.coo_array((v[keep], (r[keep], c[keep])), shape=(self.n_ext, self.n_ext)).tocsr()
+        r, c, v = r[keep], c[keep], v[keep]
+        sr, sc, sv = self._end_spring_entries()
+        if sv.size:
+            r, c, v = np.concatenate([r, sr]), np.concatenate([c, sc]), np.concatenate([v, sv])
+        return sp.coo_array((v, (r, c)), shape=(self.n_ext, self.n_ext)).tocsr()
+
+    def _end_spring_entries(self) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """(rows, cols, values) of the semi-rigid end springs. A kept end slot's own unknown is the end's
+        rotation relative to its joint (`element_map`: joint part plus own part), so a spring k there stores
+        k/2 θ_own²: one diagonal entry per sprung end."""
+        hinge = self.dofs.hinge_dof
+        k_all = self.frame.end_springs
+        mk, end, slot = np.nonzero((k_all > 0) & (hinge >= 0))
+        h = self.N6 + (hinge[mk, end, slot] - self.n_joint_x)  # ext index of the end's own rotation
+        return h, h, k_all[mk, end, slot]
 
 
 def assemble(frame: Frame, options: AnalysisOptions | None = None) -> tuple[DofSystem, Assembly]:

@@ -187,6 +187,7 @@ def build_dofs(frame: Frame, options: AnalysisOptions) -> DofSystem:
     auto = np.zeros((m, 2, 6), bool)
     if options.condense_pinned:
         auto = _pinned_end_releases(frame, R, rel, restrained, act_mask)
+        auto &= ~(frame.end_springs > 0)  # a semi-rigid end is not pinned: its spring ties it to the joint
         rel |= auto
     # a plane analysis only sees in-plane actions: out-of-plane releases are irrelevant
     condensed = rel.copy()
@@ -194,9 +195,11 @@ def build_dofs(frame: Frame, options: AnalysisOptions) -> DofSystem:
     keep_hinge = np.zeros((m, 2, 6), bool)
     if not options.condense_pinned:
         keep_hinge[:, :, 4:6] = user_rot
-        if plane_axis is not None:
-            keep_hinge &= _in_plane_rotation_mask(R, plane_axis)[:, None, :]
-        condensed &= ~keep_hinge
+    # a semi-rigid end turns on its own against its spring (never condensed: the spring ties it to the joint)
+    keep_hinge[:, :, 4:6] |= (frame.end_springs[:, :, 4:6] > 0) & ~frame.truss[:, None, None]
+    if plane_axis is not None:
+        keep_hinge &= _in_plane_rotation_mask(R, plane_axis)[:, None, :]
+    condensed &= ~keep_hinge
 
     unattached = _unattached_rotations(frame, R, rel, restrained, act_mask)
     node_dof = np.full((n, 6), -1, dtype=np.int64)

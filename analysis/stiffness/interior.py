@@ -17,8 +17,9 @@ stiffness and the mass of the pieces live on the same ``y``, so the
 eigenproblems of `stability` and `dynamics` are as exact as the subdivision,
 while the only large factorisation is the one of the linear analysis.
 
-End releases, own end rotations, rigid end offsets and the constraint
-elimination ``x = T q`` are taken from the first-order analysis unchanged:
+End releases, own end rotations (with the springs of semi-rigid ends), rigid
+end offsets and the constraint elimination ``x = T q`` are taken from the
+first-order analysis unchanged:
 the first piece carries the member's end-i treatment, the last its end j.
 """
 from __future__ import annotations
@@ -114,7 +115,11 @@ class InteriorModel:
         T = dofs_o.T
         self.G = sp.csr_array(sp.block_diag([sp.csr_matrix(T), sp.identity(self.n_z, format="csr")], format="csr"))
         springs = np.concatenate([kept["springs"], np.zeros(self.n_z)])
-        K = self.to_q(self.assemble_ext(stiffness))
+        K_ext = self.assemble_ext(stiffness)
+        sr, sc, sv = asm_o._end_spring_entries()  # semi-rigid ends: on the first-order ext numbering, kept here
+        if sv.size:
+            K_ext = sp.csr_array(K_ext + sp.coo_array((sv, (sr, sc)), shape=(self.n_ext, self.n_ext)).tocsr())
+        K = self.to_q(K_ext)
         if springs.any():
             K = sp.csr_array(K + self.G.T @ sp.diags_array(springs) @ self.G)
         self.Kq = sp.csr_array(K)

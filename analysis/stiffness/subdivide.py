@@ -7,7 +7,7 @@ as a single element buckles at 12 EI/L² instead of π² EI/L². `subdivide`
 therefore splits every frame member into ``parts`` collinear pieces with
 interior nodes of its own; axial-only bars stay whole (their geometric
 stiffness N/L and mass are exact). The pieces keep the member's axes,
-section, material and orientation; the end releases and rigid end offsets go
+section, material and orientation; the end releases, end springs and rigid end offsets go
 to the first and last piece; member loads are split at the piece boundaries.
 Supports, springs, rigid bodies and diaphragms are untouched, so the exact
 constraint elimination of `dofs` works on the subdivided frame as before.
@@ -99,6 +99,9 @@ def subdivide(frame: Frame, parts: int = 8) -> Subdivision:
     is_first, is_last = j_in == 0, j_in == cnt - 1
     releases[is_first, 0] = frame.releases[parent[is_first], 0]
     releases[is_last, 1] = frame.releases[parent[is_last], 1]
+    end_springs = np.zeros((mp, 2, 6))
+    end_springs[is_first, 0] = frame.end_springs[parent[is_first], 0]
+    end_springs[is_last, 1] = frame.end_springs[parent[is_last], 1]
     offsets[is_first, 0] = frame.offsets[parent[is_first], 0]
     offsets[is_last, 1] = frame.offsets[parent[is_last], 1]
 
@@ -119,6 +122,7 @@ def subdivide(frame: Frame, parts: int = 8) -> Subdivision:
         A=rep(frame.A), Iy=rep(frame.Iy), Iz=rep(frame.Iz), J=rep(frame.J), Avy=rep(frame.Avy), Avz=rep(frame.Avz),
         E=rep(frame.E), G=rep(frame.G), density=rep(frame.density), ref=rep(frame.ref), roll=rep(frame.roll),
         truss=rep(frame.truss), releases=releases, offsets=offsets, inextensible=rep(frame.inextensible),
+        extensible=rep(frame.extensible), end_springs=end_springs,
         restraints=np.concatenate([frame.restraints, np.zeros((n_new, 6), bool)]),
         springs=np.concatenate([frame.springs, np.zeros((n_new, 6))]),
         rigid_bodies=frame.rigid_bodies, diaphragms=frame.diaphragms,

@@ -352,6 +352,33 @@ def test_springs_and_releases(schema, tmp_path):
     assert not fr.releases[fr.member_index("B2")].any()
 
 
+@pytest.mark.parametrize("schema", SCHEMAS)
+def test_semi_rigid_member_end(schema, tmp_path):
+    # a finite rotational stiffness in a member end's AppliedCondition is a spring between end and joint:
+    # the cantilever's tip then deflects P L^3 / (3 E I) + P L^2 / k (superposition, common practice, no source)
+    m, g = cantilever(schema, tmp_path)
+    k_file = 5000.0  # kN*m/rad
+    rel = next(r for r in m.f.by_type("IfcRelConnectsStructuralMember")
+               if r.RelatedStructuralConnection == m.nodes["N1"])
+    rel.AppliedCondition = m.condition("semi-rigid", [True, True, True, True, k_file, True])
+    fr = read_ifc(m.write(tmp_path / "semi.ifc")).frame
+    k = fr.end_springs[0, 0, 4]
+    assert k == pytest.approx(k_file * 1000.0) and not fr.releases.any()
+    res = analyze(fr)
+    I = fr.Iy[0]
+    uz = res.case("G").displacements[fr.node_index("N2"), 2]
+    assert uz == pytest.approx(-(1e4 * 4.0**3 / (3 * E_STEEL * I) + 1e4 * 4.0**2 / k), rel=1e-9)
+
+
+def test_semi_rigid_end_in_a_translation_is_refused(tmp_path):
+    m, g = cantilever("IFC4", tmp_path)
+    rel = next(r for r in m.f.by_type("IfcRelConnectsStructuralMember")
+               if r.RelatedStructuralConnection == m.nodes["N1"])
+    rel.AppliedCondition = m.condition("soft", [True, 300.0, True, True, True, True])
+    with pytest.raises(IfcInputError, match=r"semi-rigid member end in Vy .*only rotational springs"):
+        read_ifc(m.write(tmp_path / "soft.ifc"))
+
+
 @pytest.mark.parametrize("schema", ["IFC4", "IFC4X3_ADD2"])
 def test_condition_coordinate_system_permutation_and_inclined(schema, tmp_path):
     m = Model(schema)
