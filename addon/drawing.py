@@ -329,7 +329,7 @@ def draw_frame(scene, frame, labels: dict | None = None) -> dict[str, int]:
 
     supports = role_collection(scene, "supports")
     h, w = sz["support"], 0.6 * sz["support"]
-    for n in np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1)):
+    for n in np.flatnonzero(frame.supported):
         rest = frame.restraints[n]
         if rest.all():
             parts = [_box((0, 0, -0.25 * h), (2 * w, 2 * w, 0.5 * h))]
@@ -397,7 +397,7 @@ def store_results(scene, results) -> None:
     nodes = _node_objects(scene)
     dof = ("ux", "uy", "uz", "rx", "ry", "rz")
     forces = ("fx", "fy", "fz", "mx", "my", "mz")
-    supported = frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1)
+    supported = frame.supported
     for n, nid in enumerate(frame.node_ids):
         obj = nodes.get(nid)
         if obj is None:

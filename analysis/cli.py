@@ -625,7 +625,7 @@ def summary_table(model, results=None, ind=None, outputs: Sequence[tuple[str, st
     lines = []
     title = f"plumbframe {_version()} - {os.path.basename(getattr(model, 'path', '') or '') or frame.name or 'model'}"
     lines += [title, "=" * len(title)]
-    supports = int((frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1)).sum())
+    supports = int(frame.supported.sum())
     route = getattr(model, "route", None)
     lines.append(f"  model      {frame.n_nodes} nodes, {frame.n_members} members, {supports} supports"
                  + (f"  ({'structural analysis model' if route == 'structural' else 'derived from physical elements'})"

@@ -342,7 +342,7 @@ def _kinematic_terms(frame: Frame, dofs, R: np.ndarray) -> tuple[dict, dict]:
         "joints": frame.n_nodes,
         "dof_per_joint": dofs.dof_per_joint,
         "releases": releases,
-        "restraints": int(dofs.restrained.sum()),
+        "restraints": int(dofs.restrained.sum()) + len(dofs.support_rows),
         "constraints": int(dofs.rank),
         "redundant_constraints": int(len(dofs.redundant_rows)),
         "reductions": int(unattached_all + condensed_own),
@@ -443,9 +443,9 @@ def _static_terms(frame: Frame, dofs, R: np.ndarray, unattached_phys: int) -> di
     springs = int(((frame.springs > 0) & act[None, :] & ~dofs.restrained).sum())
     return {
         "member_forces": int(_member_force_counts(frame, R, dofs.plane_axis).sum()),
-        "reactions": int(dofs.restrained.sum()),
+        "reactions": int(dofs.restrained.sum()) + sum(1 for row in dofs.rows if row.kind == "support"),
         "springs": springs,
-        "constraint_forces": int(sum(1 for row in dofs.rows if row.kind not in ("axial", "unattached"))),
+        "constraint_forces": int(sum(1 for row in dofs.rows if row.kind not in ("axial", "unattached", "support"))),
         "equations": int(frame.n_nodes * dofs.dof_per_joint - unattached_phys),
     }
 
@@ -1354,9 +1354,11 @@ def _joint_data(frame: Frame, dofs, R: np.ndarray, terms: dict) -> _JointData:
     is_joint = dofs.x_comp[slaves] < 6
     slaves = slaves[is_joint]
     kinds = np.array([row.kind == "unattached" for row in dofs.rows], bool)
+    inclined = np.array([row.kind == "support" for row in dofs.rows], bool)
     sk, sc = dofs.x_node[slaves], dofs.x_comp[slaves]
     skew = kinds[sr[slaves]] if slaves.size else np.zeros(0, bool)
-    cls[sk, sc] = np.where(skew, _SKEW, _ELIMINATED)
+    held = inclined[sr[slaves]] if slaves.size else np.zeros(0, bool)  # held by an inclined support
+    cls[sk, sc] = np.where(skew, _SKEW, np.where(held, _RESTRAINED, _ELIMINATED))
     by_row[sk, sc] = sr[slaves]
     # what each eliminated component is written in: the independent unknowns in its row of T
     T = dofs.T.tocoo()

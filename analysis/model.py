@@ -38,6 +38,7 @@ __all__ = [
     "SOURCES",
     "Section",
     "Material",
+    "InclinedSupport",
     "NodalLoad",
     "LineLoad",
     "PointLoad",
@@ -198,6 +199,22 @@ class RigidBody:
 
 
 @dataclass(frozen=True, slots=True)
+class InclinedSupport:
+    """A support whose restraints act along its own axes, turned against the world axes.
+
+    ``axes`` are the support's x, y and z as unit vectors in world axes (rows of
+    a rotation); ``restrained`` flags ux, uy, uz, rx, ry, rz along them. Each
+    flag is an exact constraint (the node's displacement along that axis is
+    zero); the reaction is reported in world axes like any other.
+    """
+
+    node: str
+    axes: tuple[tuple[float, float, float], tuple[float, float, float], tuple[float, float, float]]
+    restrained: tuple[bool, bool, bool, bool, bool, bool]
+    source: str | None = None
+
+
+@dataclass(frozen=True, slots=True)
 class Diaphragm:
     """Nodes tied by a floor that is rigid in its own plane (normal ``normal``).
 
@@ -317,6 +334,7 @@ class Frame:
     restraints: BoolArray
     springs: FloatArray
     rigid_bodies: tuple[RigidBody, ...] = ()
+    inclined_supports: tuple[InclinedSupport, ...] = ()
     diaphragms: tuple[Diaphragm, ...] = ()
     load_cases: tuple[LoadCase, ...] = ()
     combinations: tuple[Combination, ...] = ()
@@ -435,6 +453,15 @@ class Frame:
     def lengths(self) -> FloatArray:
         return member_lengths(self)
 
+    @property
+    def supported(self) -> BoolArray:
+        """(n,) True for the nodes a support holds: restraints, springs or an inclined support."""
+        out: BoolArray = np.asarray(self.restraints.any(axis=1) | (self.springs > 0).any(axis=1), dtype=np.bool_)
+        if self.inclined_supports:
+            out = out.copy()
+            out[[self.node_index(s.node) for s in self.inclined_supports]] = True
+        return out
+
     # -- validation --------------------------------------------------------
     def _validate(self) -> None:
         n = self.n_nodes
@@ -473,6 +500,7 @@ class Frame:
                 raise ModelError(f"member {self.member_labels[k]}: both axially rigid and extensible")
             self._validate_properties()
             self._validate_end_springs()
+        self._validate_inclined()
         if (self.springs < 0).any() or not np.all(np.isfinite(self.springs)):
             k = int(np.argwhere((self.springs < 0) | ~np.isfinite(self.springs))[0, 0])
             raise ModelError(f"node {self.node_labels[k]}: spring stiffness must be a finite number >= 0")
@@ -499,6 +527,22 @@ class Frame:
             if bad.any():
                 k = int(np.argmax(bad))
                 raise ModelError(f"member {self.member_labels[k]}: {what} must be a number >= 0, got {values[k]!r}")
+
+    def _validate_inclined(self) -> None:
+        seen: set[str] = set()
+        for sup in self.inclined_supports:
+            k = self.node_index(sup.node)
+            label = self.node_labels[k]
+            if sup.node in seen:
+                raise ModelError(f"node {label}: two inclined supports")
+            seen.add(sup.node)
+            Q = np.asarray(sup.axes, float)
+            if Q.shape != (3, 3) or not np.all(np.isfinite(Q)) or not np.allclose(Q @ Q.T, np.eye(3), atol=1e-6):
+                raise ModelError(f"node {label}: the axes of its inclined support are not three orthogonal unit vectors")
+            if len(sup.restrained) != 6 or not any(sup.restrained):
+                raise ModelError(f"node {label}: an inclined support restrains nothing")
+            if self.restraints[k].any() or (self.springs[k] > 0).any():
+                raise ModelError(f"node {label}: an inclined support and restraints or springs in world axes at once")
 
     def _validate_end_springs(self) -> None:
         es = self.end_springs
@@ -690,6 +734,7 @@ class FrameBuilder:
     _members: dict[str, dict] = field(default_factory=dict)
     _cases: list[LoadCase] = field(default_factory=list)
     _combos: list[Combination] = field(default_factory=list)
+    _inclined: list[InclinedSupport] = field(default_factory=list)
     _rigid: list[RigidBody] = field(default_factory=list)
     _diaphragms: list[Diaphragm] = field(default_factory=list)
 
@@ -711,6 +756,14 @@ class FrameBuilder:
         flags = _parse_components(components, DOF_NAMES, _SUPPORT_WORDS)
         node = self._node(node_id)
         node["restraint"] = [a or b for a, b in zip(node["restraint"], flags)]
+
+    def inclined_support(self, node_id: str, axes: Sequence[Sequence[float]], components: str | Iterable[str],
+                         source: str | None = None) -> None:
+        """Restrain components of a node along the support's own ``axes`` (rows: its x, y, z in world axes)."""
+        self._node(node_id)
+        flags = _parse_components(components, DOF_NAMES, _SUPPORT_WORDS)
+        Q = tuple(tuple(float(v) for v in row) for row in axes)
+        self._inclined.append(InclinedSupport(node_id, Q, tuple(flags), source))  # type: ignore[arg-type]
 
     def spring(self, node_id: str, dof: str, stiffness: float) -> None:
         """An elastic support: N/m for translations, N*m/rad for rotations."""
@@ -818,6 +871,7 @@ class FrameBuilder:
             restraints=np.array([nd["restraint"] for nd in nodes], dtype=bool).reshape(-1, 6),
             springs=np.array([nd["springs"] for nd in nodes], dtype=float).reshape(-1, 6),
             rigid_bodies=tuple(self._rigid),
+            inclined_supports=tuple(self._inclined),
             diaphragms=tuple(self._diaphragms),
             load_cases=tuple(self._cases),
             combinations=tuple(self._combos),

@@ -307,7 +307,7 @@ class Results:
 
     def _case_dict(self, cr: CaseResult, comps: list[int], arrays: bool = False) -> dict:
         frame = self.frame
-        supported = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
+        supported = np.flatnonzero(frame.supported)
         members: dict = {}
         keys = ("stations", *ACTION_NAMES, "dy", "dz")
         diagrams = [self.diagram(cr.name, k) for k in range(frame.n_members)]

@@ -33,7 +33,10 @@ Supports
     ``-1`` means rigid (the IFC2X3 convention, dropped in IFC4), ``0`` or
     unset free, a positive value a spring. Conditions given in a
     ``ConditionCoordinateSystem`` are turned to global axes when that system
-    is an axis permutation; an inclined support is an error.
+    is an axis permutation; otherwise the support is inclined: its rigid
+    restraints become exact constraints along its own axes
+    (`analysis.model.InclinedSupport`; springs along inclined axes are an
+    error).
 Member-end releases
     ``IfcRelConnectsStructuralMember.AppliedCondition``: its values are in
     the ``ConditionCoordinateSystem`` relative to the member's local axes,
@@ -1051,9 +1054,16 @@ class _StructuralReader:
         if ccs is not None:
             R = R @ _axis2placement_matrix(ccs)[:3, :3]
         perm = _permutation(R)
-        if perm is None:
-            raise self.fail(conn, "support condition in an inclined ConditionCoordinateSystem: inclined supports are not supported yet")
         node = self.node_ids[conn.id()]
+        if perm is None:  # an inclined support: exact constraints along its own axes
+            if any(springs):
+                raise self.fail(conn, "elastic support (finite stiffness) in an inclined ConditionCoordinateSystem: "
+                                      "only rigid restraints are supported along inclined axes")
+            held = [DOF_NAMES[c] for c in range(6) if fixed[c]]
+            self.builder.inclined_support(node, R.T.tolist(), held, source=str(conn.get_argument(_GLOBAL_ID)))
+            self.warn(conn, "inclined support: " + " ".join(held) + " held along its own axes (x "
+                      + ", ".join(f"({a:.4g}, {b:.4g}, {c:.4g})" for a, b, c in R.T.tolist()) + " for x, y, z)", "info")
+            return
         comps = []
         for k in range(3):
             g = int(perm[k])

@@ -815,7 +815,7 @@ class _Writer:
 
         frame, res = self.frame, self.results
         active = set(self._active())
-        supported = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
+        supported = np.flatnonzero(frame.supported)
         curve_ok = not self.ifc2x3
         if not curve_ok:
             self.notes.append("IFC2X3 has no curve reactions: member internal forces are written to the "
@@ -1243,7 +1243,7 @@ class _Writer:
     def _write_support_psets(self) -> None:
         frame, res = self.frame, self.results
         active = self._active()
-        supported = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
+        supported = np.flatnonzero(frame.supported)
         for i in supported:
             item = self.node_items[i]
             if item is None or not res.cases:

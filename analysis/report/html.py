@@ -147,7 +147,7 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
     parts.append("<nav><a href='#overview'>Model</a><a href='#indeterminacy'>Indeterminacy</a>"
                  "<a href='#cases'>Load cases and combinations</a><a href='#members'>Member forces</a>"
                  "<a href='#stability'>Stability and dynamics</a><a href='#equilibrium'>Equilibrium</a><a href='#notes'>Notes and defaults</a></nav>")
-    supports = int((frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1)).sum())
+    supports = int(frame.supported.sum())
     route = getattr(model, "route", "")
     meta = [("Input file", path or "–"), ("Schema", getattr(model, "schema", "–")),
             ("How the frame was obtained", {"structural": "the file's structural analysis model",
@@ -169,7 +169,7 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
         parts.append(f"<p><small>{_e(CONVENTION)}</small></p>")
     parts.append("<h3>Nodes</h3>")
     node_rows = []
-    sup_mask = frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1)
+    sup_mask = frame.supported
     shown_nodes = list(range(frame.n_nodes)) if frame.n_nodes <= SHOWN else np.flatnonzero(sup_mask)[:SHOWN].tolist()
     for i in shown_nodes:
         nid = frame.node_ids[i]
@@ -226,7 +226,7 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
         if plots:
             for caption, b64, kind, view_name in case_figures(results, name, _actions_to_draw(results, name), views):
                 parts.append(_img(b64, caption, (kind, view_name)))
-        sup = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
+        sup = np.flatnonzero(frame.supported)
         heads = ["Node"] + [f"{REACTION_NAMES[c]} [{'kN' if c < 3 else 'kN·m'}]" for c in active]
         shown_sup = sup if sup.size <= SHOWN else sup[largest(np.linalg.norm(cr.reactions[sup, :3], axis=1))]
         rows = [[frame.node_ids[i], *(_num(cr.reactions[i, c], 1e3) for c in active)] for i in shown_sup]

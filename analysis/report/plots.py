@@ -88,7 +88,7 @@ def _draw_frame(ax, frame, view, color="0.25", lw=1.6, labels=True, supports=Tru
             mid = P[frame.members[k]].mean(axis=0)
             ax.annotate(frame.member_ids[k], mid, fontsize=7, color="#1f4e9c", ha="center", va="center",
                         bbox=dict(boxstyle="round,pad=0.15", fc="white", ec="#1f4e9c", lw=0.5), zorder=5)
-    sup = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
+    sup = np.flatnonzero(frame.supported)
     if supports and sup.size:
         fixed = frame.restraints[sup].all(axis=1)
         for marker, mask, label in (("s", fixed, "fixed support"), ("^", ~fixed, "partial support or spring")):

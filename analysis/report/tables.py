@@ -124,7 +124,7 @@ def csv_tables(results, env: dict[str, np.ndarray] | None = None) -> dict[str, s
         return row + [repr(defl[k]), names[dc[k]] if names else ""]
 
     out["member_forces"] = _csv(head, (member_row(k, mid) for k, mid in enumerate(frame.member_ids)))
-    sup = np.flatnonzero(frame.restraints.any(axis=1) | (frame.springs > 0).any(axis=1))
+    sup = np.flatnonzero(frame.supported)
     out["reactions"] = _csv(["case", "node", *[f"{REACTION_NAMES[c]}_{'N' if c < 3 else 'Nm'}" for c in active]],
                             ([name, frame.node_ids[i], *(_num(cr.reactions[i, c]) for c in active)]
                              for name, cr in results.cases.items() for i in sup))

@@ -357,6 +357,12 @@ def _reactions(asm: Assembly, F_ext, u_ext, lam) -> np.ndarray:
     springs = frame.springs.reshape(-1)
     sp_idx = np.flatnonzero(springs > 0)
     r[sp_idx] -= springs[sp_idx, None] * u_ext[sp_idx]
+    if frame.inclined_supports:  # an inclined support's reaction is the force of its constraint rows, -Cᵀλ
+        x_ext = asm.x_ext
+        for k, row in enumerate(d.rows):
+            if row.kind == "support":
+                c = d.C[[k]].tocoo()
+                np.add.at(r, x_ext[c.col], -c.data[:, None] * lam[k][None, :])
     return r.reshape(n, 6, nc)
 
 

@@ -38,7 +38,7 @@ RANK_TOL = 1e-9
 class ConstraintRow:
     """One exact constraint equation, with who imposes it, in words."""
 
-    kind: str  # 'axial', 'rigid body', 'diaphragm'
+    kind: str  # 'axial', 'rigid body', 'diaphragm', 'support' (inclined), 'unattached'
     owner: str  # member id or group name
     label: str  # "axial constraint of member B3"
     nodes: tuple[int, ...]
@@ -76,6 +76,8 @@ class DofSystem:
     # (0..5; 6 + slot for an own end rotation)
     x_node: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
     x_comp: np.ndarray = field(default_factory=lambda: np.zeros(0, dtype=np.int64))
+    # rows of `rows` that are independent restraints of inclined supports (counted as restraints, not in rank)
+    support_rows: list[int] = field(default_factory=list)
 
     @property
     def n_q(self) -> int:
@@ -220,13 +222,17 @@ def build_dofs(frame: Frame, options: AnalysisOptions) -> DofSystem:
     scale = _column_scale(frame, node_dof, hinge, n_x)
     x_node, x_comp = _unknown_owners(frame, node_dof, hinge, n_x)
     T, rank, redundant, slave_rhs, consistency, groups, direct, slave_row = _eliminate(C, scale, n_x, x_node, x_comp)
-    # rows pinning a skew unattached rotation are reductions, not constraints
+    # rows pinning a skew unattached rotation are reductions, not constraints; the rows of inclined supports
+    # that hold something are restraints (`support_rows`)
     rank -= len(skew)
+    redundant_set = set(redundant)
+    support_rows = [r for r, row in enumerate(rows) if row.kind == "support" and r not in redundant_set]
+    rank -= len(support_rows)
     return DofSystem(frame=frame, options=options, plane_axis=plane_axis, active=active, node_dof=node_dof,
                      hinge_dof=hinge, condensed=condensed, auto_released=auto, restrained=restrained,
                      unattached=unattached, skew_unattached=skew, n_x=n_x, C=C, C_r=C_r, rows=rows, rank=rank,
                      redundant_rows=redundant, T=T, groups=groups, slave_rhs=slave_rhs, consistency=consistency,
-                     direct=direct, slave_row=slave_row, x_node=x_node, x_comp=x_comp)
+                     direct=direct, slave_row=slave_row, x_node=x_node, x_comp=x_comp, support_rows=support_rows)
 
 
 def _unknown_owners(frame: Frame, node_dof: np.ndarray, hinge: np.ndarray, n_x: int):
@@ -492,6 +498,18 @@ def _constraint_rows(frame: Frame, R, options: AnalysisOptions, plane_axis, skew
             ConstraintRow("unattached", frame.node_ids[node],
                           f"joint {frame.node_labels[node]} turns freely about ({vec[0]:.3f}, {vec[1]:.3f}, {vec[2]:.3f}): "
                           "no member end is attached in that direction", (node,)))
+
+    for sup in frame.inclined_supports:
+        node = frame.node_index(sup.node)
+        Q = np.asarray(sup.axes, float)
+        for c in range(6):
+            if sup.restrained[c]:
+                base, d = (0, Q[c]) if c < 3 else (3, Q[c - 3])
+                add({(node, base + q): float(d[q]) for q in range(3)},
+                    ConstraintRow("support", sup.node,
+                                  f"inclined support of node {frame.node_labels[node]} holds "
+                                  f"{'u' if c < 3 else 'r'}{'xyz'[c % 3]} along its own axis "
+                                  f"({d[0]:.3f}, {d[1]:.3f}, {d[2]:.3f})", (node,)))
 
     def cross_matrix(o):
         return np.array([[0, -o[2], o[1]], [o[2], 0, -o[0]], [-o[1], o[0], 0]])

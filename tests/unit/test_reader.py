@@ -397,8 +397,52 @@ def test_condition_coordinate_system_permutation_and_inclined(schema, tmp_path):
     n2 = m2.node("N2", (4.0, 0.0, 0.0), support=[True, False, False, False, False, False], ccs=inclined)
     b1 = m2.member("B1", "N1", "N2")
     m2.associate([b1], m2.steel(), m2.rectangle())
-    with pytest.raises(IfcInputError, match=rf"#{n2.id()} IfcStructuralPointConnection 'N2'.*inclined"):
-        read_ifc(m2.write(tmp_path / "i.ifc"))
+    fr = read_ifc(m2.write(tmp_path / "i.ifc")).frame
+    (sup,) = fr.inclined_supports
+    assert sup.node == "N2" and sup.restrained == (True, False, False, False, False, False)
+    assert np.allclose(sup.axes[0], np.array([1.0, 1.0, 0.0]) / np.sqrt(2.0))  # its x: the RefDirection
+    assert not fr.restraints[fr.node_index("N2")].any() and fr.supported[fr.node_index("N2")]
+
+    m3 = Model(schema)
+    m3.node("N1", (0.0, 0.0, 0.0), support=[True] * 6)
+    n2 = m3.node("N2", (4.0, 0.0, 0.0), support=[500.0, False, False, False, False, False],
+                 ccs=m3.axis2(axis=(0.0, 0.0, 1.0), ref=(1.0, 1.0, 0.0)))
+    m3.associate([m3.member("B1", "N1", "N2")], m3.steel(), m3.rectangle())
+    with pytest.raises(IfcInputError, match=rf"#{n2.id()} IfcStructuralPointConnection 'N2'.*elastic support .*inclined"):
+        read_ifc(m3.write(tmp_path / "s.ifc"))
+
+
+@pytest.mark.parametrize("schema", ["IFC4", "IFC4X3_ADD2"])
+def test_inclined_roller_through_the_writer(schema, tmp_path):
+    # a roller on a plane inclined at 30 degrees (its support axes: z the plane's normal): the reaction pushes
+    # along the normal, so with the vertical w L / 2 comes a horizontal w L / 2 tan 30 (statics, common
+    # practice, no source); the results IFC carries it on the point connection, in world axes
+    import math
+
+    from analysis.ifc.writer import write_results
+
+    a = math.radians(30.0)
+    m = Model(schema)
+    m.node("N1", (0.0, 0.0, 0.0), support=[True, True, True, True, False, True])
+    m.node("N2", (6.0, 0.0, 0.0), support=[False, True, True, False, False, False],
+           ccs=m.axis2(axis=(math.sin(a), 0.0, math.cos(a)), ref=(math.cos(a), 0.0, -math.sin(a))))
+    m.associate([m.member("B1", "N1", "N2")], m.steel(), m.rectangle())
+    g = m.case("G")
+    m.line_load(g, "B1", -4000.0)
+    src = m.write(tmp_path / "roller.ifc")
+    model = read_ifc(src)
+    res = analyze(model.frame)
+    r = res.case("G").reactions[model.frame.node_index("N2")]
+    assert r[2] == pytest.approx(12000.0, rel=1e-9) and r[0] == pytest.approx(12000.0 * math.tan(a), rel=1e-9)
+    out = tmp_path / "roller.results.ifc"
+    write_results(src, out, model, res)
+    f = ifcopenshell.open(str(out))
+    conn = next(c for c in f.by_type("IfcStructuralPointConnection") if c.Name == "N2")
+    forces = [rel.RelatedStructuralActivity.AppliedLoad for rel in conn.AssignedStructuralActivity
+              if rel.RelatedStructuralActivity.AppliedLoad.is_a("IfcStructuralLoadSingleForce")]
+    assert len(forces) == 1
+    assert forces[0].ForceX * m.F ** -1 == pytest.approx(12000.0 * math.tan(a), rel=1e-9)
+    assert forces[0].ForceZ * m.F ** -1 == pytest.approx(12000.0, rel=1e-9)
 
 
 @pytest.mark.parametrize("schema", SCHEMAS)
