@@ -759,10 +759,18 @@ class FrameBuilder:
 
     def inclined_support(self, node_id: str, axes: Sequence[Sequence[float]], components: str | Iterable[str],
                          source: str | None = None) -> None:
-        """Restrain components of a node along the support's own ``axes`` (rows: its x, y, z in world axes)."""
+        """Restrain components of a node along the support's own ``axes`` (rows: its x, y, z in world axes).
+
+        Axes given to a few digits (``0.866``) are made exactly orthonormal (the nearest rotation);
+        axes further than 1 % from orthonormal are an error.
+        """
         self._node(node_id)
         flags = _parse_components(components, DOF_NAMES, _SUPPORT_WORDS)
-        Q = tuple(tuple(float(v) for v in row) for row in axes)
+        M = np.asarray(axes, dtype=float)
+        if M.shape == (3, 3) and np.all(np.isfinite(M)) and np.allclose(M @ M.T, np.eye(3), atol=1e-2):
+            U, _, Vt = np.linalg.svd(M)
+            M = U @ Vt  # the nearest orthonormal rows (polar decomposition)
+        Q = tuple(tuple(float(v) for v in row) for row in M.reshape(-1, 3)) if M.size == 9 else tuple(map(tuple, M))
         self._inclined.append(InclinedSupport(node_id, Q, tuple(flags), source))  # type: ignore[arg-type]
 
     def spring(self, node_id: str, dof: str, stiffness: float) -> None:

@@ -109,3 +109,18 @@ def test_json_and_ifc_carry_the_inclined_reaction(tmp_path):
     doc = res.to_dict()
     assert doc["schema"] == SCHEMA and "B" in doc["cases"]["q"]["reactions"]
     assert doc["cases"]["q"]["reactions"]["B"]["fz"] == pytest.approx(abs(W) * L / 2, rel=1e-9)
+
+
+def test_axes_given_to_a_few_digits_are_made_orthonormal():
+    b = FrameBuilder()
+    b.add_node("A", (0, 0, 0), support="ux uy uz rx rz")
+    b.add_node("B", (L, 0, 0))
+    b.inclined_support("B", ((0.866, 0, -0.5), (0, 1, 0), (0.5, 0, 0.866)), "uy uz")
+    b.add_member("M", "A", "B", SEC, MAT, ref=(0, 0, 1))
+    b.add_case(LoadCase("q", member=(LineLoad("M", "z", W, W),)))
+    frame = b.build()
+    Q = np.asarray(frame.inclined_supports[0].axes)
+    assert np.allclose(Q @ Q.T, np.eye(3), atol=1e-12) and np.allclose(Q, beam(30.0).inclined_supports[0].axes,
+                                                                          atol=1e-3)
+    r = analyze(frame).case("q").reactions[1]
+    assert r[2] == pytest.approx(abs(W) * L / 2, rel=1e-9)
