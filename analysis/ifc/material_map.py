@@ -227,20 +227,30 @@ def load_material_map(path: str | os.PathLike[str]) -> MaterialMap:
     AnalysisError
         The file is missing, unreadable, not TOML, or an entry is wrong (the message names it).
     """
+    path = os.fspath(path)
+    mm = parse_material_map(read_toml(path, "material map"), path)
+    return MaterialMap(path, mm.names, mm.classes, mm.default)
+
+
+def read_toml(path: str, what: str) -> dict[str, Any]:
+    """The TOML document in ``path`` (a user's map: ``what`` names it in the messages).
+
+    Raises
+    ------
+    AnalysisError
+        The file is missing, not a regular file, unreadable or not TOML.
+    """
     import tomllib
 
-    path = os.fspath(path)
     if not os.path.isfile(path):
-        raise AnalysisError(f"{path}: material map not found (or not a regular file)")
+        raise AnalysisError(f"{path}: {what} not found (or not a regular file)")
     try:
         with open(path, "rb") as fh:
-            doc = tomllib.load(fh)
+            return tomllib.load(fh)
     except tomllib.TOMLDecodeError as exc:
-        raise AnalysisError(f"{path}: not a valid TOML material map ({exc})") from None
+        raise AnalysisError(f"{path}: not a valid TOML {what} ({exc})") from None
     except OSError as exc:
         raise AnalysisError(f"{path}: cannot be read ({exc.strerror or exc})") from None
-    mm = parse_material_map(doc, path)
-    return MaterialMap(path, mm.names, mm.classes, mm.default)
 
 
 def _toml_key(name: str) -> str:

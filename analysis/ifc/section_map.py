@@ -32,7 +32,7 @@ from typing import Any, Iterable
 
 from ..errors import AnalysisError
 from ..model import Section
-from .material_map import _is_glob, _number
+from .material_map import _is_glob, _number, _toml_key, read_toml
 
 __all__ = ["SectionMap", "load_section_map", "parse_section_map", "section_snippet"]
 
@@ -134,23 +134,8 @@ def load_section_map(path: str | os.PathLike[str]) -> SectionMap:
     AnalysisError
         The file is missing, unreadable, not TOML, or an entry is wrong (the message names it).
     """
-    import tomllib
-
     path = os.fspath(path)
-    if not os.path.isfile(path):
-        raise AnalysisError(f"{path}: section map not found (or not a regular file)")
-    try:
-        with open(path, "rb") as fh:
-            doc = tomllib.load(fh)
-    except tomllib.TOMLDecodeError as exc:
-        raise AnalysisError(f"{path}: not a valid TOML section map ({exc})") from None
-    except OSError as exc:
-        raise AnalysisError(f"{path}: cannot be read ({exc.strerror or exc})") from None
-    return parse_section_map(doc, path)
-
-
-def _toml_key(name: str) -> str:
-    return '"' + name.replace("\\", "\\\\").replace('"', '\\"') + '"'
+    return parse_section_map(read_toml(path, "section map"), path)
 
 
 def section_snippet(names: list[tuple[str, int]]) -> str:

@@ -216,17 +216,22 @@ def append_data(path: str, chunks: Iterable[str]) -> None:
         rest = tail[at:]
         fh.seek(start + at)
         fh.truncate()
-        buf: list[str] = []
-        n = 0
-        for chunk in chunks:
-            buf.append(chunk)
-            n += len(chunk)
-            if n > 1 << 22:
-                fh.write("".join(buf).encode("ascii"))
-                buf, n = [], 0
-        if buf:
-            fh.write("".join(buf).encode("ascii"))
+        _write_chunks(fh, chunks)
         fh.write(rest)
+
+
+def _write_chunks(fh, chunks: Iterable[str]) -> None:
+    """ASCII text pieces to a binary file, joined into writes of a few MB."""
+    buf: list[str] = []
+    n = 0
+    for chunk in chunks:
+        buf.append(chunk)
+        n += len(chunk)
+        if n > 1 << 22:
+            fh.write("".join(buf).encode("ascii"))
+            buf, n = [], 0
+    if buf:
+        fh.write("".join(buf).encode("ascii"))
 
 
 def _record_span(data: bytes, eid: int, ifc_class: str) -> tuple[int, int] | None:
@@ -284,15 +289,6 @@ def splice_data(out_path: str, source: bytes, replace: dict[int, tuple[str, str]
         fh.write(source[pos:at])
         if source[at - 1:at] != b"\n":
             fh.write(b"\n")
-        buf: list[str] = []
-        n = 0
-        for chunk in chunks:
-            buf.append(chunk)
-            n += len(chunk)
-            if n > 1 << 22:
-                fh.write("".join(buf).encode("ascii"))
-                buf, n = [], 0
-        if buf:
-            fh.write("".join(buf).encode("ascii"))
+        _write_chunks(fh, chunks)
         fh.write(source[at:])
     return True
