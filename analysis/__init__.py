@@ -18,6 +18,7 @@ from .model import (
     Diaphragm,
     Frame,
     FrameBuilder,
+    InclinedSupport,
     LineLoad,
     LoadCase,
     Material,
@@ -26,6 +27,7 @@ from .model import (
     RigidBody,
     Section,
     Settlement,
+    TemperatureLoad,
 )
 from .results import Results
 from .stiffness.analyze import analyze
@@ -53,6 +55,7 @@ __all__ = [
     "Diaphragm",
     "Frame",
     "FrameBuilder",
+    "InclinedSupport",
     "LineLoad",
     "LoadCase",
     "Material",
@@ -61,6 +64,7 @@ __all__ = [
     "RigidBody",
     "Section",
     "Settlement",
+    "TemperatureLoad",
     "Results",
     "analyze",
     "BucklingMode",

@@ -39,6 +39,7 @@ __all__ = [
     "Section",
     "Material",
     "InclinedSupport",
+    "TemperatureLoad",
     "NodalLoad",
     "LineLoad",
     "PointLoad",
@@ -103,6 +104,7 @@ class Material:
     density: float = 0.0
     poisson: float = 0.3
     source: str = "file"
+    alpha: float = 0.0  # coefficient of thermal expansion, 1/K (0: not given; needed by temperature loads)
 
     @property
     def shear_modulus(self) -> float:
@@ -166,6 +168,16 @@ class Settlement:
 
 
 @dataclass(frozen=True, slots=True)
+class TemperatureLoad:
+    """A uniform temperature change ``delta`` (K) of a whole member: it strains the member by α·delta
+    (``Frame.alpha``), which its supports and neighbours restrain."""
+
+    member: str
+    delta: float
+    source: str | None = None
+
+
+@dataclass(frozen=True, slots=True)
 class LoadCase:
     """One load case. ``self_weight`` is the acceleration in units of g, global axes.
 
@@ -178,6 +190,7 @@ class LoadCase:
     settlements: tuple[Settlement, ...] = ()
     self_weight: tuple[float, float, float] = (0.0, 0.0, 0.0)
     source: str | None = None
+    temperature: tuple[TemperatureLoad, ...] = ()
 
 
 @dataclass(frozen=True, slots=True)
@@ -353,6 +366,8 @@ class Frame:
     # semi-rigid member ends (m,2,6): rotational spring stiffness N*m/rad between the end and its joint,
     # about local y (My) and z (Mz) only; 0 = rigid (or released, where `releases` says so). Empty: none
     end_springs: FloatArray = field(default_factory=lambda: np.zeros(0))
+    # coefficient of thermal expansion per member, 1/K (0: not given). Empty: all 0
+    alpha: FloatArray = field(default_factory=lambda: np.zeros(0))
     _lookups: tuple = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
@@ -361,6 +376,8 @@ class Frame:
             object.__setattr__(self, "extensible", np.zeros(m, dtype=np.bool_))
         if np.asarray(self.end_springs).size == 0:
             object.__setattr__(self, "end_springs", np.zeros((m, 2, 6)))
+        if np.asarray(self.alpha).size == 0:
+            object.__setattr__(self, "alpha", np.zeros(m))
         specs = {
             "nodes": (np.float64, (n, 3)),
             "members": (np.int32, (m, 2)),
@@ -383,6 +400,7 @@ class Frame:
             "restraints": (np.bool_, (n, 6)),
             "springs": (np.float64, (n, 6)),
             "end_springs": (np.float64, (m, 2, 6)),
+            "alpha": (np.float64, (m,)),
         }
         for key, (dtype, shape) in specs.items():
             a: np.ndarray = np.asarray(getattr(self, key), dtype=dtype)
@@ -604,6 +622,15 @@ class Frame:
                     raise ModelError(f"{where}: load on member {load.member!r} has a value that is not a finite number")
                 if min(positions) < -1e-9 * L or max(positions) > L * (1 + 1e-9) or positions[-1] < positions[0]:
                     raise ModelError(f"{where}: load on member {load.member!r} lies outside the member (0..{L:.6g} m)")
+            for t in case.temperature:
+                if t.member not in members:
+                    raise ModelError(f"{where}: temperature change of missing member {t.member!r}")
+                k = members[t.member]
+                if not math.isfinite(t.delta):
+                    raise ModelError(f"{where}: temperature change of member {self.member_labels[k]} is not a finite number")
+                if t.delta and not (math.isfinite(self.alpha[k]) and self.alpha[k] > 0):
+                    raise ModelError(f"{where}: member {self.member_labels[k]} has a temperature change but its material "
+                                     f"{self.material_names[k] or '(unnamed)'!r} no coefficient of thermal expansion")
             for s in case.settlements:
                 if s.node not in nodes:
                     raise ModelError(f"{where}: settlement of missing node {s.node!r}")
@@ -773,6 +800,14 @@ class FrameBuilder:
         Q = tuple(tuple(float(v) for v in row) for row in M.reshape(-1, 3)) if M.size == 9 else tuple(map(tuple, M))
         self._inclined.append(InclinedSupport(node_id, Q, tuple(flags), source))  # type: ignore[arg-type]
 
+    def thermal_expansion(self, member_id: str, alpha: float) -> None:
+        """Set a member's coefficient of thermal expansion (1/K), replacing its material's."""
+        try:
+            mm = self._members[member_id]
+        except KeyError:
+            raise ModelError(f"member {member_id!r} does not exist") from None
+        mm["material"] = dataclasses.replace(mm["material"], alpha=float(alpha))
+
     def spring(self, node_id: str, dof: str, stiffness: float) -> None:
         """An elastic support: N/m for translations, N*m/rad for rotations."""
         if dof not in DOF_NAMES:
@@ -876,6 +911,7 @@ class FrameBuilder:
             inextensible=flags(lambda mm: mm["inextensible"]),
             extensible=flags(lambda mm: mm["extensible"]),
             end_springs=np.array(per_member(lambda mm: mm["springs"]), dtype=float).reshape(-1, 2, 6),
+            alpha=floats(lambda mm: mm["material"].alpha),
             restraints=np.array([nd["restraint"] for nd in nodes], dtype=bool).reshape(-1, 6),
             springs=np.array([nd["springs"] for nd in nodes], dtype=float).reshape(-1, 6),
             rigid_bodies=tuple(self._rigid),

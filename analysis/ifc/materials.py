@@ -1099,3 +1099,41 @@ def profile_mechanical_values(ifc_file, profile, usage=None) -> dict[str, float]
                 values.setdefault(name, float(value))
     return values
 
+
+
+#: Coefficients of thermal expansion (1/K) by material family, where the file gives none: steel
+#: EN 1993-1-1, 3.2.6(1); concrete EN 1992-1-1, 3.1.3(5); lightweight concrete EN 1992-1-1, 11.3.2(2);
+#: aluminium EN 1999-1-1, 3.2.5(1). Timber has no code value for frames: the file must give it.
+THERMAL_DEFAULTS = {"steel": 12e-6, "steel ASTM": 12e-6, "concrete": 10e-6, "lightweight concrete": 8e-6,
+                    "aluminium": 23e-6}
+
+
+def thermal_expansion(ifc_file, element, degree: float = 1.0) -> tuple[float, str] | None:
+    """(coefficient of thermal expansion 1/K, where it came from) of an element's material, or None.
+
+    ``degree`` is the file's temperature-difference unit in K (a value per degree Fahrenheit is
+    divided by 5/9).
+
+    The file's own value first (IFC4: ``ThermalExpansionCoefficient`` in the material's property sets;
+    IFC2X3: ``IfcThermalMaterialProperties``), then the family default of a grade its name or category
+    names (`THERMAL_DEFAULTS`).
+    """
+    found = _materials_in(material_definition(ifc_file, element))
+    for _, mat in found:
+        if _is_2x3(ifc_file):
+            for props in ifc_file.by_type("IfcThermalMaterialProperties"):
+                value = _unwrap(getattr(props, "ThermalExpansionCoefficient", None))
+                if props.Material == mat and value:
+                    return float(value) / degree, f"file ({mat.Name})"
+            continue
+        for props in getattr(mat, "HasProperties", None) or ():
+            for prop in getattr(props, "Properties", None) or ():
+                if prop.is_a("IfcPropertySingleValue") and prop.Name == "ThermalExpansionCoefficient":
+                    value = _unwrap(prop.NominalValue)
+                    if value:
+                        return float(value) / degree, f"file ({mat.Name})"
+    for _, mat in found:
+        match = recognise_grade(mat.Name, getattr(mat, "Category", None))
+        if match is not None and match.grade.family in THERMAL_DEFAULTS:
+            return THERMAL_DEFAULTS[match.grade.family], f"{match.grade.family} default ({mat.Name})"
+    return None

@@ -84,7 +84,10 @@ Loads
     ``IfcStructuralLoadConfiguration`` locations; SINUS and PARABOLA are
     approximated by 16 linear pieces (reported); DISCRETE, a configuration
     of ``IfcStructuralLoadSingleForce`` values at its locations, gives point
-    loads there. GLOBAL_COORDS are the
+    loads there; ``IfcStructuralLoadTemperature`` with a DeltaTConstant is a
+    uniform temperature change of the member (α from the material's
+    ``ThermalExpansionCoefficient``, else its family's code value; a
+    difference across the section is an error). GLOBAL_COORDS are the
     analysis model's axes; PROJECTED_LENGTH maps to projected line loads.
 Link to physical elements
     ``IfcRelAssignsToProduct`` in either direction: ``IfcModel.physical``
@@ -116,6 +119,7 @@ from ..model import (
     PointLoad,
     Section,
     Settlement,
+    TemperatureLoad,
 )
 from .placement import PlacementCache
 
@@ -595,6 +599,7 @@ class _StructuralReader:
         self._relating_material: dict[int, int] = {}
         self._last_key: tuple[int, tuple[int, ...] | None] = (-1, None)
         self._mapped: dict[str, int] = {}  # section map key -> members it gave the section
+        self._heated: set[str] = set()  # members a temperature change acts on
         self._materials: dict[tuple[Any, ...], Material] = {}
         self._profiles: dict[tuple[int, ...], tuple[Entity | None, int | None, Entity | None]] = {}
         self._sections: dict[tuple[int, int | None], tuple[Section, SectionProperties, list[str]]] = {}
@@ -762,6 +767,7 @@ class _StructuralReader:
                               + ", ".join(f"{key!r} {n} member{'s' if n != 1 else ''}" for key, n in self._mapped.items()))
         say(f"reading: loads on {len(members):,} members")
         self._loads()
+        self._thermal_coefficients()
         try:
             return b.build()
         except AnalysisError as exc:
@@ -1598,7 +1604,9 @@ class _StructuralReader:
         node_ids = self.node_ids
         in_case = set()
         for case in self.cases.values():
-            nodal, member_loads, settlements = [], [], []
+            nodal, settlements = [], []
+            member_loads: list[PointLoad | LineLoad] = []
+            heat: list[TemperatureLoad] = []
             for action, factor in case["actions"]:
                 in_case.add(action.id())
                 item = self._acted_on(action)
@@ -1606,7 +1614,8 @@ class _StructuralReader:
                     self.warn(action, "action not connected to a structural item: ignored")
                     continue
                 if item.id() in member_by_entity:
-                    member_loads.extend(self._member_action(action, item, factor))
+                    for ld in self._member_action(action, item, factor):
+                        (heat if isinstance(ld, TemperatureLoad) else member_loads).append(ld)
                 elif item.id() in node_ids:
                     n, s = self._node_action(action, item, factor)
                     nodal.extend(n)
@@ -1615,7 +1624,7 @@ class _StructuralReader:
                     self.warn(action, f"acts on {entity_label(item)}, which is not a member or node of the frame: ignored")
             self.builder.add_case(LoadCase(case["name"], nodal=tuple(nodal), member=tuple(member_loads),
                                            settlements=tuple(settlements), self_weight=case["self_weight"],
-                                           source=str(case["group"].GlobalId)))
+                                           source=str(case["group"].GlobalId), temperature=tuple(heat)))
         for combo in self.combinations:
             self.builder.add_combination(combo)
         for action in self.f.by_type("IfcStructuralAction"):
@@ -1704,6 +1713,8 @@ class _StructuralReader:
         if not kinds.curve:
             self.warn(action, f"{action.is_a()} on a curve member is not supported: ignored")
             return []
+        if load.is_a("IfcStructuralLoadTemperature"):
+            return [self._temperature(action, mid, load, factor, src)]
         if kinds.varying:
             raise self.fail(action, "IFC2X3 varying linear actions are not supported")
         projected = str(_argument(action, kinds.projected) or "TRUE_LENGTH") == "PROJECTED_LENGTH"
@@ -1727,6 +1738,36 @@ class _StructuralReader:
                     out.append(LineLoad(mid, a, float(w0[k]), float(w1[k]), start=float(max(s0, 0.0)), end=float(min(s1, L)),
                                         axes=axes_name, projected=projected, source=src))
         return out
+
+    def _temperature(self, action: Entity, mid: str, load: Entity, factor: float, src: str) -> TemperatureLoad:
+        """A uniform temperature change of the whole member (IfcStructuralLoadTemperature.DeltaTConstant)."""
+        names = ("DeltaT_Constant", "DeltaT_Y", "DeltaT_Z") if self.is2x3 else ("DeltaTConstant", "DeltaTY", "DeltaTZ")
+        for name in names[1:]:
+            if float(_unwrap(getattr(load, name, None)) or 0.0):
+                raise self.fail(action, f"temperature difference across the section ({name}) is not supported: "
+                                        f"only a uniform temperature change ({names[0]})")
+        delta = float(_unwrap(getattr(load, names[0], None)) or 0.0) * self.s.temperature_difference
+        self._heated.add(mid)
+        return TemperatureLoad(mid, delta * factor, source=src)
+
+    def _thermal_coefficients(self) -> None:
+        """The coefficient of thermal expansion of every member a temperature change acts on (noted)."""
+        from .materials import thermal_expansion
+
+        if not self._heated:
+            return
+        by_id = {mid: eid for eid, mid in self.member_ids.items()}
+        used: dict[str, int] = {}
+        for mid in sorted(self._heated):
+            found = thermal_expansion(self.f, self.f.by_id(by_id[mid]), self.s.temperature_difference)
+            if found is None:
+                continue  # the frame's check names the member and its material
+            self.builder.thermal_expansion(mid, found[0])
+            key = f"{found[0]:.3g}/K from the {found[1]}"
+            used[key] = used.get(key, 0) + 1
+        if used:
+            self.notes.append("Thermal expansion of the members under temperature changes: "
+                              + "; ".join(f"{k}: {n} member{'s' if n != 1 else ''}" for k, n in used.items()))
 
     def _point_loads(self, mid: str, load: Entity, pos: float, R: Mat, factor: float, axes_name: str,
                      src: str) -> list[PointLoad | LineLoad]:

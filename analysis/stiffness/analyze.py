@@ -16,7 +16,7 @@ import time
 import numpy as np
 import scipy.sparse as sp
 
-from ..errors import Diagnostic, UnstableStructureError
+from ..errors import Diagnostic, ModelError, UnstableStructureError
 from ..model import DOF_NAMES, AnalysisOptions, Frame, member_axes, member_lengths
 from .dofs import DofSystem, axially_rigid, build_dofs
 from .elements import compliances, condense, end_transformation, local_stiffness
@@ -290,6 +290,17 @@ def _load_vectors(asm: Assembly, cases, loads: list[CaseLoads], diagnostics):
             fef[:, :, c] += uniform_fixed_end_forces(ld.uniform, asm.L)
         for k, loading in ld.generic.items():
             fef[k, :, c] += generic_fixed_end_forces(loading, asm.L[k], asm.compliance[k], asm.options.shear)
+        if ld.thermal is not None and np.any(ld.thermal):
+            # a member held at both ends against its free thermal strain α ΔT: N = -E A α ΔT
+            heated = np.flatnonzero(ld.thermal)
+            rigid = axially_rigid(frame, asm.options)[heated]
+            if rigid.any():
+                k = int(heated[np.argmax(rigid)])
+                raise ModelError(f"load case {cases[c].name!r}: member {frame.member_labels[k]} is axially rigid and "
+                                 "cannot take a temperature change (analyse it extensible)")
+            push = frame.E[heated] * frame.A[heated] * frame.alpha[heated] * ld.thermal[heated]
+            fef[heated, 0, c] += push
+            fef[heated, 6, c] -= push
     # truss members: only axial terms of the fixed-end forces stay after condensation
     fef_c = asm.condense_loads(fef)
     A, idx = asm.element_map()

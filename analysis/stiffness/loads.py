@@ -179,6 +179,7 @@ class CaseLoads:
     nodal: np.ndarray
     uniform: np.ndarray
     generic: dict[int, MemberLoading]
+    thermal: np.ndarray | None = None  # (m,) uniform temperature change, K (None: none)
 
     def loading(self, k: int, L: float) -> MemberLoading:
         """Everything on member k as one `MemberLoading` (uniform part included)."""
@@ -193,6 +194,8 @@ class CaseLoads:
     def scaled_add(self, other: "CaseLoads", factor: float) -> None:
         self.nodal += factor * other.nodal
         self.uniform += factor * other.uniform
+        if other.thermal is not None:
+            self.thermal = (self.thermal if self.thermal is not None else 0.0) + factor * other.thermal
         for k, ld in other.generic.items():
             self.generic.setdefault(k, MemberLoading()).add(ld, factor)
 
@@ -231,4 +234,9 @@ def case_loads(frame: Frame, case: LoadCase, R: np.ndarray, L: np.ndarray) -> Ca
             (a,) = load_positions(load, Lk)
             target = generic.setdefault(k, MemberLoading())
             (target.moments if load.moment else target.forces).append((a, local * load.value))
-    return CaseLoads(nodal=nodal, uniform=uniform, generic=generic)
+    thermal = None
+    if case.temperature:
+        thermal = np.zeros(frame.n_members)
+        for t in case.temperature:
+            thermal[members[t.member]] += t.delta
+    return CaseLoads(nodal=nodal, uniform=uniform, generic=generic, thermal=thermal)

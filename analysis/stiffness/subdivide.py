@@ -23,7 +23,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..model import Combination, Frame, LineLoad, LoadCase, NodalLoad, PointLoad, Settlement, load_positions, member_lengths
+from ..model import (Combination, Frame, LineLoad, LoadCase, NodalLoad, PointLoad, Settlement, TemperatureLoad,
+                     load_positions, member_lengths)
 
 __all__ = ["Subdivision", "subdivide", "combination_case"]
 
@@ -122,7 +123,7 @@ def subdivide(frame: Frame, parts: int = 8) -> Subdivision:
         A=rep(frame.A), Iy=rep(frame.Iy), Iz=rep(frame.Iz), J=rep(frame.J), Avy=rep(frame.Avy), Avz=rep(frame.Avz),
         E=rep(frame.E), G=rep(frame.G), density=rep(frame.density), ref=rep(frame.ref), roll=rep(frame.roll),
         truss=rep(frame.truss), releases=releases, offsets=offsets, inextensible=rep(frame.inextensible),
-        extensible=rep(frame.extensible), end_springs=end_springs,
+        extensible=rep(frame.extensible), end_springs=end_springs, alpha=rep(frame.alpha),
         restraints=np.concatenate([frame.restraints, np.zeros((n_new, 6), bool)]),
         springs=np.concatenate([frame.springs, np.zeros((n_new, 6))]),
         rigid_bodies=frame.rigid_bodies, diaphragms=frame.diaphragms,
@@ -170,8 +171,10 @@ def _split_case(frame: Frame, case: LoadCase, L, counts, first, piece_ids) -> Lo
             out.append(PointLoad(member=piece_ids[first[k] + j], direction=load.direction, value=load.value,
                                  position=min(max(p - j * h, 0.0), Lk - j * h if j == c - 1 else h),
                                  axes=load.axes, moment=load.moment, relative=False, source=load.source))
+    heat = tuple(TemperatureLoad(piece_ids[first[index[t.member]] + j], t.delta, t.source)
+                 for t in case.temperature for j in range(int(counts[index[t.member]])))
     return LoadCase(name=case.name, nodal=case.nodal, member=tuple(out), settlements=case.settlements,
-                    self_weight=case.self_weight, source=case.source)
+                    self_weight=case.self_weight, source=case.source, temperature=heat)
 
 
 def _scaled6(v, f: float) -> tuple[float, float, float, float, float, float]:
@@ -188,8 +191,10 @@ def combination_case(frame: Frame, combination: Combination) -> LoadCase:
     member: list[LineLoad | PointLoad] = []
     settle: dict[tuple[str, str], float] = {}
     sw = np.zeros(3)
+    heat: list[TemperatureLoad] = []
     for name, f in combination.factors:
         case = frame.case(name)
+        heat += [TemperatureLoad(t.member, f * t.delta, t.source) for t in case.temperature]
         nodal += [NodalLoad(ld.node, _scaled6(ld.values, f), ld.source) for ld in case.nodal]
         for ld in case.member:
             if isinstance(ld, LineLoad):
@@ -203,4 +208,5 @@ def combination_case(frame: Frame, combination: Combination) -> LoadCase:
         sw += f * np.asarray(case.self_weight, float)
     return LoadCase(name=combination.name, nodal=tuple(nodal), member=tuple(member),
                     settlements=tuple(Settlement(nd, dof, v) for (nd, dof), v in settle.items()),
-                    self_weight=(float(sw[0]), float(sw[1]), float(sw[2])), source=combination.source)
+                    self_weight=(float(sw[0]), float(sw[1]), float(sw[2])), source=combination.source,
+                    temperature=tuple(heat))

@@ -260,6 +260,19 @@ class Model:
                             PredefinedType="DISCRETE")
         return self._act(group, a, self.members[member])
 
+    def temperature_load(self, group, member, delta_t, delta_tz=None):
+        f = self.f
+        names = ("DeltaT_Constant", "DeltaT_Z") if self.is2x3 else ("DeltaTConstant", "DeltaTZ")
+        load = f.create_entity("IfcStructuralLoadTemperature", Name="heat", **{names[0]: delta_t, names[1]: delta_tz})
+        kwargs = dict(GlobalId=self.gid(), Name="heat", AppliedLoad=load, GlobalOrLocal="LOCAL_COORDS",
+                      DestabilizingLoad=False)
+        if self.is2x3:
+            a = f.create_entity("IfcStructuralLinearAction", ProjectedOrTrue="TRUE_LENGTH", **kwargs)
+        else:
+            a = f.create_entity("IfcStructuralCurveAction", PredefinedType="CONST", ProjectedOrTrue="TRUE_LENGTH",
+                                **kwargs)
+        return self._act(group, a, self.members[member])
+
     def write(self, path) -> str:
         f = self.f
         f.create_entity("IfcRelAssignsToGroup", GlobalId=self.gid(), RelatedObjects=self.items, RelatingGroup=self.model)
@@ -551,6 +564,34 @@ def test_discrete_curve_action_errors_name_the_action(tmp_path):
     m.discrete_load(g, "B1", [(1.0, -1000.0), (5.0, -1000.0)])  # the second point lies beyond the member
     with pytest.raises(IfcInputError, match=r"IfcStructuralCurveAction 'discrete'.*location 5 m lies beyond"):
         read_ifc(m.write(tmp_path / "beyond.ifc"))
+
+
+@pytest.mark.parametrize("schema", SCHEMAS)
+def test_temperature_change_of_a_restrained_beam(schema, tmp_path):
+    # a beam between two fixed supports heated by 30 K carries N = -E A alpha dT (common practice, no
+    # source); the material's name says steel, so alpha is steel's 12e-6 /K (EN 1993-1-1, 3.2.6 — from memory)
+    m = Model(schema)
+    m.node("N1", (0.0, 0.0, 0.0), support=[True] * 6)
+    m.node("N2", (5.0, 0.0, 0.0), support=[True] * 6)
+    m.associate([m.member("B1", "N1", "N2")], m.steel(), m.rectangle())
+    g = m.case("T")
+    m.temperature_load(g, "B1", 30.0)
+    model = read_ifc(m.write(tmp_path / "t.ifc"))
+    fr = model.frame
+    assert fr.alpha[0] == pytest.approx(12e-6)
+    assert any("Thermal expansion" in n and "steel default" in n for n in model.notes)
+    res = analyze(fr)
+    assert res.diagram("T", 0).forces[0, 0] == pytest.approx(-E_STEEL * B * H * 12e-6 * 30.0, rel=1e-9)
+
+
+def test_temperature_gradient_is_refused(tmp_path):
+    m = Model("IFC4")
+    m.node("N1", (0.0, 0.0, 0.0), support=[True] * 6)
+    m.node("N2", (5.0, 0.0, 0.0), support=[True] * 6)
+    m.associate([m.member("B1", "N1", "N2")], m.steel(), m.rectangle())
+    m.temperature_load(m.case("T"), "B1", 10.0, delta_tz=20.0)
+    with pytest.raises(IfcInputError, match=r"IfcStructuralCurveAction 'heat'.*DeltaTZ.*not supported"):
+        read_ifc(m.write(tmp_path / "g.ifc"))
 
 
 @pytest.mark.parametrize("schema", SCHEMAS)
