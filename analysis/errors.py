@@ -80,10 +80,7 @@ def entity_label(entity, global_id: bool = True) -> str:
     The name is omitted when empty, the GlobalId where the entity has none
     (or ``global_id`` is false, e.g. where the message gives it already).
     """
-    try:
-        name = getattr(entity, "Name", None)
-    except Exception:  # entity without a Name attribute
-        name = None
+    name = _name_of(entity)
     label = f"#{entity.id()} {entity.is_a()}"
     if name:
         label = f"{label} '{name}'"
@@ -92,6 +89,28 @@ def entity_label(entity, global_id: bool = True) -> str:
         if gid:
             label = f"{label} (GlobalId {gid})"
     return label
+
+
+_NAME_INDEX: dict[str, int] = {}  # IFC class -> position of its Name attribute (-1: none)
+
+
+def _name_of(entity) -> str | None:
+    """An entity's Name, through its attribute position (cached per class: labels are made by the thousand)."""
+    try:
+        cls = entity.is_a()
+        index = _NAME_INDEX.get(cls)
+        if index is None:
+            try:
+                index = int(entity.get_argument_index("Name"))
+            except Exception:  # the class has no Name attribute
+                index = -1
+            _NAME_INDEX[cls] = index
+        return entity.get_argument(index) if index >= 0 else None
+    except Exception:  # not an ifcopenshell entity (a stand-in with a Name of its own)
+        try:
+            return getattr(entity, "Name", None)
+        except Exception:
+            return None
 
 
 def entity_global_id(entity) -> str | None:

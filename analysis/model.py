@@ -618,7 +618,7 @@ class Frame:
                 L = lengths[members[load.member]]
                 positions = load_positions(load, L)
                 values = (load.w1, load.w2 if load.w2 is not None else load.w1) if isinstance(load, LineLoad) else (load.value,)
-                if not (np.all(np.isfinite(positions)) and np.all(np.isfinite(values))):
+                if not (all(map(math.isfinite, positions)) and all(map(math.isfinite, values))):
                     raise ModelError(f"{where}: load on member {load.member!r} has a value that is not a finite number")
                 if min(positions) < -1e-9 * L or max(positions) > L * (1 + 1e-9) or positions[-1] < positions[0]:
                     raise ModelError(f"{where}: load on member {load.member!r} lies outside the member (0..{L:.6g} m)")
