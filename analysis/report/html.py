@@ -170,6 +170,7 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
     parts.append("<h3>Nodes</h3>")
     node_rows = []
     sup_mask = frame.supported
+    inclined = {sup.node: sup for sup in frame.inclined_supports}
     shown_nodes = list(range(frame.n_nodes)) if frame.n_nodes <= SHOWN else np.flatnonzero(sup_mask)[:SHOWN].tolist()
     for i in shown_nodes:
         nid = frame.node_ids[i]
@@ -177,6 +178,10 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
         support = "fixed" if r.all() else (" ".join(DOF_NAMES[c] for c in range(6) if r[c]) or "")
         if (frame.springs[i] > 0).any():
             support += " springs"
+        if nid in inclined:
+            held = " ".join(DOF_NAMES[c] for c in range(6) if inclined[nid].restrained[c])
+            z = inclined[nid].axes[2]
+            support = f"inclined: {held} along its own axes (its z: {z[0]:.3f}, {z[1]:.3f}, {z[2]:.3f})"
         node_rows.append([nid, *(f"{v:.3f}" for v in frame.nodes[i]), support or "–", frame.node_labels[i]])
     parts.append(_table(["Node", "X [m]", "Y [m]", "Z [m]", "Support", "Source"], node_rows))
     parts.append(_csv_note(csv_names, "nodes", len(shown_nodes), frame.n_nodes,
@@ -189,6 +194,8 @@ def build_report(model, results, indeterminacy=None, *, date: _dt.datetime | Non
         rel = []
         for end, tag in ((0, "i"), (1, "j")):
             names = [ACTION_NAMES[c] for c in range(6) if frame.releases[k, end, c]]
+            names += [f"{ACTION_NAMES[c]} spring {frame.end_springs[k, end, c]:.4g} N·m/rad" for c in range(6)
+                      if frame.end_springs[k, end, c] > 0]
             if names:
                 rel.append(f"{tag}: {' '.join(names)}")
         mem_rows.append([mid, frame.node_ids[frame.members[k, 0]], frame.node_ids[frame.members[k, 1]],

@@ -124,3 +124,15 @@ def test_axes_given_to_a_few_digits_are_made_orthonormal():
                                                                           atol=1e-3)
     r = analyze(frame).case("q").reactions[1]
     assert r[2] == pytest.approx(abs(W) * L / 2, rel=1e-9)
+
+
+def test_the_report_names_the_inclined_support(tmp_path):
+    import types
+
+    from analysis.report import write_report
+
+    frame = beam(30.0)
+    model = types.SimpleNamespace(frame=frame, route="api", notes=[], diagnostics=[], path="beam", schema="-",
+                                  units=None)
+    write_report(str(tmp_path / "r.html"), model, analyze(frame))
+    assert "inclined: uy uz along its own axes (its z: 0.500, 0.000, 0.866)" in (tmp_path / "r.html").read_text()
