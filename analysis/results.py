@@ -286,12 +286,12 @@ class Results:
             "schema": SCHEMA,
             "units": {"length": "m", "force": "N", "moment": "N*m", "angle": "rad"},
             "dimension": self.dimension,
-            "nodes": {nid: {"xyz": [float(v) for v in frame.nodes[i]], "source": frame.node_sources[i]}
-                      for i, nid in enumerate(frame.node_ids)},
-            "members": {mid: {"nodes": [frame.node_ids[frame.members[k, 0]], frame.node_ids[frame.members[k, 1]]],
-                              "length": float(self.L[k]), "source": frame.member_sources[k],
-                              **member_properties(frame, k)}
-                        for k, mid in enumerate(frame.member_ids)},
+            "nodes": {nid: {"xyz": xyz, "source": src}
+                      for nid, xyz, src in zip(frame.node_ids, frame.nodes.tolist(), frame.node_sources)},
+            "members": {mid: {"nodes": [frame.node_ids[i], frame.node_ids[j]], "length": length,
+                              "source": frame.member_sources[k], **member_properties(frame, k)}
+                        for k, (mid, (i, j), length) in enumerate(zip(frame.member_ids, frame.members.tolist(),
+                                                                       np.asarray(self.L, float).tolist()))},
         }
         if indeterminacy is not None:
             doc["indeterminacy"] = indeterminacy
@@ -321,10 +321,11 @@ class Results:
             for k, mid in enumerate(frame.member_ids):
                 part = block[:, bounds[k]:bounds[k + 1]]
                 members[mid] = dict(zip(keys, part if arrays else part.tolist()))
+        dof_names = [DOF_NAMES[c] for c in comps]
         return {
             "kind": cr.kind,
-            "displacements": {nid: {DOF_NAMES[c]: float(cr.displacements[i, c]) for c in comps}
-                              for i, nid in enumerate(frame.node_ids)},
+            "displacements": {nid: dict(zip(dof_names, row))
+                              for nid, row in zip(frame.node_ids, cr.displacements[:, comps].tolist())},
             "reactions": {frame.node_ids[i]: {REACTION_NAMES[c]: float(cr.reactions[i, c]) for c in comps}
                           for i in supported},
             "members": members,
