@@ -485,8 +485,21 @@ def verify_unchanged(path: str | os.PathLike[str], stamp: SourceStamp, now: Sour
         st = check_regular(path)
         now = _stamp_of(path, st, _read_through(path, st).sha256)
     if now.sha256 != stamp.sha256:
-        raise IfcInputError(f"{path}: the input file changed on disk after it was read (saved again during the run?); "
-                            "the results belong to the earlier version, so nothing was written: run the analysis again")
+        raise _changed_since_read(path)
+
+
+def read_unchanged(path: str, sha256: str) -> bytes:
+    """The bytes of ``path``; IfcInputError unless they are still those whose SHA-256 is ``sha256``."""
+    with open(path, "rb") as fh:
+        data = fh.read()
+    if hashlib.sha256(data).hexdigest() != sha256:
+        raise _changed_since_read(path)
+    return data
+
+
+def _changed_since_read(path: str) -> IfcInputError:
+    return IfcInputError(f"{path}: the input file changed on disk after it was read (saved again during the run?); "
+                         "the results belong to the earlier version, so nothing was written: run the analysis again")
 
 
 _READER_FAILURES = (AttributeError, TypeError, IndexError, KeyError, ValueError, ZeroDivisionError,

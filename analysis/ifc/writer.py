@@ -50,7 +50,6 @@ changed file and the bulk is appended to it. Numbers carry
 from __future__ import annotations
 
 import datetime as _dt
-import hashlib
 import itertools
 import logging
 import math
@@ -213,8 +212,8 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
     splice = None
     if not w.removed:  # nothing of the source went: its text is copied and only the changed entities rewritten
         splice = _Splice(source_path, sha256,
-                         {eid: (f.by_id(eid).is_a(), f.by_id(eid).to_string(True) + ";")
-                          for eid in sorted(w.modified) if eid <= source_max},
+                         {ent.id(): (ent.is_a(), ent.to_string(True) + ";")
+                          for ent in (f.by_id(eid) for eid in sorted(w.modified) if eid <= source_max)},
                          [f"{e.to_string(True)};\n" for e in _created(f, source_max + 1, w.out.first_id)])
     _atomic_write(f, out_path, w.out.lines, splice)
     return w.summary(out_path)
@@ -262,17 +261,13 @@ def _atomic_write(f, out_path: str, lines: list[str], splice: _Splice | None = N
     """
     suffix = os.path.splitext(out_path)[1] or ".ifc"
     from ..fileio import atomic_write
+    from .source import read_unchanged
     from .step import append_data, splice_data
 
     def spliced(tmp: str) -> bool:
         if splice is None:
             return False
-        with open(splice.path, "rb") as fh:
-            data = fh.read()
-        if hashlib.sha256(data).hexdigest() != splice.sha256:
-            raise IfcInputError(f"{splice.path}: the input file changed on disk after it was read (saved again during "
-                                "the run?); the results belong to the earlier version, so nothing was written: run "
-                                "the analysis again")
+        data = read_unchanged(splice.path, splice.sha256)
         head = data[3:64] if data.startswith(b"\xef\xbb\xbf") else data[:64]
         if not head.lstrip().startswith(b"ISO-10303-21"):
             return False
@@ -483,18 +478,6 @@ class _Writer:
             value = scales[what] = float(getattr(self.units, what))
         return value
 
-    def _force(self, v):
-        return float(v) / self._scale("force")
-
-    def _moment(self, v):
-        return float(v) / self._scale("moment")
-
-    def _length(self, v):
-        return float(v) / self._scale("length")
-
-    def _angle(self, v):
-        return float(v) / self._scale("angle")
-
     def _active(self) -> list[int]:
         return sorted(self.results.active_components)
 
@@ -524,7 +507,6 @@ class _Writer:
         self._write_support_psets()
         self._write_summary_pset()
         self._write_stability_pset()
-        self._flush_psets()
 
     def summary(self, path: str) -> WriteSummary:
         return WriteSummary(path=path, schema=self.schema, route=self.route,
@@ -781,7 +763,6 @@ class _Writer:
         self._guid_pool: list[str] = []
         self._owner_ref = f"#{self.owner.id()}" if self.owner is not None else "$"
         self._formats: dict[tuple[str, tuple[str, ...]], str] = {}
-        self._pending: list[tuple[str, list, list[tuple[str, str, Any]]]] = []
         self._labels: list[tuple[str, tuple[str, str]]] | None = None
         self._common_props: list[tuple[str, str, Any]] | None = None
 
@@ -1008,13 +989,17 @@ class _Writer:
     _TEXT_TYPES = ("IfcLabel", "IfcText", "IfcDateTime", "IfcIdentifier")
 
     def _pset(self, name: str, objects: list, props: list[tuple[str, str, Any]]) -> None:
-        """Queue a property set for ``objects``; `_flush_psets` writes them all at once."""
-        self._pending.append((name, objects, [p for p in props if p[2] is not None]))
-        self.counts["psets"] += 1
+        """One property set ``name`` on ``objects`` (properties with a None value left out)."""
+        self._pset_columns(name, [objects], [(pname, typ, [value]) for pname, typ, value in props])
 
-    def _pset_columns(self, name: str, owners: list, columns: list[tuple[str, str, list]]) -> None:
-        """One property set ``name`` on each of ``owners`` from columns (see `member_extremes_columns`), its
-        properties shared by content with every other property set; written at once, column by column."""
+    def _pset_columns(self, name: str, owners: list[list], columns: list[tuple[str, str, list]]) -> None:
+        """One property set ``name`` on each entry of ``owners`` (a list of the entities it defines) from
+        columns: (property, IFC type, one value per property set, None where that set has no such value).
+
+        An IfcProperty may belong to several property sets; every IfcPropertySingleValue is shared by
+        content with all the others this writer made (date, version, units, idealisation, governing case
+        names, equal values), which halves the entities a large model gets.
+        """
         from .step import new_guids, reals, string
 
         n = len(owners)
@@ -1024,7 +1009,6 @@ class _Writer:
         prop_fmt = self._line("IfcPropertySingleValue", ("Name", "NominalValue"))
         lines: list[str] = []
         refs_by_column: list[list[str | None]] = []
-        exact = (*self._TEXT_TYPES, "IfcInteger", "IfcBoolean")
         for pname, typ, values in columns:
             present = [v for v in values if v is not None]
             if not present:
@@ -1037,7 +1021,6 @@ class _Writer:
             elif typ == "IfcBoolean":
                 tokens = [".T." if v else ".F." for v in present]
             else:
-                assert typ not in exact
                 tokens = reals(np.array(present, dtype=float))
             prefix = "IFCLABEL(" if typ == "IfcDateTime" and self.ifc2x3 else f"{typ.upper()}("
             keys = [prefix + t + ")" for t in tokens]
@@ -1060,78 +1043,11 @@ class _Writer:
         for j, row in enumerate(zip(*refs_by_column)):
             pset = first + 2 * j
             props_text = "(" + ",".join([r for r in row if r is not None]) + ")"
+            objects_text = "(" + ",".join(f"#{o.id()}" for o in owners[j]) + ")"
             lines.append(f"#{pset}={pset_fmt % (repr_guid(guids[2 * j]), owner, quoted_set, tag, props_text)};\n"
-                         f"#{pset + 1}={rel_fmt % (repr_guid(guids[2 * j + 1]), owner, f'(#{owners[j].id()})', f'#{pset}')};\n")
-        out.extend(lines)
-        self.counts["psets"] += n
-
-    def _flush_psets(self) -> None:
-        """Every queued property set, its properties (each IfcPropertySingleValue shared by content) and relation.
-
-        An IfcProperty may belong to several property sets; sharing the
-        repeated ones (date, version, units, idealisation, governing case
-        names, equal values) halves the entities a large model gets.
-        """
-        from .step import new_guids, reals, string
-
-        pending, self._pending = self._pending, []
-        if not pending:
-            return
-        flat = [p for _, _, props in pending for p in props]
-        exact = (*self._TEXT_TYPES, "IfcInteger", "IfcBoolean")
-        numeric = [k for k, (_, t, _) in enumerate(flat) if t not in exact]
-        tokens = reals(np.array([float(flat[k][2]) for k in numeric])) if numeric else []
-        text: list[str | None] = [None] * len(flat)
-        tok: str | None
-        for k, number in zip(numeric, tokens):
-            text[k] = number
-        names: dict[str, str] = {}
-        prop_fmt = self._line("IfcPropertySingleValue", ("Name", "NominalValue"))
-        ids: list[str] = []  # '#id' of each property, in the order of the flattened lists
-        quoted_text: dict[str, str] = {}
-        lines: list[str] = []
-        cache = self._properties
-        out = self.out
-        prefixes: dict[str, str] = {}
-        for k, (pname, t, v) in enumerate(flat):
-            tok = text[k]
-            if tok is None:
-                if t in self._TEXT_TYPES:
-                    tok = quoted_text.get(v)
-                    if tok is None:
-                        tok = quoted_text[v] = string(v)
-                elif t == "IfcInteger":
-                    tok = str(int(v))
-                else:
-                    tok = ".T." if v else ".F."
-            prefix = prefixes.get(t)
-            if prefix is None:
-                prefix = prefixes[t] = ("IFCLABEL(" if t == "IfcDateTime" and self.ifc2x3 else f"{t.upper()}(")
-            key = (pname, prefix + tok + ")")
-            pid = cache.get(key)
-            if pid is None:
-                pid = cache[key] = out.reserve()
-                quoted = names.get(pname)
-                if quoted is None:
-                    quoted = names[pname] = string(pname)
-                lines.append(f"#{pid}={prop_fmt % (quoted, key[1])};\n")
-            ids.append(f"#{pid}")
-        pset_fmt = self._line("IfcPropertySet", ("GlobalId", "OwnerHistory", "Name", "Description", "HasProperties"))
-        rel_fmt = self._line("IfcRelDefinesByProperties", ("GlobalId", "OwnerHistory", "RelatedObjects",
-                                                            "RelatingPropertyDefinition"))
-        guids = new_guids(2 * len(pending))
-        first = out.block(2 * len(pending))
-        tag, owner = string(TAG), self._owner_ref
-        at = 0
-        for j, (name, objects, props) in enumerate(pending):
-            mine = ids[at:at + len(props)]
-            at += len(props)
-            pset = first + 2 * j
-            props_text = "(" + ",".join(mine) + ")"
-            objects_text = "(" + ",".join(f"#{o.id()}" for o in objects) + ")"
-            lines.append(f"#{pset}={pset_fmt % (repr_guid(guids[2 * j]), owner, string(name), tag, props_text)};\n"
                          f"#{pset + 1}={rel_fmt % (repr_guid(guids[2 * j + 1]), owner, objects_text, f'#{pset}')};\n")
         out.extend(lines)
+        self.counts["psets"] += n
 
     def _common(self) -> list[tuple[str, str, Any]]:
         common = getattr(self, "_common_props", None)
@@ -1238,23 +1154,22 @@ class _Writer:
                 ents[item.id()] = item
         owners = [ents[iid] for iid in seen] + [t.entity for t in self.physical.values() if t.entity.id() not in ents]
         groups = list(seen.values()) + [t.members for t in self.physical.values() if t.entity.id() not in ents]
-        self._pset_columns("PF_MemberForces", owners, self.member_extremes_columns(groups))
+        self._pset_columns("PF_MemberForces", [[o] for o in owners], self.member_extremes_columns(groups))
 
     def _write_support_psets(self) -> None:
         frame, res = self.frame, self.results
         active = self._active()
-        supported = np.flatnonzero(frame.supported)
-        for i in supported:
-            item = self.node_items[i]
-            if item is None or not res.cases:
-                continue
-            props = []
-            for name, cr in res.cases.items():
-                for c in active:
-                    typ = "IfcForceMeasure" if c < 3 else "IfcTorqueMeasure"
-                    conv = self._force if c < 3 else self._moment
-                    props.append((f"{name}: {REACTION_NAMES[c]}", typ, conv(cr.reactions[i, c])))
-            self._pset("PF_SupportReactions", [item], props + self._common())
+        rows = [int(i) for i in np.flatnonzero(frame.supported) if self.node_items[i] is not None]
+        if not rows or not res.cases:
+            return
+        columns: list[tuple[str, str, list]] = []
+        for name, cr in res.cases.items():
+            for c in active:
+                typ = "IfcForceMeasure" if c < 3 else "IfcTorqueMeasure"
+                scale = self._scale("force") if c < 3 else self._scale("moment")
+                columns.append((f"{name}: {REACTION_NAMES[c]}", typ, (cr.reactions[rows, c] / scale).tolist()))
+        columns += [(pname, typ, [value] * len(rows)) for pname, typ, value in self._common()]
+        self._pset_columns("PF_SupportReactions", [[self.node_items[i]] for i in rows], columns)
 
     def _write_summary_pset(self) -> None:
         props: list[tuple[str, str, Any]] = [("Route", "IfcLabel", self.route),
