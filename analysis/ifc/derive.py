@@ -169,7 +169,6 @@ from __future__ import annotations
 
 import logging
 import math
-import os
 from collections import Counter, defaultdict
 from collections.abc import Hashable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, replace
@@ -1057,8 +1056,7 @@ class _Deriver:
                                               J=given.J, Avy=given.Avy, Avz=given.Avz, source="user map")
             used[key] = used.get(key, 0) + 1
         if used:
-            self.notes.append(f"Sections from the section map {os.path.basename(smap.path)}: "
-                              + ", ".join(f"{key!r} {n} element{'s' if n != 1 else ''}" for key, n in used.items()))
+            self.notes.append(smap.note(used, "element"))
 
     def _materials(self, elements: list[_Element], assoc: dict[int, Hashable], typed: dict[int, int]) -> list:
         """Every element's `Material`, or the one report naming every material that stays unknown.

@@ -1100,7 +1100,6 @@ def profile_mechanical_values(ifc_file, profile, usage=None) -> dict[str, float]
     return values
 
 
-
 #: Coefficients of thermal expansion (1/K) by material family, where the file gives none: steel
 #: EN 1993-1-1, 3.2.6(1); concrete EN 1992-1-1, 3.1.3(5); lightweight concrete EN 1992-1-1, 11.3.2(2);
 #: aluminium EN 1999-1-1, 3.2.5(1). Timber has no code value for frames: the file must give it.

@@ -126,6 +126,7 @@ from .placement import PlacementCache
 if TYPE_CHECKING:
     from ..units import UnitScales
     from .material_map import MaterialMap
+    from .section_map import SectionMap
     from .sections import SectionProperties
 
 __all__ = ["IfcModel", "ReaderDefaults", "read_ifc"]
@@ -598,6 +599,7 @@ class _StructuralReader:
         self._axes_cache: dict[tuple[bytes, bytes, float], Mat | None] = {}
         self._relating_material: dict[int, int] = {}
         self._last_key: tuple[int, tuple[int, ...] | None] = (-1, None)
+        self._section_map: SectionMap | None = defaults.sections if defaults is not None else None
         self._mapped: dict[str, int] = {}  # section map key -> members it gave the section
         self._heated: set[str] = set()  # members a temperature change acts on
         self._materials: dict[tuple[Any, ...], Material] = {}
@@ -761,10 +763,8 @@ class _StructuralReader:
             if n % 5000 == 0:
                 say(f"reading: sections and axes, {n:,} of {len(members):,} members")
             self._member(m, ends[m.id()], need_density, material_cache)
-        if self._mapped:
-            smap = self.defaults.sections if self.defaults is not None else None
-            self.notes.append(f"Sections from the section map {os.path.basename(getattr(smap, 'path', ''))}: "
-                              + ", ".join(f"{key!r} {n} member{'s' if n != 1 else ''}" for key, n in self._mapped.items()))
+        if self._mapped and self._section_map is not None:
+            self.notes.append(self._section_map.note(self._mapped, "member"))
         say(f"reading: loads on {len(members):,} members")
         self._loads()
         self._thermal_coefficients()
@@ -1204,7 +1204,7 @@ class _StructuralReader:
 
     def _mapped_section(self, member: Entity, profile: Entity | None, *, count: bool = True) -> Section | None:
         """The section the user's section map gives the member (counted for the reader's note), or None."""
-        smap = self.defaults.sections if self.defaults is not None else None
+        smap = self._section_map
         if smap is None or not smap.names:
             return None
         hit = smap.for_names(self._section_names(member, profile))

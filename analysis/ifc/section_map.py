@@ -61,6 +61,12 @@ class SectionMap:
     def __bool__(self) -> bool:
         return bool(self.names) or self.default is not None
 
+    def note(self, used: dict[str, int], what: str) -> str:
+        """The reader's note of the entries used: ``used`` maps a key to how many ``what`` (members,
+        elements) took their section from it."""
+        return (f"Sections from the section map {os.path.basename(self.path)}: "
+                + ", ".join(f"{key!r} {n} {what}{'s' if n != 1 else ''}" for key, n in used.items()))
+
     def for_names(self, names: Iterable[str | None]) -> tuple[str, Section] | None:
         """(map key, section) for the first of an element's names that an entry names exactly, else the first
         glob (in file order) that any of them matches; None where no entry applies."""

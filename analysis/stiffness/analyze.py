@@ -368,12 +368,10 @@ def _reactions(asm: Assembly, F_ext, u_ext, lam) -> np.ndarray:
     springs = frame.springs.reshape(-1)
     sp_idx = np.flatnonzero(springs > 0)
     r[sp_idx] -= springs[sp_idx, None] * u_ext[sp_idx]
-    if frame.inclined_supports:  # an inclined support's reaction is the force of its constraint rows, -Cᵀλ
-        x_ext = asm.x_ext
-        for k, row in enumerate(d.rows):
-            if row.kind == "support":
-                c = d.C[[k]].tocoo()
-                np.add.at(r, x_ext[c.col], -c.data[:, None] * lam[k][None, :])
+    held = [k for k, row in enumerate(d.rows) if row.kind == "support"]
+    if held:  # an inclined support's reaction is the force of its constraint rows, -Cᵀλ
+        c = d.C[held].tocoo()
+        np.add.at(r, asm.x_ext[c.col], -c.data[:, None] * lam[held][c.row])
     return r.reshape(n, 6, nc)
 
 

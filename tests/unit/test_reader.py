@@ -566,16 +566,21 @@ def test_discrete_curve_action_errors_name_the_action(tmp_path):
         read_ifc(m.write(tmp_path / "beyond.ifc"))
 
 
-@pytest.mark.parametrize("schema", SCHEMAS)
-def test_temperature_change_of_a_restrained_beam(schema, tmp_path):
-    # a beam between two fixed supports heated by 30 K carries N = -E A alpha dT (common practice, no
-    # source); the material's name says steel, so alpha is steel's 12e-6 /K (EN 1993-1-1, 3.2.6 — from memory)
+def fixed_beam(schema):
+    """B1 from N1 (0, 0, 0) to N2 (5, 0, 0), both ends fixed; steel rectangle."""
     m = Model(schema)
     m.node("N1", (0.0, 0.0, 0.0), support=[True] * 6)
     m.node("N2", (5.0, 0.0, 0.0), support=[True] * 6)
     m.associate([m.member("B1", "N1", "N2")], m.steel(), m.rectangle())
-    g = m.case("T")
-    m.temperature_load(g, "B1", 30.0)
+    return m
+
+
+@pytest.mark.parametrize("schema", SCHEMAS)
+def test_temperature_change_of_a_restrained_beam(schema, tmp_path):
+    # a beam between two fixed supports heated by 30 K carries N = -E A alpha dT (common practice, no
+    # source); the material's name says steel, so alpha is steel's 12e-6 /K (EN 1993-1-1, 3.2.6 — from memory)
+    m = fixed_beam(schema)
+    m.temperature_load(m.case("T"), "B1", 30.0)
     model = read_ifc(m.write(tmp_path / "t.ifc"))
     fr = model.frame
     assert fr.alpha[0] == pytest.approx(12e-6)
@@ -585,10 +590,7 @@ def test_temperature_change_of_a_restrained_beam(schema, tmp_path):
 
 
 def test_temperature_gradient_is_refused(tmp_path):
-    m = Model("IFC4")
-    m.node("N1", (0.0, 0.0, 0.0), support=[True] * 6)
-    m.node("N2", (5.0, 0.0, 0.0), support=[True] * 6)
-    m.associate([m.member("B1", "N1", "N2")], m.steel(), m.rectangle())
+    m = fixed_beam("IFC4")
     m.temperature_load(m.case("T"), "B1", 10.0, delta_tz=20.0)
     with pytest.raises(IfcInputError, match=r"IfcStructuralCurveAction 'heat'.*DeltaTZ.*not supported"):
         read_ifc(m.write(tmp_path / "g.ifc"))
