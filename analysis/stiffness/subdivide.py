@@ -9,7 +9,7 @@ interior nodes of its own; axial-only bars stay whole (their geometric
 stiffness N/L and mass are exact). The pieces keep the member's axes,
 section, material and orientation; the end releases, end springs and rigid end offsets go
 to the first and last piece; member loads are split at the piece boundaries.
-Supports, springs, rigid bodies and diaphragms are untouched, so the exact
+Supports (inclined ones too), springs, rigid bodies and diaphragms are untouched, so the exact
 constraint elimination of `dofs` works on the subdivided frame as before.
 
 With the cubic elements the error of the lowest critical load and natural
@@ -126,7 +126,7 @@ def subdivide(frame: Frame, parts: int = 8) -> Subdivision:
         extensible=rep(frame.extensible), end_springs=end_springs, alpha=rep(frame.alpha),
         restraints=np.concatenate([frame.restraints, np.zeros((n_new, 6), bool)]),
         springs=np.concatenate([frame.springs, np.zeros((n_new, 6))]),
-        rigid_bodies=frame.rigid_bodies, diaphragms=frame.diaphragms,
+        rigid_bodies=frame.rigid_bodies, diaphragms=frame.diaphragms, inclined_supports=frame.inclined_supports,
         load_cases=tuple(_split_case(frame, c, L, counts, first, piece_ids) for c in frame.load_cases),
         combinations=frame.combinations,
         node_sources=frame.node_sources + (None,) * n_new,
