@@ -58,9 +58,6 @@ class SectionMap:
         for key, section in self.names:
             self._exact.setdefault(key.strip().casefold(), (key, section))
 
-    def __bool__(self) -> bool:
-        return bool(self.names) or self.default is not None
-
     def note(self, used: dict[str, int], what: str) -> str:
         """The reader's note of the entries used: ``used`` maps a key to how many ``what`` (members,
         elements) took their section from it."""
