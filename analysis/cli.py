@@ -17,7 +17,7 @@ import sys
 import time
 import traceback
 import warnings
-from typing import TYPE_CHECKING, Any, Sequence
+from typing import TYPE_CHECKING, Any, Callable, Sequence
 
 from . import cli_checks as _checks
 
@@ -580,20 +580,28 @@ def _fmt(v: float, unit: str) -> str:
 
 
 def governing(results) -> dict[str, tuple[float, str, str]]:
-    """Per action N, Vy, Vz, T, My, Mz: (signed value of largest magnitude, member id, case name)."""
+    """Per action N, Vy, Vz, T, My, Mz: (signed value of largest magnitude, member id, case name).
+
+    Ties go to the first member in the frame's order, then the first case.
+    """
+    import numpy as np
+
     from .model import ACTION_NAMES
 
     best: dict[str, tuple[float, str, str]] = {}
-    frame = results.frame
+    ids = results.frame.member_ids
     for name in results.cases:
-        for k, mid in enumerate(frame.member_ids):
-            F = results.diagram(name, k).forces
-            for a, action in enumerate(ACTION_NAMES):
-                col = F[:, a]
-                j = int(abs(col).argmax()) if col.size else 0
-                v = float(col[j]) if col.size else 0.0
-                if action not in best or abs(v) > abs(best[action][0]):
-                    best[action] = (v, mid, name)
+        forces = [results.diagram(name, k).forces for k in range(len(ids))]
+        if not forces:
+            continue
+        sizes = np.array([len(F) for F in forces])
+        F = np.concatenate(forces) if sizes.sum() else np.zeros((1, len(ACTION_NAMES)))
+        owner = np.repeat(np.arange(len(ids)), sizes) if sizes.sum() else np.zeros(1, int)
+        for a, action in enumerate(ACTION_NAMES):
+            j = int(np.abs(F[:, a]).argmax())
+            v = float(F[j, a])
+            if action not in best or abs(v) > abs(best[action][0]):
+                best[action] = (v, ids[int(owner[j])], name)
     return best
 
 
@@ -797,27 +805,47 @@ def _analyze(args, con) -> int:
                         ind, model)
         return EXIT_UNSTABLE
     outputs = []
-    from .fileio import output_set
+    from .fileio import output_set, side_outputs, side_outputs_possible
     from .ifc.writer import write_results
 
-    with output_set() as staged:  # all outputs or none: each is staged, then all are moved into place
-        con.progress("writing the IFC")
-        write_results(args.input, out, model, results, ind, overwrite=args.overwrite_input, progress=con.progress,
-                      stations=getattr(args, "stations", "extremes"))
-        outputs.append(("IFC", out))
-        if args.json:
-            con.progress(f"writing JSON: {len(results.cases)} cases of {model.frame.n_members:,} members")
-            _write_json(args.json, results.to_dict(indeterminacy=d, arrays=True))
-            outputs.append(("JSON", args.json))
-        if args.report:
+    size = f"{len(results.cases)} cases of {model.frame.n_members:,} members"
+    side: list[tuple[str, Callable[[], None]]] = []
+    if args.json:
+        side.append(("JSON", lambda: _write_json(args.json, results.to_dict(indeterminacy=d, arrays=True))))
+    if args.report:
+        def report() -> None:
             from .report import write_report
 
-            con.progress(f"writing the report: {len(results.cases)} cases of {model.frame.n_members:,} members")
             write_report(args.report, model, results, ind)
-            outputs.append(("report", args.report))
+
+        side.append(("report", report))
+    fork = None if model.frame.n_members >= SIDE_OUTPUTS_FROM else False
+    if fork is None and side and side_outputs_possible():
+        results.warm_diagrams()  # once, before the processes part, rather than once in each
+
+    def started(what: str, forked: bool) -> None:
+        con.progress(f"writing {'the report' if what == 'report' else what}{' alongside the IFC' if forked else ''}: "
+                     f"{size}")
+
+    def written(what: str, seconds: float, forked: bool) -> None:
+        if forked:
+            con.info(f"{what} written in {seconds:.2f} s alongside the IFC")
+
+    with output_set() as staged:  # all outputs or none: each is staged, then all are moved into place
+        with side_outputs(side, fork=fork, started=started, done=written):
+            con.progress("writing the IFC")
+            write_results(args.input, out, model, results, ind, overwrite=args.overwrite_input,
+                          progress=con.progress, stations=getattr(args, "stations", "extremes"))
+        outputs.append(("IFC", out))
+        outputs += [(what, args.json if what == "JSON" else args.report) for what, _ in side]
         con.written = staged.commit()
     con.say(summary_table(model, results, ind, outputs))
     return EXIT_OK
+
+
+#: from this many members the JSON and the report are written in processes of their own while this one
+#: writes the IFC (`analysis.fileio.side_outputs`); smaller runs write them in turn
+SIDE_OUTPUTS_FROM = 2000
 
 
 def _keep(args, **values) -> None:

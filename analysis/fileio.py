@@ -30,6 +30,7 @@ import re
 import shutil
 import signal
 import stat
+import sys
 import tempfile
 import time
 from collections.abc import Callable, Iterator
@@ -37,7 +38,8 @@ from dataclasses import dataclass, field
 
 from .errors import AnalysisError
 
-__all__ = ["atomic_write", "atomic_text", "output_set", "OutputSet", "remove_stale_temporaries", "is_special_file"]
+__all__ = ["atomic_write", "atomic_text", "output_set", "OutputSet", "remove_stale_temporaries", "is_special_file",
+           "side_outputs"]
 
 _PREFIX = ".plumbframe-"
 _STALE_AGE = 60.0  # seconds: a leftover younger than this is never touched (another host may be writing it)
@@ -52,9 +54,14 @@ def _host_tag() -> str:
     return hashlib.sha1(socket.gethostname().encode("utf-8", "replace")).hexdigest()[:6]
 
 
+#: the process whose id names the temporaries: a side writer (`side_outputs`) names its own after the run
+#: that commits them, so that another run never takes them for a dead writer's leftovers
+_owner_pid: int | None = None
+
+
 def _tmp_prefix() -> str:
     """``.plumbframe-<pid>@<host>-``: a later run on this host can tell whether the writer still runs."""
-    return f"{_PREFIX}{os.getpid()}@{_host_tag()}-"
+    return f"{_PREFIX}{_owner_pid or os.getpid()}@{_host_tag()}-"
 
 
 def _public_mode(path: str) -> None:
@@ -352,3 +359,164 @@ def remove_stale_temporaries(folders, now: float | None = None) -> list[str]:
                     continue
                 removed.append(path)
     return removed
+
+
+# --------------------------------------------------------------------------- outputs written alongside
+class _SideWriter:
+    """One forked process that stages outputs with `atomic_write` while the run goes on; see `side_outputs`."""
+
+    def __init__(self, what: str, work: Callable[[], None]):
+        self.what = what
+        self.seconds = 0.0
+        read_fd, write_fd = os.pipe()
+        parent = os.getpid()
+        pid = os.fork()
+        if pid == 0:  # pragma: no cover - the child's coverage is not collected (it leaves by os._exit)
+            os.close(read_fd)
+            _side_child(work, write_fd, parent)
+        os.close(write_fd)
+        self.pid, self.fd = pid, read_fd
+
+    def join(self) -> dict:
+        """Wait for the child; its report ({"ok", "staged" | "error", "seconds"})."""
+        import json
+
+        chunks = []
+        with open(self.fd, "rb") as fh:  # read to the end first: a long error would fill the pipe
+            chunks.append(fh.read())
+        _, status = os.waitpid(self.pid, 0)
+        text = b"".join(chunks).decode("utf-8", "replace")
+        try:
+            report = json.loads(text)
+        except ValueError:
+            how = (f"ended by signal {os.WTERMSIG(status)}" if os.WIFSIGNALED(status)
+                   else f"exited with status {os.waitstatus_to_exitcode(status)}")
+            report = {"ok": False, "error": f"the process writing it {how}", "seconds": 0.0}
+        self.seconds = float(report.get("seconds", 0.0))
+        return report
+
+    def cancel(self) -> None:
+        """Stop the child (it removes what it staged) and wait for it."""
+        with contextlib.suppress(OSError):
+            os.kill(self.pid, signal.SIGTERM)
+        with contextlib.suppress(OSError):
+            os.close(self.fd)
+        with contextlib.suppress(OSError, ChildProcessError):
+            os.waitpid(self.pid, 0)
+
+
+def _side_child(work: Callable[[], None], fd: int, parent: int) -> None:  # pragma: no cover - runs in the child
+    """The child of `_SideWriter`: run ``work`` in a fresh output set, hand the staged files to the parent."""
+    import json
+    import traceback
+
+    global _owner_pid
+    code = 1
+    try:
+        _owner_pid = parent
+        signal.signal(signal.SIGTERM, _raise_exit)
+        signal.signal(signal.SIGINT, _raise_exit)
+        _die_with(parent)
+        t0 = time.perf_counter()
+        with output_set() as mine:
+            work()
+            staged = [vars(s).copy() for s in mine.staged]
+            mine.staged.clear()  # the temporaries stay: the parent commits them with its own
+        report = {"ok": True, "staged": staged, "seconds": time.perf_counter() - t0}
+        code = 0
+    except AnalysisError as exc:
+        report = {"ok": False, "error": str(exc)}
+    except BaseException as exc:  # noqa: BLE001 - everything goes back to the parent as text
+        report = {"ok": False, "error": f"{type(exc).__name__}: {exc}", "trace": traceback.format_exc()}
+    try:
+        os.write(fd, json.dumps(report).encode("utf-8"))
+        os.close(fd)
+    finally:
+        os._exit(code)
+
+
+def _raise_exit(signum, frame) -> None:  # pragma: no cover - runs in the child
+    raise SystemExit(128 + signum)
+
+
+def _die_with(parent: int) -> None:  # pragma: no cover - runs in the child
+    """Have the kernel stop this child when the parent dies (Linux); then check it did not die already."""
+    import ctypes
+
+    with contextlib.suppress(OSError, AttributeError):
+        ctypes.CDLL(None, use_errno=True).prctl(1, signal.SIGTERM)  # PR_SET_PDEATHSIG
+    if os.getppid() != parent:
+        raise SystemExit(1)
+
+
+def side_outputs_possible() -> bool:
+    """Whether `side_outputs` can fork here: Linux, only the main thread running, not switched off.
+
+    ``PLUMBFRAME_SIDE_OUTPUTS=0`` writes every output in turn.
+    """
+    import threading
+
+    return (sys.platform.startswith("linux") and hasattr(os, "fork") and threading.active_count() == 1
+            and threading.current_thread() is threading.main_thread()
+            and os.environ.get("PLUMBFRAME_SIDE_OUTPUTS", "1") != "0")
+
+
+@contextlib.contextmanager
+def side_outputs(works: list[tuple[str, Callable[[], None]]], *, fork: bool | None = None,
+                 started: Callable[[str, bool], None] | None = None,
+                 done: Callable[[str, float, bool], None] | None = None) -> Iterator[None]:
+    """Stage the outputs of ``works`` (``(what, work)``) in forked processes while the block runs.
+
+    Each ``work`` writes its files with `atomic_write` as it would in this
+    process; it runs in a child forked when the block starts (a copy of the
+    run as it is then: later changes in this process are not seen), and its
+    staged temporaries join the active `output_set` when the block ends, so
+    they are committed, or removed, with the others. A failure in a child
+    is raised here as `AnalysisError` after the block; a failure in the
+    block stops the children and removes what they staged.
+
+    ``fork``: True forks, False runs each work in turn when the block ends,
+    None forks when `side_outputs_possible`. ``started(what, forked)`` is
+    called as each work starts (forked: all before the block),
+    ``done(what, seconds, forked)`` as each output is staged.
+    """
+    if fork is None:
+        fork = side_outputs_possible()
+    active = _ACTIVE.get()
+    if not fork or active is None or not works:
+        yield
+        for what, work in works:
+            if started is not None:
+                started(what, False)
+            t0 = time.perf_counter()
+            work()
+            if done is not None:
+                done(what, time.perf_counter() - t0, False)
+        return
+    writers: list[_SideWriter] = []
+    try:
+        for what, work in works:
+            if started is not None:
+                started(what, True)
+            sys.stdout.flush()
+            sys.stderr.flush()
+            writers.append(_SideWriter(what, work))
+        yield
+    except BaseException:
+        for w in writers:
+            w.cancel()
+        raise
+    failed = None
+    for w in writers:
+        report = w.join()
+        if report.get("ok"):
+            for entry in report["staged"]:
+                active.staged.append(_Staged(**entry))
+            if done is not None:
+                done(w.what, w.seconds, True)
+        elif failed is None:
+            failed = report
+    if failed is not None:
+        if "trace" in failed:  # a fault, not bad input: keep the child's traceback
+            raise RuntimeError(f"{failed['error']}\n(in the process writing it)\n{failed['trace']}")
+        raise AnalysisError(failed["error"])

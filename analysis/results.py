@@ -140,6 +140,12 @@ class Results:
             self._diagram_cache[key] = self._case_diagrams(self.case(case), n_st)
         return self._diagram_cache[key][int(k)]
 
+    def warm_diagrams(self) -> None:
+        """Compute every member's diagram of every case now (they are cached), e.g. before a fork."""
+        if self.frame.n_members:
+            for name in self.cases:
+                self.diagram(name, 0)
+
     def _case_diagrams(self, cr: CaseResult, n_st: int) -> list[MemberDiagram]:
         """All members of one case: batched closed forms where loads are uniform, quadrature elsewhere."""
         if cr.diagrams is not None:
