@@ -13,9 +13,11 @@ tower-sized processes at once):
   matrices assembled vectorised (batched 12 x 12, one COO -> CSR), the fixed-end
   forces of the line loads, PARDISO (pypardiso, SPD, both load sets as one
   block; SuperLU where pypardiso is missing) and a JSON of all displacements;
-* plumbframe: ``plumbframe analyze tower.ifc --json out.json --report r.html``
-  run in-process through ``analysis.cli.main``, each stage timed from the
-  progress messages, peak memory of the process;
+* plumbframe: ``plumbframe analyze tower.ifc --json out.json`` run in-process
+  through ``analysis.cli.main``, each stage timed from the progress messages
+  (the JSON, written by a process of its own while the IFC is written, from
+  its own message), peak memory of the process and its side writer; then
+  ``--report r.html`` alone for the report's time and size;
 * ifcopenshell's own ``file.write`` of the results IFC plumbframe wrote;
 * ``ifcopenshell.open`` + walking every item's placement chain (the reading
   baseline of bench_reader);
@@ -60,9 +62,12 @@ def _child(kind: str, *args: str, timeout: float = 3600) -> dict:
 
 
 def _peak_mb() -> float:
+    """Peak resident memory of this process plus the largest of its children (the side writers), MB."""
     import resource
 
-    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+    own = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+    children = resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss
+    return (own + children) / 1024.0
 
 
 def child_reference(path: str, out_json: str) -> dict:
@@ -208,11 +213,18 @@ def child_plumbframe(*argv: str) -> dict:
     from analysis import cli
 
     marks: list[tuple[float, str]] = []
+    aside: dict[str, float] = {}
 
     def progress(self, step: str) -> None:  # noqa: ARG001 - replaces _Console.progress for timing
         marks.append((time.perf_counter(), str(step)))
 
+    def info(self, text: str) -> None:  # noqa: ARG001 - "<what> written in S s alongside the IFC"
+        words = str(text).split()
+        if str(text).endswith("alongside the IFC") and "written" in words:
+            aside[words[0]] = float(words[words.index("in") + 1])
+
     cli._Console.progress = progress  # type: ignore[method-assign]
+    cli._Console.info = info  # type: ignore[method-assign]
     t0 = time.perf_counter()
     code = cli.main(["analyze", *argv, "-q"])
     total = time.perf_counter() - t0
@@ -220,8 +232,11 @@ def child_plumbframe(*argv: str) -> dict:
     ends = [m[0] for m in marks[1:]] + [t0 + total]
     for (start, step), end in zip(marks, ends):
         stage = next((name for prefix, name in _STAGES if step.startswith(prefix)), "other")
+        if "alongside the IFC" in step:
+            stage = "other"  # the announcement only: the writer's own time comes with its message
         stages[stage] = stages.get(stage, 0.0) + end - start
-    return {"code": code, "total": total, "stages": stages, "peak_mb": _peak_mb(), "steps": len(marks)}
+    return {"code": code, "total": total, "stages": stages, "aside": aside, "peak_mb": _peak_mb(),
+            "steps": len(marks)}
 
 
 def child_ifc_write(path: str) -> dict:
@@ -307,29 +322,34 @@ def main() -> None:
     src_hash = _sha(src)
 
     ref = _child("reference", src, os.path.join(work, "reference.json"))
-    pf = _child("plumbframe", src, "-o", out, "--json", js, "--report", report)
+    pf = _child("plumbframe", src, "-o", out, "--json", js)  # the issue's command
     assert pf["code"] == 0, pf
+    rp = _child("plumbframe", src, "-o", os.path.join(work, "again.results.ifc"), "--report", report)
+    assert rp["code"] == 0, rp
     wr = _child("ifc_write", out)
     base = _child("open_walk", src)
 
     st = pf["stages"]
-    e2e = pf["total"] - st.get("report", 0.0)
+    e2e = pf["total"]
+    json_s = pf["aside"].get("JSON", st.get("JSON", 0.0))
+    report_s = rp["aside"].get("report", rp["stages"].get("report", 0.0))
     rt = ref["times"]
     print(f"\nreference pipeline ({ref['solver']}, {ref['unknowns']} unknowns): {rt['total']:.2f} s = "
           + ", ".join(f"{k} {v:.2f}" for k, v in rt.items() if k != "total"))
-    print(f"plumbframe analyze --json (report excluded): {e2e:.2f} s; stages (share of it):")
+    print(f"plumbframe analyze --json: {e2e:.2f} s; stages (share of it):")
     for name, secs in st.items():
-        if name != "report":
-            print(f"  {name:<12} {secs:7.2f} s  {100 * secs / e2e:5.1f} %")
+        print(f"  {name:<12} {secs:7.2f} s  {100 * secs / e2e:5.1f} %")
+    for name, secs in pf["aside"].items():
+        print(f"  {name:<12} {secs:7.2f} s  written alongside the IFC by a process of its own")
     size_out = os.path.getsize(out)
     rows = [
         ("end to end / reference", e2e / rt["total"], 2.0),
         ("reading / (open + placements)", st.get("reading", 0.0) / base["baseline"], 2.0),
         ("writing IFC / ifcopenshell write of it", st.get("writing IFC", 0.0) / wr["write"], 1.5),
         ("results IFC size / input size", size_out / size_in, 2.0),
-        ("JSON writing [s]", st.get("JSON", 0.0), 2.0),
+        ("JSON writing [s]", json_s, 2.0),
         ("peak memory [GB]", pf["peak_mb"] / 1024, 4.0),
-        ("report [s]", st.get("report", 0.0), 30.0),
+        ("report [s]", report_s, 30.0),
         ("report [MB]", os.path.getsize(report) / 1e6, 20.0),
     ]
     print(f"\nresults IFC {size_out / 1e6:.1f} MB ({wr['entities']:,} entities; ifcopenshell writes it in "

@@ -27,6 +27,7 @@ __all__ = ["SIGNIFICANT_DIGITS", "real", "reals", "string", "ref", "refs", "enum
 #: Significant digits of every number the bulk writer formats.
 SIGNIFICANT_DIGITS = 12
 _FMT = f"{{:.{SIGNIFICANT_DIGITS}g}}"
+_PCT = f"%.{SIGNIFICANT_DIGITS}g,"  # the same format for one %-operation over many values (faster than map)
 
 
 def real(x: float) -> str:
@@ -52,7 +53,7 @@ def reals(values: Any) -> list[str]:
     flat = np.asarray(values, dtype=float).ravel()
     if flat.size == 0:
         return []
-    tokens = ",".join(map(_FMT.format, flat.tolist())).replace("e", "E").split(",")
+    tokens = ((_PCT * flat.size) % tuple(flat.tolist()))[:-1].replace("e", "E").split(",")
     return [t if "." in t else _fix(t) for t in tokens]
 
 
