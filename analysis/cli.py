@@ -835,7 +835,7 @@ def _analyze(args, con) -> int:
         with side_outputs(side, fork=fork, started=started, done=written):
             con.progress("writing the IFC")
             write_results(args.input, out, model, results, ind, overwrite=args.overwrite_input,
-                          progress=con.progress, stations=getattr(args, "stations", "extremes"))
+                          progress=con.progress, stations=getattr(args, "stations", "extremes"), fork=fork)
         outputs.append(("IFC", out))
         outputs += [(what, args.json if what == "JSON" else args.report) for what, _ in side]
         con.written = staged.commit()
@@ -844,7 +844,8 @@ def _analyze(args, con) -> int:
 
 
 #: from this many members the JSON and the report are written in processes of their own while this one
-#: writes the IFC (`analysis.fileio.side_outputs`); smaller runs write them in turn
+#: writes the IFC (`analysis.fileio.side_outputs`), and the IFC's curve reactions are formatted in another
+#: while this one makes the property sets; smaller runs do it all in turn
 SIDE_OUTPUTS_FROM = 2000
 
 

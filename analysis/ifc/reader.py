@@ -946,7 +946,7 @@ class _StructuralReader:
                         if on_member is not None and on_member.id() in (vid, getattr(v, "VertexGeometry", v).id()):
                             chosen[k], conns[k] = n, conn
                             break
-        chord = float(np.linalg.norm(p[1] - p[0]))  # m
+        chord = math.dist(p[0].tolist(), p[1].tolist())  # m
         L_tol = 1e-6 * max(1.0, chord)
         for k in (0, 1):
             if chosen[k] is None:
@@ -1319,14 +1319,14 @@ class _StructuralReader:
         A material that stays unknown is recorded by the resolver in ``material_cache['resolver']``
         (its ``raise_unknown`` reports them all); the member then gets a placeholder.
         """
-        from .materials import MaterialResolver
-
         done = material_cache.setdefault("members", {})
         found = done.get(member.id())
         if found is not None:
             return found
         resolver = material_cache.get("resolver")
         if resolver is None:
+            from .materials import MaterialResolver
+
             resolver = material_cache["resolver"] = MaterialResolver(self.f, self.s, self.defaults)
         material, diags = resolver.material(member, need_density=need_density, need_shear=not truss,
                                             key=self._shared_key(member))

@@ -164,12 +164,17 @@ class EntityTemplates:
 
 
 class StepLines:
-    """Numbered DATA lines after ``first_id``; `add` returns the id of the new entity."""
+    """Numbered DATA lines after ``first_id``; `add` returns the id of the new entity.
+
+    ``lines`` holds complete lines (str) and deferred pieces: objects whose
+    ``chunks()`` give the text (str or bytes) of ids handed out by `block`
+    (see `later`).
+    """
 
     def __init__(self, first_id: int) -> None:
         self.first_id = first_id
         self.next_id = first_id
-        self.lines: list[str] = []
+        self.lines: list[Any] = []
 
     def add(self, body: str) -> int:
         eid = self.next_id
@@ -178,7 +183,7 @@ class StepLines:
         return eid
 
     def block(self, n: int) -> int:
-        """The first of ``n`` consecutive ids for lines added later with `extend`."""
+        """The first of ``n`` consecutive ids for lines added later with `extend` or `later`."""
         first = self.next_id
         self.next_id += n
         return first
@@ -186,6 +191,10 @@ class StepLines:
     def extend(self, lines: list[str]) -> None:
         """Complete lines (``#id=BODY;\\n``) for ids handed out by `block` or `reserve`."""
         self.lines.extend(lines)
+
+    def later(self, piece: Any) -> None:
+        """Lines made when the file is written: ``piece.chunks()`` gives their text (ids from `block`)."""
+        self.lines.append(piece)
 
     def reserve(self) -> int:
         """An id for an entity whose line is written later with `put`."""
@@ -197,7 +206,8 @@ class StepLines:
         self.lines.append(f"#{eid}={body};\n")
 
     def __len__(self) -> int:
-        return len(self.lines)
+        """The entities written or handed out so far."""
+        return self.next_id - self.first_id
 
 
 _TAIL = 4096
@@ -221,11 +231,18 @@ def append_data(path: str, chunks: Iterable[str]) -> None:
         fh.write(rest)
 
 
-def _write_chunks(fh, chunks: Iterable[str]) -> None:
-    """ASCII text pieces to a binary file, joined into writes of a few MB."""
+def _write_chunks(fh, chunks: Iterable[Any]) -> None:
+    """ASCII text pieces (and deferred pieces, see `StepLines.later`) to a binary file, in writes of a few MB."""
     buf: list[str] = []
     n = 0
     for chunk in chunks:
+        if not isinstance(chunk, str):  # a deferred piece (`StepLines.later`)
+            if buf:
+                fh.write("".join(buf).encode("ascii"))
+                buf, n = [], 0
+            for part in chunk.chunks():
+                fh.write(part if isinstance(part, bytes) else part.encode("ascii"))
+            continue
         buf.append(chunk)
         n += len(chunk)
         if n > 1 << 22:

@@ -49,11 +49,13 @@ changed file and the bulk is appended to it. Numbers carry
 """
 from __future__ import annotations
 
+import contextlib
 import datetime as _dt
 import itertools
 import logging
 import math
 import os
+import signal
 from collections import defaultdict
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
@@ -142,7 +144,8 @@ def idealisation_text(results) -> str:
 
 # --------------------------------------------------------------------------- entry point
 def write_results(source_path, out_path, model, results, indeterminacy=None, *, overwrite: bool = False,
-                  date: _dt.datetime | None = None, progress=None, stations: str = "extremes") -> WriteSummary:
+                  date: _dt.datetime | None = None, progress=None, stations: str = "extremes",
+                  fork: bool | None = False) -> WriteSummary:
     """Write ``results`` into a copy of ``source_path`` at ``out_path``.
 
     Parameters
@@ -157,6 +160,10 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
     progress : optional callable(step: str).
     stations : the stations of the curve reactions: 'ends', 'extremes' (default) or 'all'
         (see `analysis.stations`); the property sets and the JSON always use every station.
+    fork : format the curve reactions in a forked process while the property sets are
+        made (the same bytes, sooner on a machine with a spare core): True, False
+        (default: in this process), None (where `side_text_possible`). Never from
+        inside an application that cannot be forked safely (Blender).
 
     Returns
     -------
@@ -207,15 +214,20 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
     say("removing earlier results")
     w.removed = remove_earlier_results(f, keep_derived=getattr(model, "route", "structural") == "structural")
     say("writing results")
-    w.run()
-    say(f"writing IFC: saving {len(w.out):,} new entities")
-    splice = None
-    if not w.removed:  # nothing of the source went: its text is copied and only the changed entities rewritten
-        splice = _Splice(source_path, sha256,
-                         {ent.id(): (ent.is_a(), ent.to_string(True) + ";")
-                          for ent in (f.by_id(eid) for eid in sorted(w.modified) if eid <= source_max)},
-                         [f"{e.to_string(True)};\n" for e in _created(f, source_max + 1, w.out.first_id)])
-    _atomic_write(f, out_path, w.out.lines, splice)
+    w.fork = side_text_possible() if fork is None else bool(fork and hasattr(os, "memfd_create"))
+    try:
+        w.run()
+        say(f"writing IFC: saving {len(w.out):,} new entities")
+        splice = None
+        if not w.removed:  # nothing of the source went: its text is copied and only the changed entities rewritten
+            splice = _Splice(source_path, sha256,
+                             {ent.id(): (ent.is_a(), ent.to_string(True) + ";")
+                              for ent in (f.by_id(eid) for eid in sorted(w.modified) if eid <= source_max)},
+                             [f"{e.to_string(True)};\n" for e in _created(f, source_max + 1, w.out.first_id)])
+        _atomic_write(f, out_path, w.out.lines, splice)
+    finally:
+        if w.side is not None:
+            w.side.close()
     return w.summary(out_path)
 
 
@@ -432,6 +444,9 @@ class _Writer:
         self.say = say or (lambda step: None)
         self.derived = False
         self._by_guid: dict[str, Any] = {}
+        self.fork = False  # format the curve reactions in a forked process (`_SideText`)
+        self._curve_jobs: list[_CurveLines] = []
+        self.side: _SideText | None = None
 
     # -- small factories -------------------------------------------------------
     def _guid(self) -> str:
@@ -502,6 +517,8 @@ class _Writer:
         if self.derived:
             self._derive_model()
         self._write_results(groups)
+        if self.fork and self._curve_jobs:  # their text is made alongside the property sets
+            self.side = _SideText(self._curve_jobs)
         self.say(f"writing IFC: property sets, {len(self.out):,} entities")
         self._write_member_psets()
         self._write_support_psets()
@@ -869,24 +886,18 @@ class _Writer:
     def _activities(self, ifc_class: str, names: list[str], loads: list[int], coords: str, items: list[str],
                     tag: str, predefined: str | None = None) -> list[int]:
         """Reactions (one per load) with their IfcRelConnectsStructuralActivity to ``items``; returns their ids."""
-        from .step import new_guids
-
         n = len(loads)
+        fmt, rel = self._activity_formats(ifc_class, predefined)
+        first = self.out.block(2 * n)
+        self.out.extend(_activity_lines(fmt, rel, first, self._owner_ref, names, tag, loads, coords, items,
+                                        (predefined,) if predefined else ()))
+        return list(range(first, first + 2 * n, 2))
+
+    def _activity_formats(self, ifc_class: str, predefined: str | None) -> tuple[str, str]:
         keys = ("GlobalId", "OwnerHistory", "Name", "Description", "AppliedLoad", "GlobalOrLocal") + \
             (("PredefinedType",) if predefined else ())
-        fmt = self._line(ifc_class, keys)
-        rel = self._line("IfcRelConnectsStructuralActivity", ("GlobalId", "OwnerHistory", "RelatingElement",
-                                                               "RelatedStructuralActivity"))
-        guids = new_guids(2 * n)
-        first = self.out.block(2 * n)
-        owner = self._owner_ref
-        extra = (predefined,) if predefined else ()
-        lines = [f"#{first + 2 * j}="
-                 f"{fmt % (repr_guid(guids[2 * j]), owner, names[j], tag, f'#{loads[j]}', coords, *extra)};\n"
-                 f"#{first + 2 * j + 1}={rel % (repr_guid(guids[2 * j + 1]), owner, items[j], f'#{first + 2 * j}')};\n"
-                 for j in range(n)]
-        self.out.extend(lines)
-        return list(range(first, first + 2 * n, 2))
+        return self._line(ifc_class, keys), self._line("IfcRelConnectsStructuralActivity", (
+            "GlobalId", "OwnerHistory", "RelatingElement", "RelatedStructuralActivity"))
 
     def _curve_results(self, case: str, chains: dict, tag: str) -> list[int]:
         """Internal forces and deflections of every IFC curve member at the chosen stations (`analysis.stations`)."""
@@ -919,37 +930,24 @@ class _Writer:
         total_f, total_d = int(keep_f.sum()), int(keep_d.sum())
         fs = np.array([u.force] * 3 + [u.moment] * 3)
         self.say(f"writing IFC: {case}: {total_f:,} force and {total_d:,} deflection stations of {len(chains):,} members")
-        where_f = [f"({t})" for t in reals(S[keep_f] / u.length)]
-        where_d = [f"({t})" for t in reals(S[keep_d] / u.length)]
-        tok_f = reals(F[keep_f] / fs)
-        tok_d = reals(D[keep_d] / u.length)
-        force_fmt = self._line("IfcStructuralLoadSingleForce", ("ForceX", "ForceY", "ForceZ", "MomentX", "MomentY",
-                                                                 "MomentZ"))
-        defl_fmt = self._line("IfcStructuralLoadSingleDisplacement", ("DisplacementY", "DisplacementZ"))
-        f0 = out.block(total_f)
-        out.extend([f"#{f0 + j}={force_fmt % tuple(tok_f[6 * j:6 * j + 6])};\n" for j in range(total_f)])
-        d0 = out.block(total_d)
-        out.extend([f"#{d0 + j}={defl_fmt % (tok_d[2 * j], tok_d[2 * j + 1])};\n" for j in range(total_d)])
-        config_fmt = self._line("IfcStructuralLoadConfiguration", ("Name", "Values", "Locations"))
-        names = {what: string(f"{case}: {what}") for what in ("internal forces", "deflections")}
         n_items = len(starts_f) - 1
-        c0 = out.block(2 * n_items)
-        lines: list[str] = []
-        items, labels = [], []
-        refs_f = [f"#{f0 + x}" for x in range(total_f)]
-        refs_d = [f"#{d0 + x}" for x in range(total_d)]
-        kinds = (("internal forces", refs_f, where_f, starts_f), ("deflections", refs_d, where_d, starts_d))
-        for j, (ref, label) in enumerate(self._chain_labels(chains)):
-            for w, (what, refs, where, starts) in enumerate(kinds):
-                a, b = starts[j], starts[j + 1]
-                lines.append(f"#{c0 + 2 * j + w}={config_fmt % (names[what], '(' + ','.join(refs[a:b]) + ')', '(' + ','.join(where[a:b]) + ')')};\n")
-                labels.append(label[w])
-                items.append(ref)
-        out.extend(lines)
-        result = self._activities("IfcStructuralCurveReaction", labels, list(range(c0, c0 + 2 * n_items)),
-                                  ".LOCAL_COORDS.", items, tag, predefined=".DISCRETE.")
-        self.counts["curve"] += len(result)
-        return result
+        first = out.block(total_f + total_d + 6 * n_items)  # loads, configurations, reactions with their relations
+        chain = self._chain_labels(chains)
+        job = _CurveLines(
+            where_f=S[keep_f] / u.length, where_d=S[keep_d] / u.length, forces=F[keep_f] / fs,
+            deflections=D[keep_d] / u.length, starts_f=starts_f, starts_d=starts_d, first=first,
+            names=(string(f"{case}: internal forces"), string(f"{case}: deflections")),
+            items=[ref for ref, _ in chain], labels=[label for _, label in chain], owner=self._owner_ref, tag=tag,
+            force_fmt=self._line("IfcStructuralLoadSingleForce", ("ForceX", "ForceY", "ForceZ", "MomentX", "MomentY",
+                                                                 "MomentZ")),
+            defl_fmt=self._line("IfcStructuralLoadSingleDisplacement", ("DisplacementY", "DisplacementZ")),
+            config_fmt=self._line("IfcStructuralLoadConfiguration", ("Name", "Values", "Locations")),
+            activity_fmts=self._activity_formats("IfcStructuralCurveReaction", ".DISCRETE."))
+        out.later(job)
+        self._curve_jobs.append(job)
+        a0 = job.first_reaction
+        self.counts["curve"] += 2 * n_items
+        return list(range(a0, a0 + 4 * n_items, 2))
 
     def _member_chains(self) -> dict[Any, list[tuple[int, float]]]:
         """Per IFC curve member: its frame members with their start distance along it (m)."""
@@ -1213,6 +1211,171 @@ class _Writer:
         if not props:
             return
         self._pset("PF_StabilityAndModes", [self.analysis_model], props + self._common())
+
+
+def _activity_lines(fmt: str, rel: str, first: int, owner: str, names: list[str], tag: str, loads: list[int],
+                    coords: str, items: list[str], extra: tuple[str, ...]) -> list[str]:
+    """STEP lines of reactions (one per load, ids from ``first``), each followed by its
+    IfcRelConnectsStructuralActivity to the item it acts on."""
+    from .step import new_guids
+
+    guids = new_guids(2 * len(loads))
+    return [f"#{first + 2 * j}={fmt % (repr_guid(guids[2 * j]), owner, names[j], tag, f'#{loads[j]}', coords, *extra)};\n"
+            f"#{first + 2 * j + 1}={rel % (repr_guid(guids[2 * j + 1]), owner, items[j], f'#{first + 2 * j}')};\n"
+            for j in range(len(loads))]
+
+
+@dataclass
+class _CurveLines:
+    """The STEP lines of one result set's curve reactions, for ids handed out already (see `_curve_results`).
+
+    In id order: the force loads, the deflection loads, two load
+    configurations per IFC member, then its two reactions, each with its
+    relation to the member. The text is made when the file is written, or
+    ahead of that by a forked process (`_SideText`).
+    """
+
+    where_f: np.ndarray  # (stations,) along the member, file units
+    where_d: np.ndarray
+    forces: np.ndarray  # (stations, 6) file units
+    deflections: np.ndarray  # (stations, 2)
+    starts_f: list[int]  # per member, into the force stations; one more than members
+    starts_d: list[int]
+    first: int
+    names: tuple[str, str]  # STEP strings of the two configurations' names
+    items: list[str]  # '#id' of each IFC curve member
+    labels: list[tuple[str, str]]  # STEP strings of its two reactions' names
+    owner: str
+    tag: str
+    force_fmt: str
+    defl_fmt: str
+    config_fmt: str
+    activity_fmts: tuple[str, str]
+    side: Any = None  # (the _SideText making this text, its file descriptor)
+
+    @property
+    def first_reaction(self) -> int:
+        return self.first + len(self.forces) + len(self.deflections) + 2 * len(self.items)
+
+    def lines(self) -> list[str]:
+        from .step import reals
+
+        f0, total_f, total_d = self.first, len(self.forces), len(self.deflections)
+        d0 = f0 + total_f
+        c0 = d0 + total_d
+        where_f = [f"({t})" for t in reals(self.where_f)]
+        where_d = [f"({t})" for t in reals(self.where_d)]
+        tok_f, tok_d = reals(self.forces), reals(self.deflections)
+        force_fmt, defl_fmt, config_fmt, names = self.force_fmt, self.defl_fmt, self.config_fmt, self.names
+        lines = [f"#{f0 + j}={force_fmt % tuple(tok_f[6 * j:6 * j + 6])};\n" for j in range(total_f)]
+        lines += [f"#{d0 + j}={defl_fmt % (tok_d[2 * j], tok_d[2 * j + 1])};\n" for j in range(total_d)]
+        refs_f = [f"#{f0 + x}" for x in range(total_f)]
+        refs_d = [f"#{d0 + x}" for x in range(total_d)]
+        kinds = ((refs_f, where_f, self.starts_f), (refs_d, where_d, self.starts_d))
+        items, labels = [], []
+        for j, (ref, label) in enumerate(zip(self.items, self.labels)):
+            for w, (refs, where, starts) in enumerate(kinds):
+                a, b = starts[j], starts[j + 1]
+                lines.append(f"#{c0 + 2 * j + w}={config_fmt % (names[w], '(' + ','.join(refs[a:b]) + ')', '(' + ','.join(where[a:b]) + ')')};\n")
+                labels.append(label[w])
+                items.append(ref)
+        fmt, rel = self.activity_fmts
+        lines += _activity_lines(fmt, rel, self.first_reaction, self.owner, labels, self.tag,
+                                 list(range(c0, c0 + len(labels))), ".LOCAL_COORDS.", items, (".DISCRETE.",))
+        return lines
+
+    def chunks(self):
+        """The text, as `analysis.ifc.step` writes it (str or bytes pieces)."""
+        if self.side is not None:
+            side, fd = self.side
+            yield from side.chunks(fd)
+        else:
+            yield "".join(self.lines())
+
+
+class SideProcessFault(Exception):
+    """A forked helper of the writer failed: a fault of the program, not of the input or the disk."""
+
+
+class _SideText:
+    """The text of `_CurveLines` jobs, made by a forked process while the writer goes on (Linux).
+
+    Each job's text goes into an anonymous in-memory file; the writer reads
+    it when it writes the file, after the process has ended well. A failure
+    there is raised in the writer; `close` stops the process if the writer
+    gives up first.
+    """
+
+    def __init__(self, jobs: list[_CurveLines]) -> None:
+        from ..fileio import _die_with
+
+        self.fds = [os.memfd_create(f"plumbframe-curve-reactions-{k}") for k in range(len(jobs))]
+        read_fd, write_fd = os.pipe()
+        parent = os.getpid()
+        pid = os.fork()
+        if pid == 0:  # pragma: no cover - the child's coverage is not collected (it leaves by os._exit)
+            code = 1
+            try:
+                os.close(read_fd)
+                _die_with(parent)
+                for job, fd in zip(jobs, self.fds):
+                    view = memoryview("".join(job.lines()).encode("ascii"))
+                    while view:
+                        view = view[os.write(fd, view):]
+                code = 0
+            except BaseException:  # noqa: BLE001 - the traceback goes back to the writer
+                import traceback
+
+                with contextlib.suppress(OSError):
+                    os.write(write_fd, traceback.format_exc().encode("utf-8", "replace")[-16000:])
+            finally:
+                os._exit(code)
+        os.close(write_fd)
+        self.pid, self.err_fd = pid, read_fd
+        self.status: int | None = None
+        for job, fd in zip(jobs, self.fds):
+            job.side = (self, fd)
+
+    def _wait(self) -> None:
+        if self.status is not None:
+            return
+        with open(self.err_fd, "rb") as fh:
+            err = fh.read().decode("utf-8", "replace")
+        _, self.status = os.waitpid(self.pid, 0)
+        if self.status != 0:
+            how = (f"ended by signal {os.WTERMSIG(self.status)}" if os.WIFSIGNALED(self.status)
+                   else f"failed (status {os.waitstatus_to_exitcode(self.status)})")
+            raise SideProcessFault(f"the process formatting the curve reactions {how}" + (f":\n{err}" if err else ""))
+
+    def chunks(self, fd: int):
+        self._wait()
+        os.lseek(fd, 0, os.SEEK_SET)
+        while True:
+            data = os.read(fd, 1 << 22)
+            if not data:
+                return
+            yield data
+
+    def close(self) -> None:
+        """Stop the process if it still runs; free the in-memory files."""
+        if self.status is None:
+            with contextlib.suppress(OSError):
+                os.kill(self.pid, signal.SIGKILL)
+            with contextlib.suppress(OSError, ChildProcessError):
+                _, self.status = os.waitpid(self.pid, 0)
+            with contextlib.suppress(OSError):
+                os.close(self.err_fd)
+        for fd in self.fds:
+            with contextlib.suppress(OSError):
+                os.close(fd)
+        self.fds = []
+
+
+def side_text_possible() -> bool:
+    """Whether the writer may fork a formatter (`_SideText`): as for the CLI's side outputs, and memfd."""
+    from ..fileio import side_outputs_possible
+
+    return hasattr(os, "memfd_create") and side_outputs_possible()
 
 
 def repr_guid(guid: str) -> str:

@@ -152,3 +152,54 @@ def test_cli_side_outputs_write_what_the_serial_run_writes(tmp_path, capsys, mon
     assert csv and csv == sorted(n for n in os.listdir(outs["side"]) if n.endswith(".csv"))
     for name in csv:
         assert (outs["serial"] / name).read_bytes() == (outs["side"] / name).read_bytes(), name
+
+
+# --------------------------------------------------------------------------- the IFC writer's own side process
+def _portal(tmp_path):
+    from analysis.ifc.reader import read_ifc
+    from analysis.samples import write_sample
+    from analysis.stiffness.analyze import analyze
+
+    src = str(write_sample("workshop_portal", str(tmp_path / "W.ifc")))
+    model = read_ifc(src)
+    return src, model, analyze(model.frame)
+
+
+def _without_guids(data: bytes) -> bytes:
+    import re
+
+    return re.sub(rb"'[0-9A-Za-z_$]{22}'", b"'GUID'", data)
+
+
+def test_curve_reactions_formatted_aside_are_the_same_bytes(tmp_path):
+    import datetime as dt
+
+    from analysis.ifc.writer import write_results
+
+    src, model, results = _portal(tmp_path)
+    date = dt.datetime(2026, 12, 3, 12, 0, tzinfo=dt.timezone.utc)
+    texts = {}
+    for fork in (False, True):
+        out = tmp_path / f"out-{fork}.ifc"
+        summary = write_results(src, str(out), model, results, date=date, fork=fork)
+        assert summary.curve_reactions > 0
+        texts[fork] = out.read_bytes()
+    assert b"IFCSTRUCTURALCURVEREACTION" in texts[True]
+    assert _without_guids(texts[True]) == _without_guids(texts[False])
+    assert leftovers(tmp_path) == []
+
+
+def test_a_failing_curve_formatter_leaves_no_output(tmp_path, monkeypatch):
+    from analysis.ifc import writer
+
+    src, model, results = _portal(tmp_path)
+
+    def broken(self):
+        raise ValueError("formatter broke")
+
+    monkeypatch.setattr(writer._CurveLines, "lines", broken)  # the forked process has the same class
+    out = tmp_path / "out.ifc"
+    with pytest.raises(writer.SideProcessFault, match=r"formatting the curve reactions failed(.|\n)*formatter broke"):
+        writer.write_results(src, str(out), model, results, fork=True)
+    assert not out.exists()
+    assert leftovers(tmp_path) == []
