@@ -30,16 +30,28 @@ SCHEMA = "plumbframe.results/1"
 def member_properties(frame: Frame, k: int) -> dict:
     """The ``material`` and ``section`` entries of member ``k`` in the results JSON (SI, with their sources), and
     ``end_springs`` (N*m/rad per end and action) where the member has semi-rigid ends."""
-    out = {
-        "material": {"name": frame.material_names[k], "E": float(frame.E[k]), "G": float(frame.G[k]),
-                     "density": float(frame.density[k]), "source": frame.material_sources[k]},
-        "section": {"name": frame.section_names[k], "A": float(frame.A[k]), "Iy": float(frame.Iy[k]),
-                    "Iz": float(frame.Iz[k]), "J": float(frame.J[k]), "source": frame.section_sources[k]},
-    }
-    springs = frame.end_springs[k]
-    if springs.any():
-        out["end_springs"] = {end: {ACTION_NAMES[c]: float(springs[e, c]) for c in range(6) if springs[e, c] > 0}
-                              for e, end in enumerate(("i", "j")) if springs[e].any()}
+    return _member_property_entries(frame, np.array([k]))[0]
+
+
+def _member_property_entries(frame: Frame, ks: np.ndarray) -> list[dict]:
+    """`member_properties` of the members ``ks``, their numbers read from whole columns."""
+    ks = np.asarray(ks, dtype=np.intp)
+    E, G, rho, A, Iy, Iz, J = (np.asarray(a, float)[ks].tolist() for a in
+                               (frame.E, frame.G, frame.density, frame.A, frame.Iy, frame.Iz, frame.J))
+    out = []
+    for n, k in enumerate(ks.tolist()):
+        entry = {
+            "material": {"name": frame.material_names[k], "E": E[n], "G": G[n], "density": rho[n],
+                         "source": frame.material_sources[k]},
+            "section": {"name": frame.section_names[k], "A": A[n], "Iy": Iy[n], "Iz": Iz[n], "J": J[n],
+                        "source": frame.section_sources[k]},
+        }
+        out.append(entry)
+    sprung = np.flatnonzero(frame.end_springs[ks].any(axis=(1, 2))) if len(ks) else []
+    for n in sprung:
+        springs = frame.end_springs[ks[n]]
+        out[n]["end_springs"] = {end: {ACTION_NAMES[c]: float(springs[e, c]) for c in range(6) if springs[e, c] > 0}
+                                 for e, end in enumerate(("i", "j")) if springs[e].any()}
     return out
 
 
@@ -295,9 +307,10 @@ class Results:
             "nodes": {nid: {"xyz": xyz, "source": src}
                       for nid, xyz, src in zip(frame.node_ids, frame.nodes.tolist(), frame.node_sources)},
             "members": {mid: {"nodes": [frame.node_ids[i], frame.node_ids[j]], "length": length,
-                              "source": frame.member_sources[k], **member_properties(frame, k)}
-                        for k, (mid, (i, j), length) in enumerate(zip(frame.member_ids, frame.members.tolist(),
-                                                                       np.asarray(self.L, float).tolist()))},
+                              "source": frame.member_sources[k], **props}
+                        for k, (mid, (i, j), length, props) in enumerate(zip(
+                            frame.member_ids, frame.members.tolist(), np.asarray(self.L, float).tolist(),
+                            _member_property_entries(frame, np.arange(frame.n_members))))},
         }
         if indeterminacy is not None:
             doc["indeterminacy"] = indeterminacy
