@@ -47,7 +47,7 @@ def _member_property_entries(frame: Frame, ks: np.ndarray) -> list[dict]:
                         "source": frame.section_sources[k]},
         }
         out.append(entry)
-    sprung = np.flatnonzero(frame.end_springs[ks].any(axis=(1, 2))) if len(ks) else []
+    sprung: list[int] = np.flatnonzero(frame.end_springs[ks].any(axis=(1, 2))).tolist() if len(ks) else []
     for n in sprung:
         springs = frame.end_springs[ks[n]]
         out[n]["end_springs"] = {end: {ACTION_NAMES[c]: float(springs[e, c]) for c in range(6) if springs[e, c] > 0}
