@@ -834,12 +834,12 @@ def _analyze(args, con) -> int:
     with output_set() as staged:  # all outputs or none: each is staged, then all are moved into place
         with side_outputs(side, fork=fork, started=started, done=written):
             con.progress("writing the IFC")
-            write_results(args.input, out, model, results, ind, overwrite=args.overwrite_input,
+            write_results(args.input, out, model, results, d, overwrite=args.overwrite_input,
                           progress=con.progress, stations=getattr(args, "stations", "extremes"), fork=fork)
         outputs.append(("IFC", out))
         outputs += [(what, args.json if what == "JSON" else args.report) for what, _ in side]
         con.written = staged.commit()
-    con.say(summary_table(model, results, ind, outputs))
+    con.say(summary_table(model, results, d, outputs))  # the counts as a document: made once (d)
     return EXIT_OK
 
 

@@ -152,6 +152,11 @@ def test_cli_side_outputs_write_what_the_serial_run_writes(tmp_path, capsys, mon
     assert csv and csv == sorted(n for n in os.listdir(outs["side"]) if n.endswith(".csv"))
     for name in csv:
         assert (outs["serial"] / name).read_bytes() == (outs["side"] / name).read_bytes(), name
+    import re
+
+    stamp = re.compile(rb"\d{4}-\d\d-\d\d[ T]\d\d:\d\d(:\d\d)?")  # the time of the run
+    html = [stamp.sub(b"DATE", (outs[m] / "r.html").read_bytes()) for m in ("serial", "side")]
+    assert html[0] == html[1]
 
 
 # --------------------------------------------------------------------------- the IFC writer's own side process
