@@ -24,6 +24,7 @@ from __future__ import annotations
 import contextlib
 import contextvars
 import errno
+import functools
 import glob
 import os
 import re
@@ -39,7 +40,7 @@ from dataclasses import dataclass, field
 from .errors import AnalysisError
 
 __all__ = ["atomic_write", "atomic_text", "output_set", "OutputSet", "remove_stale_temporaries", "is_special_file",
-           "side_outputs"]
+           "side_outputs", "side_outputs_possible", "ForkedCall"]
 
 _PREFIX = ".plumbframe-"
 _STALE_AGE = 60.0  # seconds: a leftover younger than this is never touched (another host may be writing it)
@@ -361,68 +362,72 @@ def remove_stale_temporaries(folders, now: float | None = None) -> list[str]:
     return removed
 
 
-# --------------------------------------------------------------------------- outputs written alongside
-class _SideWriter:
-    """One forked process that stages outputs with `atomic_write` while the run goes on; see `side_outputs`."""
+# --------------------------------------------------------------------------- work done alongside
+class ForkedCall:
+    """``body()`` run by a forked process while this one goes on (Linux); `join` gives its report.
 
-    def __init__(self, what: str, work: Callable[[], None]):
-        self.what = what
-        self.seconds = 0.0
+    ``body`` returns a JSON-able dict; the report is that dict with
+    ``"ok": True``, or ``{"ok": False, "error": text}`` when it raised an
+    `AnalysisError`, with ``"trace"`` added for any other exception (a fault)
+    or a process that ended without reporting. The child stops when this
+    process dies, and SIGTERM or SIGINT make it leave through Python (its
+    ``finally`` blocks run), as `cancel` relies on.
+    """
+
+    def __init__(self, body: Callable[[], dict], doing: str):
+        self.doing = doing  # what the process does, for its messages: "writing the JSON"
         read_fd, write_fd = os.pipe()
         parent = os.getpid()
         pid = os.fork()
         if pid == 0:  # pragma: no cover - the child's coverage is not collected (it leaves by os._exit)
             os.close(read_fd)
-            _side_child(work, write_fd, parent)
+            _forked_child(body, write_fd, parent)
         os.close(write_fd)
         self.pid, self.fd = pid, read_fd
+        self.report: dict | None = None
 
     def join(self) -> dict:
-        """Wait for the child; its report ({"ok", "staged" | "error", "seconds"})."""
+        """Wait for the child (once); its report."""
         import json
 
-        chunks = []
+        if self.report is not None:
+            return self.report
         with open(self.fd, "rb") as fh:  # read to the end first: a long error would fill the pipe
-            chunks.append(fh.read())
+            text = fh.read().decode("utf-8", "replace")
         _, status = os.waitpid(self.pid, 0)
-        text = b"".join(chunks).decode("utf-8", "replace")
         try:
             report = json.loads(text)
         except ValueError:
             how = (f"ended by signal {os.WTERMSIG(status)}" if os.WIFSIGNALED(status)
                    else f"exited with status {os.waitstatus_to_exitcode(status)}")
-            report = {"ok": False, "error": f"the process writing it {how}", "seconds": 0.0}
-        self.seconds = float(report.get("seconds", 0.0))
+            report = {"ok": False, "error": f"the process {self.doing} {how}"}
+        self.report = report
         return report
 
     def cancel(self) -> None:
-        """Stop the child (it removes what it staged) and wait for it."""
+        """Stop the child if it still runs, and wait for it."""
+        if self.report is not None:
+            return
         with contextlib.suppress(OSError):
             os.kill(self.pid, signal.SIGTERM)
         with contextlib.suppress(OSError):
             os.close(self.fd)
         with contextlib.suppress(OSError, ChildProcessError):
             os.waitpid(self.pid, 0)
+        self.report = {"ok": False, "error": "stopped"}
 
 
-def _side_child(work: Callable[[], None], fd: int, parent: int) -> None:  # pragma: no cover - runs in the child
-    """The child of `_SideWriter`: run ``work`` in a fresh output set, hand the staged files to the parent."""
+def _forked_child(body: Callable[[], dict], fd: int, parent: int) -> None:  # pragma: no cover - runs in the child
+    """The child of `ForkedCall`: run ``body``, send its report to the parent, leave without clean-up."""
     import json
     import traceback
 
-    global _owner_pid
     code = 1
     try:
-        _owner_pid = parent
         signal.signal(signal.SIGTERM, _raise_exit)
         signal.signal(signal.SIGINT, _raise_exit)
         _die_with(parent)
-        t0 = time.perf_counter()
-        with output_set() as mine:
-            work()
-            staged = [vars(s).copy() for s in mine.staged]
-            mine.staged.clear()  # the temporaries stay: the parent commits them with its own
-        report = {"ok": True, "staged": staged, "seconds": time.perf_counter() - t0}
+        report = {**body(), "ok": True}
         code = 0
     except AnalysisError as exc:
         report = {"ok": False, "error": str(exc)}
@@ -447,6 +452,18 @@ def _die_with(parent: int) -> None:  # pragma: no cover - runs in the child
         ctypes.CDLL(None, use_errno=True).prctl(1, signal.SIGTERM)  # PR_SET_PDEATHSIG
     if os.getppid() != parent:
         raise SystemExit(1)
+
+
+def _stage_aside(work: Callable[[], None], owner: int) -> dict:  # pragma: no cover - runs in the child
+    """`side_outputs`' body in the child: ``work`` in a fresh output set; its staged files for the parent."""
+    global _owner_pid
+    _owner_pid = owner
+    t0 = time.perf_counter()
+    with output_set() as mine:
+        work()
+        staged = [vars(s).copy() for s in mine.staged]
+        mine.staged.clear()  # the temporaries stay: the parent commits them with its own
+    return {"staged": staged, "seconds": time.perf_counter() - t0}
 
 
 def side_outputs_possible() -> bool:
@@ -493,27 +510,28 @@ def side_outputs(works: list[tuple[str, Callable[[], None]]], *, fork: bool | No
             if done is not None:
                 done(what, time.perf_counter() - t0, False)
         return
-    writers: list[_SideWriter] = []
+    owner = os.getpid()
+    writers: list[tuple[str, ForkedCall]] = []
     try:
         for what, work in works:
             if started is not None:
                 started(what, True)
             sys.stdout.flush()
             sys.stderr.flush()
-            writers.append(_SideWriter(what, work))
+            writers.append((what, ForkedCall(functools.partial(_stage_aside, work, owner), f"writing the {what}")))
         yield
     except BaseException:
-        for w in writers:
+        for _, w in writers:
             w.cancel()
         raise
     failed = None
-    for w in writers:
+    for what, w in writers:
         report = w.join()
-        if report.get("ok"):
+        if report["ok"]:
             for entry in report["staged"]:
                 active.staged.append(_Staged(**entry))
             if done is not None:
-                done(w.what, w.seconds, True)
+                done(what, float(report["seconds"]), True)
         elif failed is None:
             failed = report
     if failed is not None:

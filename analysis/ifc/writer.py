@@ -55,7 +55,6 @@ import itertools
 import logging
 import math
 import os
-import signal
 from collections import defaultdict
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
@@ -1307,48 +1306,27 @@ class _SideText:
     """
 
     def __init__(self, jobs: list[_CurveLines]) -> None:
-        from ..fileio import _die_with
+        from ..fileio import ForkedCall
 
         self.fds = [os.memfd_create(f"plumbframe-curve-reactions-{k}") for k in range(len(jobs))]
-        read_fd, write_fd = os.pipe()
-        parent = os.getpid()
-        pid = os.fork()
-        if pid == 0:  # pragma: no cover - the child's coverage is not collected (it leaves by os._exit)
-            code = 1
-            try:
-                os.close(read_fd)
-                _die_with(parent)
-                for job, fd in zip(jobs, self.fds):
-                    view = memoryview("".join(job.lines()).encode("ascii"))
-                    while view:
-                        view = view[os.write(fd, view):]
-                code = 0
-            except BaseException:  # noqa: BLE001 - the traceback goes back to the writer
-                import traceback
+        fds = list(self.fds)
 
-                with contextlib.suppress(OSError):
-                    os.write(write_fd, traceback.format_exc().encode("utf-8", "replace")[-16000:])
-            finally:
-                os._exit(code)
-        os.close(write_fd)
-        self.pid, self.err_fd = pid, read_fd
-        self.status: int | None = None
+        def body() -> dict:  # pragma: no cover - runs in the forked process
+            for job, fd in zip(jobs, fds):
+                view = memoryview("".join(job.lines()).encode("ascii"))
+                while view:
+                    view = view[os.write(fd, view):]
+            return {}
+
+        self.call = ForkedCall(body, "formatting the curve reactions")
         for job, fd in zip(jobs, self.fds):
             job.side = (self, fd)
 
-    def _wait(self) -> None:
-        if self.status is not None:
-            return
-        with open(self.err_fd, "rb") as fh:
-            err = fh.read().decode("utf-8", "replace")
-        _, self.status = os.waitpid(self.pid, 0)
-        if self.status != 0:
-            how = (f"ended by signal {os.WTERMSIG(self.status)}" if os.WIFSIGNALED(self.status)
-                   else f"failed (status {os.waitstatus_to_exitcode(self.status)})")
-            raise SideProcessFault(f"the process formatting the curve reactions {how}" + (f":\n{err}" if err else ""))
-
     def chunks(self, fd: int):
-        self._wait()
+        report = self.call.join()
+        if not report["ok"]:
+            raise SideProcessFault(f"the process formatting the curve reactions failed: {report['error']}"
+                                   + (f"\n{report['trace']}" if "trace" in report else ""))
         os.lseek(fd, 0, os.SEEK_SET)
         while True:
             data = os.read(fd, 1 << 22)
@@ -1358,13 +1336,7 @@ class _SideText:
 
     def close(self) -> None:
         """Stop the process if it still runs; free the in-memory files."""
-        if self.status is None:
-            with contextlib.suppress(OSError):
-                os.kill(self.pid, signal.SIGKILL)
-            with contextlib.suppress(OSError, ChildProcessError):
-                _, self.status = os.waitpid(self.pid, 0)
-            with contextlib.suppress(OSError):
-                os.close(self.err_fd)
+        self.call.cancel()
         for fd in self.fds:
             with contextlib.suppress(OSError):
                 os.close(fd)
