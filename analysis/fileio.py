@@ -371,7 +371,7 @@ class ForkedCall:
     `AnalysisError`, with ``"trace"`` added for any other exception (a fault)
     or a process that ended without reporting. The child stops when this
     process dies, and SIGTERM or SIGINT make it leave through Python (its
-    ``finally`` blocks run), as `cancel` relies on.
+    ``finally`` blocks run), as `cancel` relies on: it waits for that.
     """
 
     def __init__(self, body: Callable[[], dict], doing: str):
@@ -404,17 +404,12 @@ class ForkedCall:
         self.report = report
         return report
 
-    def cancel(self) -> None:
-        """Stop the child if it still runs, and wait for it."""
-        if self.report is not None:
-            return
-        with contextlib.suppress(OSError):
-            os.kill(self.pid, signal.SIGTERM)
-        with contextlib.suppress(OSError):
-            os.close(self.fd)
-        with contextlib.suppress(OSError, ChildProcessError):
-            os.waitpid(self.pid, 0)
-        self.report = {"ok": False, "error": "stopped"}
+    def cancel(self) -> dict:
+        """Stop the child if it still runs; its report (it may have finished before it was stopped)."""
+        if self.report is None:
+            with contextlib.suppress(OSError):
+                os.kill(self.pid, signal.SIGTERM)
+        return self.join()
 
 
 def _forked_child(body: Callable[[], dict], fd: int, parent: int) -> None:  # pragma: no cover - runs in the child
@@ -522,7 +517,9 @@ def side_outputs(works: list[tuple[str, Callable[[], None]]], *, fork: bool | No
         yield
     except BaseException:
         for _, w in writers:
-            w.cancel()
+            report = w.cancel()
+            for entry in report["staged"] if report["ok"] else ():  # staged before it was stopped
+                _remove(entry["tmp"])
         raise
     failed = None
     for what, w in writers:

@@ -109,6 +109,22 @@ def test_a_failure_of_the_run_stops_the_side_writers(tmp_path):
     assert leftovers(tmp_path) == []
 
 
+def test_a_side_output_staged_before_the_run_failed_is_removed(tmp_path):
+    a = tmp_path / "a.txt"
+    with pytest.raises(ValueError, match="the IFC writer failed"):
+        with fileio.output_set() as outs:
+            with fileio.side_outputs([("a", lambda: fileio.atomic_text(a, "A"))], fork=True):
+                for _ in range(500):  # until the child has staged its file and gone
+                    if leftovers(tmp_path):
+                        break
+                    time.sleep(0.01)
+                time.sleep(0.3)
+                raise ValueError("the IFC writer failed")
+            outs.commit()
+    assert not a.exists()
+    assert leftovers(tmp_path) == []
+
+
 def test_serial_fallback_runs_the_works_after_the_block(tmp_path):
     order = []
     with fileio.output_set() as outs:
