@@ -20,6 +20,7 @@ import warnings
 from typing import TYPE_CHECKING, Any, Callable, Sequence
 
 from . import cli_checks as _checks
+from .collector import collector_paused
 
 if TYPE_CHECKING:
     from .model import FloatArray
@@ -257,7 +258,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         with _checks.terminate_as_interrupt(), warnings.catch_warnings(record=True) as caught:
             warnings.simplefilter("always")  # numpy's RuntimeWarnings would leak source lines: kept for --verbose
-            code = _run(args, con)
+            with collector_paused():  # see analysis.collector: the bulk phases make no cycles
+                code = _run(args, con)
         if args.verbose:
             for w in caught:
                 con.info(f"python warning: {w.category.__name__}: {w.message} ({w.filename}:{w.lineno})")

@@ -116,6 +116,7 @@ import scipy.linalg
 import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
+from .collector import pauses_collector
 from .model import AnalysisOptions, Frame, member_axes, member_lengths
 
 if TYPE_CHECKING:
@@ -245,6 +246,7 @@ class Indeterminacy:
 
 
 # --------------------------------------------------------------------------- main
+@pauses_collector
 def indeterminacy(frame: Frame, options: AnalysisOptions | None = None, *, mechanism_method: str = "auto") -> Indeterminacy:
     """Count the kinematic and static indeterminacy and the mechanisms of ``frame``.
 

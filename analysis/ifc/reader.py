@@ -105,6 +105,7 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 import numpy.typing as npt
 
+from ..collector import pauses_collector
 from ..errors import AnalysisError, Diagnostic, IfcInputError, entity_label
 from ..model import (
     ACTION_NAMES,
@@ -297,6 +298,7 @@ class _ConnectionIndex:
 
 
 # --------------------------------------------------------------------------- entry point
+@pauses_collector
 def read_ifc(path, *, model: str | None = None, merge_tolerance: float = 0.01, support_level: float | None = None,
              defaults: ReaderDefaults | Mapping[str, Any] | None = None, area_loads=None, select: str | None = None,
              exclude: str | None = None, supports: Sequence[str] = (), strict: bool = False,

@@ -61,6 +61,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from ..collector import pauses_collector
 from ..errors import AnalysisError, IfcInputError
 from ..model import ACTION_NAMES, REACTION_NAMES
 
@@ -142,6 +143,7 @@ def idealisation_text(results) -> str:
 
 
 # --------------------------------------------------------------------------- entry point
+@pauses_collector
 def write_results(source_path, out_path, model, results, indeterminacy=None, *, overwrite: bool = False,
                   date: _dt.datetime | None = None, progress=None, stations: str = "extremes",
                   fork: bool | None = False) -> WriteSummary:

@@ -16,6 +16,7 @@ import time
 import numpy as np
 import scipy.sparse as sp
 
+from ..collector import pauses_collector
 from ..errors import Diagnostic, ModelError, UnstableStructureError
 from ..model import DOF_NAMES, AnalysisOptions, Frame, member_axes, member_lengths
 from .dofs import DofSystem, axially_rigid, build_dofs
@@ -140,6 +141,7 @@ def reduced_stiffness(asm: Assembly) -> tuple[sp.csr_array, sp.csr_array, np.nda
     return sp.csr_array(Kxx), sp.csr_array(Kq), springs
 
 
+@pauses_collector
 def analyze(frame: Frame, options: AnalysisOptions | None = None, *, progress=None, keep: dict | None = None):
     """Analyse every load case and combination of ``frame``.
 
