@@ -157,10 +157,10 @@ def _point_pardiso_at_mkl() -> None:  # pragma: no cover - optional library
 
 
 def _pardiso(K, diag) -> Factor:  # pragma: no cover - optional library
+    _point_pardiso_at_mkl()  # before the import: importing pypardiso makes a solver, which searches for MKL
     import pypardiso
     from pypardiso.pardiso_wrapper import PyPardisoError
 
-    _point_pardiso_at_mkl()
     solver = pypardiso.PyPardisoSolver(mtype=2)  # real symmetric positive definite
     A = sp.csr_matrix(sp.triu(K, format="csr"))
     A.sort_indices()
