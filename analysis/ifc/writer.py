@@ -440,7 +440,7 @@ class _Writer:
         self.modified: set[int] = set()  # ids of source entities changed through ifcopenshell
         self.owner = self._owner_history()
         self.counts: defaultdict[str, int] = defaultdict(int)
-        self._properties: dict[tuple[str, str], int] = {}  # shared IfcPropertySingleValue by content
+        self._properties: dict[str, dict[str, str]] = {}  # shared IfcPropertySingleValue: name -> value -> ref
         self.stations = stations
         self.say = say or (lambda step: None)
         self.derived = False
@@ -1023,15 +1023,15 @@ class _Writer:
                 tokens = reals(np.array(present, dtype=float))
             prefix = "IFCLABEL(" if typ == "IfcDateTime" and self.ifc2x3 else f"{typ.upper()}("
             keys = [prefix + t + ")" for t in tokens]
-            unique = dict.fromkeys(keys)
-            quoted_name = string(pname)
-            for key in unique:
-                pid = cache.get((pname, key))
-                if pid is None:
-                    pid = cache[(pname, key)] = out.reserve()
-                    lines.append(f"#{pid}={prop_fmt % (quoted_name, key)};\n")
-                unique[key] = f"#{pid}"
-            refs = iter([unique[key] for key in keys])
+            known = cache.setdefault(pname, {})  # value text -> "#id" of the property with it
+            missing = [key for key in dict.fromkeys(keys) if key not in known]
+            if missing:
+                first = out.block(len(missing))
+                # one %-format for the whole column: the name is quoted (and any '%' in it doubled) once
+                line = f"#%d={prop_fmt % (string(pname).replace('%', '%%'), '%s')};\n"
+                lines.extend([line % (first + n, key) for n, key in enumerate(missing)])
+                known.update(zip(missing, [f"#{first + n}" for n in range(len(missing))]))
+            refs = iter([known[key] for key in keys])
             refs_by_column.append([next(refs) if v is not None else None for v in values])
         pset_fmt = self._line("IfcPropertySet", ("GlobalId", "OwnerHistory", "Name", "Description", "HasProperties"))
         rel_fmt = self._line("IfcRelDefinesByProperties", ("GlobalId", "OwnerHistory", "RelatedObjects",
