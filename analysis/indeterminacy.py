@@ -1417,13 +1417,19 @@ def _comp_name(c: int) -> str:
 
 def _build_joint_counts(d: _JointData) -> tuple[JointCount, ...]:
     frame = d.frame
-    names = tuple(_comp_name(c) for c in d.active)
+    active = list(d.active)
+    names = tuple(_comp_name(c) for c in active)
+    kinds_of = d.cls[:, active].tolist() if frame.n_nodes else []  # (n, active) as Python ints
+    all_unknown = [_UNKNOWN] * len(active)
+    releases, own = np.asarray(d.releases).tolist(), np.asarray(d.own).tolist()
     out = []
     for k in range(frame.n_nodes):
         unknowns, restrained, eliminated, reduced = [], [], [], []
-        for c in d.active:
-            kind = int(d.cls[k, c])
-            name = _comp_name(c)
+        kinds = kinds_of[k]
+        if kinds == all_unknown:  # the common joint: every component an unknown
+            unknowns = list(names)
+            kinds = []
+        for c, name, kind in zip(active, names, kinds):
             if kind == _UNKNOWN:
                 unknowns.append(name)
             elif kind == _RESTRAINED:
@@ -1438,7 +1444,7 @@ def _build_joint_counts(d: _JointData) -> tuple[JointCount, ...]:
                                               tuple((nid, tuple(cs)) for nid, cs in groups.items())))
             else:
                 reduced.append((name, _REDUCED_WHY[kind]))
-        condensed_own = int(d.releases[k] - d.own[k])
+        condensed_own = int(releases[k] - own[k])
         reduced += [("own rotation", "hinged member end, condensed out")] * condensed_own
         label = frame.node_labels[k]
         source = frame.node_sources[k]
@@ -1452,8 +1458,8 @@ def _build_joint_counts(d: _JointData) -> tuple[JointCount, ...]:
             entity = label
         out.append(JointCount(node_id=frame.node_ids[k], label=label, source=source, components=names,
                               unknowns=tuple(unknowns), restrained=tuple(restrained), support=d.support[k],
-                              eliminated=tuple(eliminated), reduced=tuple(reduced), releases=int(d.releases[k]),
-                              own_rotations=int(d.own[k]),
+                              eliminated=tuple(eliminated), reduced=tuple(reduced), releases=int(releases[k]),
+                              own_rotations=int(own[k]),
                               own_members=tuple(dict.fromkeys(d.own_members.get(k, ()))), entity=entity))
     return tuple(out)
 
