@@ -671,7 +671,9 @@ class _StructuralReader:
             if point is None:
                 geometry = v.get_argument(_VERTEX_GEOMETRY)
                 coords = geometry.get_argument(_POINT_COORDINATES)
-                if len(coords) != 3 or not all(math.isfinite(c) and abs(c) < 1e8 / self.s.length for c in coords):
+                limit = 1e8 / self.s.length
+                # NaN fails every comparison and infinity the bound: finite and within the bound, in one test
+                if len(coords) != 3 or not (abs(coords[0]) < limit and abs(coords[1]) < limit and abs(coords[2]) < limit):
                     self._bad_point(v, geometry, coords)
                 point = self._to_world(M, coords)
                 point.flags.writeable = False  # shared by every item that names the vertex
@@ -882,13 +884,6 @@ class _StructuralReader:
         self._implied_ends += 1
         return node
 
-    def _is_point_connection(self, item: Entity) -> bool:
-        key = item.id()
-        known = self._point_kinds.get(key)
-        if known is None:
-            known = self._point_kinds[key] = bool(item.is_a("IfcStructuralPointConnection"))
-        return known
-
     def _connection_at(self, point: Vec3, tol: float, taken: set[int]) -> Entity | None:
         """The first point connection of the model (in the model's order) within ``tol`` (m) of ``point``."""
         if self._connection_index is None:
@@ -905,10 +900,22 @@ class _StructuralReader:
         """
         if self._member_relations is None:
             found: dict[int, list[tuple[Entity, Entity]]] = {}
+            kinds = self._point_kinds  # connection id -> a point connection (subtypes included)
             for r in self.f.by_type("IfcRelConnectsStructuralMember"):
                 relating, conn = r.get_argument(_REL_MEMBER), r.get_argument(_REL_CONNECTION)
-                if relating is not None and conn is not None and self._is_point_connection(conn):
-                    found.setdefault(relating.id(), []).append((r, conn))
+                if relating is None or conn is None:
+                    continue
+                cid = conn.id()
+                point = kinds.get(cid)
+                if point is None:
+                    point = kinds[cid] = bool(conn.is_a("IfcStructuralPointConnection"))
+                if point:
+                    key = relating.id()
+                    pairs = found.get(key)
+                    if pairs is None:
+                        found[key] = [(r, conn)]
+                    else:
+                        pairs.append((r, conn))
             self._member_relations = found
         return self._member_relations.get(member.id(), [])
 
@@ -930,10 +937,21 @@ class _StructuralReader:
         p = self._vertex_points(frame, (v_start, v_end))
         # (relation, its point connection) pairs, in the order of the member's ConnectedBy
         point_rels = self._point_relations(member)
+        vertex_ids = [self._vertex_id(conn) for _, conn in point_rels]
+        if len(point_rels) == 2:
+            # the common member: two relations, to the point connections whose vertices are its edge's ends;
+            # what the general search below finds for it, without the search
+            vs, ve = v_start.id(), v_end.id()
+            a, b = vertex_ids
+            if vs != ve and ((a == vs and b == ve) or (a == ve and b == vs)):
+                (rel_i, conn_i), (rel_j, conn_j) = point_rels if a == vs else point_rels[::-1]
+                chord = math.dist(p[0].tolist(), p[1].tolist())  # m
+                if conn_i.id() != conn_j.id() and chord > 1e-9 * max(1.0, max(map(abs, p[0].tolist()))):
+                    return {"points": p, "rels": [rel_i, rel_j], "conns": [(rel_i, conn_i), (rel_j, conn_j)],
+                            "frame": frame, "chord": chord}
         # index into point_rels of the relation chosen at each end (None: not yet, -1: implied by position)
         chosen: list[int | None] = [None, None]
         conns: list[Entity | None] = [None, None]
-        vertex_ids = [self._vertex_id(conn) for _, conn in point_rels]
         for k, v in enumerate((v_start, v_end)):
             # 1. the same vertex entity; 2. the eccentricity's vertex on the member; 3. the point within tolerance
             vid = v.id()
