@@ -880,38 +880,55 @@ class FrameBuilder:
         nodes = [self._nodes[k] for k in node_ids]
         mems = list(self._members.values())
 
-        def per_member(fn: Callable[[dict], Any]) -> list:
-            return [fn(mm) for mm in mems]
+        def column(key: str) -> list:
+            return [mm[key] for mm in mems]
 
-        def floats(fn: Callable[[dict], Any]) -> FloatArray:
-            return np.array(per_member(fn), dtype=np.float64)
+        def shared(objects: list) -> tuple[list, npt.NDArray[np.intp]]:
+            """The distinct objects (members share a few sections and materials) and each member's index."""
+            first: dict[int, int] = {}
+            distinct: list = []
+            where = []
+            for obj in objects:
+                k = first.get(id(obj))
+                if k is None:
+                    k = first[id(obj)] = len(distinct)
+                    distinct.append(obj)
+                where.append(k)
+            return distinct, np.array(where, dtype=np.intp)
 
-        def flags(fn: Callable[[dict], Any]) -> BoolArray:
-            return np.array(per_member(fn), dtype=np.bool_)
+        sections, s_at = shared(column("section"))
+        materials, m_at = shared(column("material"))
 
+        def of_sections(name: str) -> FloatArray:
+            return np.array([getattr(x, name) for x in sections], dtype=np.float64).reshape(-1)[s_at] if mems else np.zeros(0)
+
+        def of_materials(name: str) -> FloatArray:
+            return np.array([getattr(x, name) for x in materials], dtype=np.float64).reshape(-1)[m_at] if mems else np.zeros(0)
+
+        ends = column("ends")
         return Frame(
             node_ids=tuple(node_ids),
             nodes=np.array([nd["xyz"] for nd in nodes], dtype=float).reshape(-1, 3),
             member_ids=tuple(self._members),
-            members=np.array(per_member(lambda mm: [index[mm["ends"][0]], index[mm["ends"][1]]]), dtype=np.int32).reshape(-1, 2),
-            A=floats(lambda mm: mm["section"].A),
-            Iy=floats(lambda mm: mm["section"].Iy),
-            Iz=floats(lambda mm: mm["section"].Iz),
-            J=floats(lambda mm: mm["section"].J),
-            Avy=floats(lambda mm: mm["section"].Avy),
-            Avz=floats(lambda mm: mm["section"].Avz),
-            E=floats(lambda mm: mm["material"].E),
-            G=floats(lambda mm: mm["material"].shear_modulus),
-            density=floats(lambda mm: mm["material"].density),
-            ref=np.array(per_member(lambda mm: mm["ref"]), dtype=float).reshape(-1, 3),
-            roll=floats(lambda mm: mm["roll"]),
-            truss=flags(lambda mm: mm["truss"]),
-            releases=np.array(per_member(lambda mm: mm["releases"]), dtype=bool).reshape(-1, 2, 6),
-            offsets=np.array(per_member(lambda mm: mm["offsets"]), dtype=float).reshape(-1, 2, 3),
-            inextensible=flags(lambda mm: mm["inextensible"]),
-            extensible=flags(lambda mm: mm["extensible"]),
-            end_springs=np.array(per_member(lambda mm: mm["springs"]), dtype=float).reshape(-1, 2, 6),
-            alpha=floats(lambda mm: mm["material"].alpha),
+            members=np.array([[index[i], index[j]] for i, j in ends], dtype=np.int32).reshape(-1, 2),
+            A=of_sections("A"),
+            Iy=of_sections("Iy"),
+            Iz=of_sections("Iz"),
+            J=of_sections("J"),
+            Avy=of_sections("Avy"),
+            Avz=of_sections("Avz"),
+            E=of_materials("E"),
+            G=of_materials("shear_modulus"),
+            density=of_materials("density"),
+            ref=np.array(column("ref"), dtype=float).reshape(-1, 3),
+            roll=np.array(column("roll"), dtype=np.float64),
+            truss=np.array(column("truss"), dtype=np.bool_),
+            releases=np.array(column("releases"), dtype=bool).reshape(-1, 2, 6),
+            offsets=np.array(column("offsets"), dtype=float).reshape(-1, 2, 3),
+            inextensible=np.array(column("inextensible"), dtype=np.bool_),
+            extensible=np.array(column("extensible"), dtype=np.bool_),
+            end_springs=np.array(column("springs"), dtype=float).reshape(-1, 2, 6),
+            alpha=of_materials("alpha"),
             restraints=np.array([nd["restraint"] for nd in nodes], dtype=bool).reshape(-1, 6),
             springs=np.array([nd["springs"] for nd in nodes], dtype=float).reshape(-1, 6),
             rigid_bodies=tuple(self._rigid),
@@ -920,12 +937,12 @@ class FrameBuilder:
             load_cases=tuple(self._cases),
             combinations=tuple(self._combos),
             node_sources=tuple(nd["source"] for nd in nodes),
-            member_sources=tuple(per_member(lambda mm: mm["source"])),
+            member_sources=tuple(column("source")),
             node_labels=tuple(nd["label"] for nd in nodes),
-            member_labels=tuple(per_member(lambda mm: mm["label"])),
-            section_names=tuple(per_member(lambda mm: mm["section"].name)),
-            material_names=tuple(per_member(lambda mm: mm["material"].name)),
+            member_labels=tuple(column("label")),
+            section_names=tuple(sections[k].name for k in s_at.tolist()),
+            material_names=tuple(materials[k].name for k in m_at.tolist()),
             name=self.name,
-            section_sources=tuple(per_member(lambda mm: mm["section"].source)),
-            material_sources=tuple(per_member(lambda mm: mm["material"].source)),
+            section_sources=tuple(sections[k].source for k in s_at.tolist()),
+            material_sources=tuple(materials[k].source for k in m_at.tolist()),
         )

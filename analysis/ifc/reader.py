@@ -726,8 +726,8 @@ class _StructuralReader:
                 say(f"reading: member ends, {n:,} of {len(members):,} members")
             ends[m.id()] = self._member_ends(m)
         used = {}
-        for m in members:
-            for rel, conn in ends[m.id()]["conns"]:
+        for end in ends.values():  # the members' order
+            for rel, conn in end["conns"]:
                 used[conn.id()] = conn
         for c in connections:
             if c.id() not in used:
@@ -1105,7 +1105,8 @@ class _StructuralReader:
 
     # -- members
     def _member(self, member, ends: dict, need_density: bool, material_cache: dict) -> None:
-        mid = self.member_ids[member.id()]
+        member_id = member.id()
+        mid = self.member_ids[member_id]
         label = entity_label(member)
         predefined = str(member.get_argument(_MEMBER_TYPE) or "NOTDEFINED")
         truss = predefined in _TRUSS_TYPES
@@ -1193,8 +1194,9 @@ class _StructuralReader:
                 for k, sp_ in enumerate(end_springs) if sp_), "info")
 
         # ends, offsets
-        conn_i, conn_j = (c for _, c in ends["conns"])
-        node_i, node_j = self.node_xyz[conn_i.id()], self.node_xyz[conn_j.id()]
+        (_, conn_i), (_, conn_j) = ends["conns"]
+        ci, cj = conn_i.id(), conn_j.id()
+        node_i, node_j = self.node_xyz[ci], self.node_xyz[cj]
         if p_i is node_i and p_j is node_j and offset is _NO_OFFSET:
             # the common case: both ends are their connections' own vertex points, no eccentricity: what
             # the general branch below gives, without its small-array arithmetic
@@ -1205,12 +1207,12 @@ class _StructuralReader:
             off_i, off_j, start, length = self._end_offsets(member, ends, node_i, node_j, offset, chord)
 
         self.builder.add_member(
-            mid, self.node_ids[conn_i.id()], self.node_ids[conn_j.id()], section, material,
+            mid, self.node_ids[ci], self.node_ids[cj], section, material,
             ref=tuple(ref.tolist()) if ref is not None else None, roll=roll, truss=truss,
             release_i=releases[0], release_j=releases[1], offset_i=tuple(off_i.tolist()), offset_j=tuple(off_j.tolist()),
             source=str(member.get_argument(_GLOBAL_ID)), label=label, spring_i=end_springs[0] or None,
             spring_j=end_springs[1] or None)
-        self.member_info[member.id()] = {"id": mid, "start": start, "axes": axes, "length": length}
+        self.member_info[member_id] = {"id": mid, "start": start, "axes": axes, "length": length}
         phys = self._physical(member)
         if phys is not None:
             self.physical[mid] = str(phys.GlobalId)
@@ -1313,10 +1315,11 @@ class _StructuralReader:
         if self._material_links is None:
             self._material_links = self._associations("IfcRelAssociatesMaterial")
             self._profile_links = self._associations("IfcRelAssociatesProfileProperties") if self.is2x3 else {}
-        if self._last_key[0] == member.id():
+        member_id = member.id()
+        if self._last_key[0] == member_id:
             return self._last_key[1]
         key: tuple[int, ...] | None = None
-        own = self._material_links.get(member.id(), [])
+        own = self._material_links.get(member_id, [])
         if len(own) == 1:
             rel = own[0]
             definition = self._relating_material.get(rel.id())
@@ -1328,9 +1331,9 @@ class _StructuralReader:
             elif not self.is2x3:
                 key = (definition,)
             else:
-                own_profile = (self._profile_links or {}).get(member.id(), [])
+                own_profile = (self._profile_links or {}).get(member_id, [])
                 key = (definition, own_profile[0].id()) if len(own_profile) == 1 else None
-        self._last_key = (member.id(), key)
+        self._last_key = (member_id, key)
         return key
 
     def _material(self, member: Entity, need_density: bool, truss: bool, material_cache: dict[Any, Any]) -> Material:
@@ -1340,7 +1343,8 @@ class _StructuralReader:
         (its ``raise_unknown`` reports them all); the member then gets a placeholder.
         """
         done = material_cache.setdefault("members", {})
-        found = done.get(member.id())
+        member_id = member.id()
+        found = done.get(member_id)
         if found is not None:
             return found
         resolver = material_cache.get("resolver")
@@ -1353,7 +1357,7 @@ class _StructuralReader:
         self.diagnostics.extend(diags)
         if material is None:  # unknown: reported with all the others before the frame is built
             material = Material("unknown", E=1.0, G=1.0)
-        done[member.id()] = material
+        done[member_id] = material
         return material
 
     def _profile(self, member: Entity) -> tuple[Entity | None, int | None, Entity | None]:
