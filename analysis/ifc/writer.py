@@ -1009,18 +1009,19 @@ class _Writer:
         lines: list[str] = []
         refs_by_column: list[list[str | None]] = []
         for pname, typ, values in columns:
-            present = [v for v in values if v is not None]
-            if not present:
+            # each distinct value formatted once (values equal as Python numbers format alike: 0.0 and -0.0 as
+            # "0.", 1 and True as the same integer or boolean), in the order of their first occurrence
+            distinct = list(dict.fromkeys([v for v in values if v is not None]))
+            if not distinct:
                 continue
             if typ in self._TEXT_TYPES:
-                quoted = {v: string(v) for v in dict.fromkeys(present)}
-                tokens = [quoted[v] for v in present]
+                tokens = [string(v) for v in distinct]
             elif typ == "IfcInteger":
-                tokens = [str(int(v)) for v in present]
+                tokens = [str(int(v)) for v in distinct]
             elif typ == "IfcBoolean":
-                tokens = [".T." if v else ".F." for v in present]
+                tokens = [".T." if v else ".F." for v in distinct]
             else:
-                tokens = reals(np.array(present, dtype=float))
+                tokens = reals(np.array(distinct, dtype=float))
             prefix = "IFCLABEL(" if typ == "IfcDateTime" and self.ifc2x3 else f"{typ.upper()}("
             keys = [prefix + t + ")" for t in tokens]
             known = cache.setdefault(pname, {})  # value text -> "#id" of the property with it
@@ -1031,8 +1032,8 @@ class _Writer:
                 line = f"#%d={prop_fmt % (string(pname).replace('%', '%%'), '%s')};\n"
                 lines.extend([line % (first + n, key) for n, key in enumerate(missing)])
                 known.update(zip(missing, [f"#{first + n}" for n in range(len(missing))]))
-            refs = iter([known[key] for key in keys])
-            refs_by_column.append([next(refs) if v is not None else None for v in values])
+            ref_of = dict(zip(distinct, [known[key] for key in keys]))
+            refs_by_column.append([ref_of[v] if v is not None else None for v in values])
         pset_fmt = self._line("IfcPropertySet", ("GlobalId", "OwnerHistory", "Name", "Description", "HasProperties"))
         rel_fmt = self._line("IfcRelDefinesByProperties", ("GlobalId", "OwnerHistory", "RelatedObjects",
                                                             "RelatingPropertyDefinition"))
