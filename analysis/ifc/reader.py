@@ -610,6 +610,8 @@ class _StructuralReader:
         self._boxes: dict[int, tuple[np.ndarray, np.ndarray]] = {}
         self._cardinal_shifts: dict[tuple[int, int, int], tuple[np.ndarray, bool]] = {}  # (shift, negligible)
         self._line_forces: dict[int, np.ndarray] = {}
+        self._scaled_forces: dict[tuple[bytes, float, bool], list[float]] = {}  # see _member_action
+        self._load_classes: dict[str, tuple[bool, bool]] = {}
         self._conditions: dict[int, tuple[list[bool], list[float], list[Any]]] = {}
         self._connection_index: _ConnectionIndex | None = None
         self._implied_nodes: list[_ImpliedNode] = []
@@ -1737,7 +1739,8 @@ class _StructuralReader:
         if not kinds.curve:
             self.warn(action, f"{action.is_a()} on a curve member is not supported: ignored")
             return []
-        if load.is_a("IfcStructuralLoadTemperature"):
+        temperature, configuration = self._load_class(load)
+        if temperature:
             return [self._temperature(action, mid, load, factor, src)]
         if kinds.varying:
             raise self.fail(action, "IFC2X3 varying linear actions are not supported")
@@ -1749,19 +1752,34 @@ class _StructuralReader:
         if kind == "DISCRETE":
             return self._discrete_loads(action, member, mid, load, extent, R, factor, "local" if local else "global",
                                         src)
-        samples = self._curve_samples(action, load, kind, extent)
+        samples = self._curve_samples(action, load, kind, extent, configuration)
         out = []
         axes_name = "local" if local else "global"
         for (s0, v0), (s1, v1) in zip(samples[:-1], samples[1:]):
             if s1 - s0 <= 1e-12 * max(L, 1.0):
                 continue
-            w0 = R @ v0 * factor
-            w1 = R @ v1 * factor
+            if v0 is v1:  # a constant piece: the same vector, turned and factored, for every action with it
+                key = (v0.tobytes(), factor, local)
+                w0 = self._scaled_forces.get(key)
+                if w0 is None:
+                    w0 = self._scaled_forces[key] = (R @ v0 * factor).tolist()
+                w1 = w0
+            else:
+                w0, w1 = (R @ v0 * factor).tolist(), (R @ v1 * factor).tolist()
             for k, a in enumerate("xyz"):
                 if w0[k] or w1[k]:
-                    out.append(LineLoad(mid, a, float(w0[k]), float(w1[k]), start=float(max(s0, 0.0)), end=float(min(s1, L)),
+                    out.append(LineLoad(mid, a, w0[k], w1[k], start=float(max(s0, 0.0)), end=float(min(s1, L)),
                                         axes=axes_name, projected=projected, source=src))
         return out
+
+    def _load_class(self, load: Entity) -> tuple[bool, bool]:
+        """(a temperature load, a load configuration) for a load's class, found once per class."""
+        cls = load.is_a()
+        found = self._load_classes.get(cls)
+        if found is None:
+            found = self._load_classes[cls] = (bool(load.is_a("IfcStructuralLoadTemperature")),
+                                               bool(load.is_a("IfcStructuralLoadConfiguration")))
+        return found
 
     def _temperature(self, action: Entity, mid: str, load: Entity, factor: float, src: str) -> TemperatureLoad:
         """A uniform temperature change of the whole member (IfcStructuralLoadTemperature.DeltaTConstant)."""
@@ -1875,11 +1893,16 @@ class _StructuralReader:
             raise self.fail(action, f"curve action extends beyond {entity_label(member)}")
         return min(max(s[0], 0.0), L), min(max(s[1], 0.0), L)
 
-    def _curve_samples(self, action, load, kind: str, extent) -> list:
-        """(position m from end i, SI linear-force vector in the load's axes) samples, ascending."""
+    def _curve_samples(self, action, load, kind: str, extent, configuration: bool | None = None) -> list:
+        """(position m from end i, SI linear-force vector in the load's axes) samples, ascending.
+
+        ``configuration``: whether ``load`` is an IfcStructuralLoadConfiguration (found here when None).
+        """
         a, b = extent
         reverse = b < a
-        if load.is_a("IfcStructuralLoadConfiguration"):
+        if configuration is None:
+            configuration = bool(load.is_a("IfcStructuralLoadConfiguration"))
+        if configuration:
             values = list(load.Values or ())
             locations = list(load.Locations or ())
             if kind in ("SINUS", "PARABOLA", "CONST"):
