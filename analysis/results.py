@@ -105,6 +105,21 @@ class MemberDiagram:
         raise KeyError(key)
 
 
+@dataclass(frozen=True)
+class DiagramBlock:
+    """Every member's diagram of one case end to end, in member order (`Results.diagram_block`).
+
+    Member k's stations are ``stations[starts[k]:starts[k] + sizes[k]]``, and
+    the same rows of ``forces`` and ``deflections`` are its values there.
+    """
+
+    sizes: np.ndarray  # (m,) stations per member
+    starts: np.ndarray  # (m,) first row of each member
+    stations: np.ndarray  # (S,)
+    forces: np.ndarray  # (S,6)
+    deflections: np.ndarray  # (S,2)
+
+
 @dataclass
 class Results:
     """Everything one analysis produced (see module docstring)."""
@@ -149,8 +164,34 @@ class Results:
         n_st = n_stations or self.options.stations
         key = (case, n_st)
         if key not in self._diagram_cache:
-            self._diagram_cache[key] = self._case_diagrams(self.case(case), n_st)
+            diagrams, block = self._case_diagrams(self.case(case), n_st)
+            self._diagram_cache[key] = diagrams
+            if block is not None:
+                self._diagram_cache[("block", case, n_st)] = block
         return self._diagram_cache[key][int(k)]
+
+    def diagram_block(self, case: str) -> DiagramBlock:
+        """Every member's `diagram` of a case (default stations) as one block of arrays (cached).
+
+        Where every member is loaded uniformly the batched closed forms made
+        the block already; otherwise the members' diagrams are joined.
+        """
+        n_st = self.options.stations
+        key = ("block", case, n_st)
+        hit = self._diagram_cache.get(key)
+        if hit is None:
+            m = self.frame.n_members
+            diagrams = [self.diagram(case, k) for k in range(m)]
+            hit = self._diagram_cache.get(key)
+            if hit is None:
+                sizes = np.array([len(dg.stations) for dg in diagrams], dtype=np.int64)
+                hit = DiagramBlock(
+                    sizes=sizes, starts=np.concatenate([[0], np.cumsum(sizes)[:-1]]).astype(np.int64),
+                    stations=np.concatenate([dg.stations for dg in diagrams]) if m else np.zeros(0),
+                    forces=np.concatenate([dg.forces for dg in diagrams]) if m else np.zeros((0, 6)),
+                    deflections=np.concatenate([dg.deflections for dg in diagrams]) if m else np.zeros((0, 2)))
+                self._diagram_cache[key] = hit
+        return hit
 
     def warm_diagrams(self) -> None:
         """Compute every member's diagram of every case now (they are cached), e.g. before a fork."""
@@ -158,20 +199,24 @@ class Results:
             for name in self.cases:
                 self.diagram(name, 0)
 
-    def _case_diagrams(self, cr: CaseResult, n_st: int) -> list[MemberDiagram]:
-        """All members of one case: batched closed forms where loads are uniform, quadrature elsewhere."""
+    def _case_diagrams(self, cr: CaseResult, n_st: int) -> tuple[list[MemberDiagram], DiagramBlock | None]:
+        """All members of one case: batched closed forms where loads are uniform, quadrature elsewhere; and
+        the `DiagramBlock` where the batch covers every member."""
         if cr.diagrams is not None:
-            return cr.diagrams(n_st)
+            return cr.diagrams(n_st), None
         m = self.frame.n_members
         out: list[MemberDiagram | None] = [None] * m
         generic = [k for k, ld in cr.loads.generic.items() if not ld.empty]
         uniform = np.setdiff1d(np.arange(m), np.array(generic, dtype=int))
+        block = None
         if uniform.size:
-            for k, dg in zip(uniform, _uniform_diagrams(self, cr, uniform, n_st)):
+            diagrams, block = _uniform_diagrams(self, cr, uniform, n_st)
+            for k, dg in zip(uniform, diagrams):
                 out[k] = dg
         for k in generic:
             out[k] = self._diagram(cr, k, n_st)
-        return out  # type: ignore[return-value]  # every slot is filled: uniform and generic cover 0..m-1
+        # every slot is filled: uniform and generic cover 0..m-1
+        return out, block if uniform.size == m else None  # type: ignore[return-value]
 
     def _diagram(self, cr: CaseResult, k: int, n_st: int) -> MemberDiagram:
         L = float(self.L[k])
@@ -217,9 +262,8 @@ class Results:
             m = self.frame.n_members
             if m == 0:
                 return np.zeros((0, 6)), np.zeros((0, 6))
-            diagrams = [self.diagram(case, k) for k in range(m)]
-            F = np.concatenate([dg.forces for dg in diagrams])
-            starts = np.concatenate([[0], np.cumsum([len(dg.stations) for dg in diagrams])[:-1]])
+            blk = self.diagram_block(case)
+            F, starts = blk.forces, blk.starts
             hit = (np.minimum.reduceat(F, starts, axis=0), np.maximum.reduceat(F, starts, axis=0))
             self._diagram_cache[key] = hit
         return hit
@@ -233,12 +277,9 @@ class Results:
             m = self.frame.n_members
             if m == 0:
                 return np.zeros(0), np.zeros(0)
-            diagrams = [self.diagram(case, k) for k in range(m)]
-            sizes = np.array([len(dg.stations) for dg in diagrams])
-            starts = np.concatenate([[0], np.cumsum(sizes)[:-1]])
+            blk = self.diagram_block(case)
+            sizes, starts, S, D = blk.sizes, blk.starts, blk.stations, blk.deflections
             owner = np.repeat(np.arange(m), sizes)
-            S = np.concatenate([dg.stations for dg in diagrams])
-            D = np.concatenate([dg.deflections for dg in diagrams])
             L = np.asarray(self.L, float)
             ok = L > 0
             with np.errstate(divide="ignore", invalid="ignore"):
@@ -329,14 +370,12 @@ class Results:
         supported = np.flatnonzero(frame.supported)
         members: dict = {}
         keys = ("stations", *ACTION_NAMES, "dy", "dz")
-        diagrams = [self.diagram(cr.name, k) for k in range(frame.n_members)]
-        if diagrams:
+        if frame.n_members:
             # one (9, S) block of every station: stations, six forces, two deflections; a member's entries are
             # the rows of its columns (each row slice contiguous, as orjson wants it)
-            block = np.ascontiguousarray(np.vstack([np.concatenate([dg.stations for dg in diagrams])[None, :],
-                                                    np.concatenate([dg.forces for dg in diagrams]).T,
-                                                    np.concatenate([dg.deflections for dg in diagrams]).T]))
-            bounds = np.concatenate([[0], np.cumsum([len(dg.stations) for dg in diagrams])]).tolist()
+            blk = self.diagram_block(cr.name)
+            block = np.ascontiguousarray(np.vstack([blk.stations[None, :], blk.forces.T, blk.deflections.T]))
+            bounds = np.concatenate([blk.starts, [len(blk.stations)]]).tolist()
             for k, mid in enumerate(frame.member_ids):
                 part = block[:, bounds[k]:bounds[k + 1]]
                 members[mid] = dict(zip(keys, part if arrays else part.tolist()))
@@ -352,7 +391,8 @@ class Results:
         }
 
 
-def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int) -> list[MemberDiagram]:
+def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray,
+                      n_st: int) -> tuple[list[MemberDiagram], DiagramBlock]:
     """Diagrams of members loaded by uniform full-length loads only, batched over members.
 
     With end forces f (nodes on member, member axes) and a uniform load q the
@@ -443,8 +483,11 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int)
     st_all = stations[keep]
     F_all = np.ascontiguousarray(F.transpose(0, 2, 1)[keep])  # (S,6)
     D_all = np.stack([v[keep], w[keep]], axis=1)  # (S,2)
-    return [MemberDiagram(stations=st_all[a:b], forces=F_all[a:b], deflections=D_all[a:b])
-            for a, b in zip(bounds[:-1], bounds[1:])]
+    diagrams = [MemberDiagram(stations=st_all[a:b], forces=F_all[a:b], deflections=D_all[a:b])
+                for a, b in zip(bounds[:-1], bounds[1:])]
+    sizes = counts.astype(np.int64)
+    return diagrams, DiagramBlock(sizes=sizes, starts=np.asarray(bounds[:-1], dtype=np.int64), stations=st_all,
+                                  forces=F_all, deflections=D_all)
 
 
 def _compliances(res: "Results", ks: np.ndarray) -> np.ndarray:

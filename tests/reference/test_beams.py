@@ -193,7 +193,7 @@ def test_batched_uniform_diagrams_equal_the_quadrature_path():
     for opts in ({}, {"shear": True}):
         r = run(b, **opts)
         cr = r.cases["w"]
-        fast = _uniform_diagrams(r, cr, np.array([0]), 11)[0]
+        fast = _uniform_diagrams(r, cr, np.array([0]), 11)[0][0]  # (diagrams, block): the first diagram
         slow = r._diagram(cr, 0, 11)
         assert_allclose(fast.stations, slow.stations, atol=1e-9)
         assert_allclose(fast.forces, slow.forces, atol=1e-6 * np.abs(slow.forces).max())
@@ -233,3 +233,21 @@ def test_concentrated_moment_on_a_simply_supported_beam():
     at = np.flatnonzero(np.isclose(dg.stations, a))
     assert at.size == 2
     assert_allclose(abs(dg["My"][at[1]] - dg["My"][at[0]]), M0, rtol=1e-12)
+
+
+def test_diagram_block_is_the_members_diagrams_end_to_end():
+    # The block the writer, the JSON and the envelopes read (Results.diagram_block) against the members'
+    # own diagrams: made by the batched closed forms (uniform loads only) and joined where a point load
+    # sends one member down the general path. Consistency of two paths, common practice, no source.
+    uniform = LoadCase("w", member=tuple(LineLoad(f"B{k}", "z", -4e3, axes="global") for k in range(3)))
+    mixed = LoadCase("p", member=(LineLoad("B0", "z", -4e3, axes="global"), PointLoad("B1", "z", -9e3, 0.3, relative=True)))
+    for case in (uniform, mixed):
+        r = run(beam(12.0, n=3, left="fixed", right="uy uz", mid_supports=(1,), case=case))
+        blk = r.diagram_block(case.name)
+        diagrams = [r.diagram(case.name, k) for k in range(3)]
+        assert blk.sizes.tolist() == [len(dg.stations) for dg in diagrams]
+        for k, dg in enumerate(diagrams):
+            rows = slice(int(blk.starts[k]), int(blk.starts[k] + blk.sizes[k]))
+            assert np.array_equal(blk.stations[rows], dg.stations)
+            assert np.array_equal(blk.forces[rows], dg.forces)
+            assert np.array_equal(blk.deflections[rows], dg.deflections)
