@@ -593,11 +593,11 @@ def governing(results) -> dict[str, tuple[float, str, str]]:
     best: dict[str, tuple[float, str, str]] = {}
     ids = results.frame.member_ids
     for name in results.cases:
-        forces = [results.diagram(name, k).forces for k in range(len(ids))]
-        if not forces:
+        if not ids:
             continue
-        sizes = np.array([len(F) for F in forces])
-        F = np.concatenate(forces) if sizes.sum() else np.zeros((1, len(ACTION_NAMES)))
+        blk = results.diagram_block(name)
+        sizes = blk.sizes
+        F = blk.forces if sizes.sum() else np.zeros((1, len(ACTION_NAMES)))
         owner = np.repeat(np.arange(len(ids)), sizes) if sizes.sum() else np.zeros(1, int)
         for a, action in enumerate(ACTION_NAMES):
             j = int(np.abs(F[:, a]).argmax())

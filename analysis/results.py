@@ -181,9 +181,11 @@ class Results:
         hit = self._diagram_cache.get(key)
         if hit is None:
             m = self.frame.n_members
-            diagrams = [self.diagram(case, k) for k in range(m)]
+            if m:
+                self.diagram(case, 0)  # every member's diagram, and the block where the closed forms made one
             hit = self._diagram_cache.get(key)
             if hit is None:
+                diagrams = [self.diagram(case, k) for k in range(m)]
                 sizes = np.array([len(dg.stations) for dg in diagrams], dtype=np.int64)
                 hit = DiagramBlock(
                     sizes=sizes, starts=np.concatenate([[0], np.cumsum(sizes)[:-1]]).astype(np.int64),
