@@ -227,8 +227,8 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
                              [f"{e.to_string(True)};\n" for e in _created(f, source_max + 1, w.out.first_id)])
         _atomic_write(f, out_path, w.out.lines, splice)
     finally:
-        if w.side is not None:
-            w.side.close()
+        for side in w.sides:
+            side.close()
     return w.summary(out_path)
 
 
@@ -447,7 +447,7 @@ class _Writer:
         self._by_guid: dict[str, Any] = {}
         self.fork = False  # format the curve reactions in a forked process (`_SideText`)
         self._curve_jobs: list[_CurveLines] = []
-        self.side: _SideText | None = None
+        self.sides: list[_SideText] = []  # the processes formatting them
 
     # -- small factories -------------------------------------------------------
     def _guid(self) -> str:
@@ -518,8 +518,9 @@ class _Writer:
         if self.derived:
             self._derive_model()
         self._write_results(groups)
-        if self.fork and self._curve_jobs:  # their text is made alongside the property sets
-            self.side = _SideText(self._curve_jobs)
+        rest = [job for job in self._curve_jobs if job.side is None]
+        if self.fork and rest:  # their text is made alongside the property sets
+            self.sides.append(_SideText(rest))
         self.say(f"writing IFC: property sets, {len(self.out):,} entities")
         self._write_member_psets()
         self._write_support_psets()
@@ -950,6 +951,8 @@ class _Writer:
             activity_fmts=self._activity_formats("IfcStructuralCurveReaction", ".DISCRETE."))
         out.later(job)
         self._curve_jobs.append(job)
+        if self.fork and not self.sides:  # the first result set's text is made while the others are prepared
+            self.sides.append(_SideText([job]))
         a0 = job.first_reaction
         self.counts["curve"] += 2 * n_items
         return list(range(a0, a0 + 4 * n_items, 2))
