@@ -120,6 +120,37 @@ class DiagramBlock:
     deflections: np.ndarray  # (S,2)
 
 
+class _BlockDiagrams:
+    """The members' diagrams of a `DiagramBlock`, made when first asked for (a sequence like the list).
+
+    Most of a large model's diagrams are only ever read through the block
+    (writer, JSON, envelopes); the per-member objects cost a tenth of a second
+    per case and 28,000 members.
+    """
+
+    __slots__ = ("block", "_made")
+
+    def __init__(self, block: DiagramBlock) -> None:
+        self.block = block
+        self._made: dict[int, MemberDiagram] = {}
+
+    def __len__(self) -> int:
+        return len(self.block.sizes)
+
+    def __getitem__(self, k: int) -> MemberDiagram:
+        dg = self._made.get(k)
+        if dg is None:
+            b = self.block
+            if not -len(self) <= k < len(self):
+                raise IndexError(k)
+            k %= len(self)
+            a = int(b.starts[k])
+            rows = slice(a, a + int(b.sizes[k]))
+            dg = self._made[k] = MemberDiagram(stations=b.stations[rows], forces=b.forces[rows],
+                                               deflections=b.deflections[rows])
+        return dg
+
+
 @dataclass
 class Results:
     """Everything one analysis produced (see module docstring)."""
@@ -210,15 +241,17 @@ class Results:
         out: list[MemberDiagram | None] = [None] * m
         generic = [k for k, ld in cr.loads.generic.items() if not ld.empty]
         uniform = np.setdiff1d(np.arange(m), np.array(generic, dtype=int))
-        block = None
+        if uniform.size == m and m:  # every member batched: its diagrams are views of the block, made when asked
+            block = _uniform_diagrams(self, cr, uniform, n_st, views=False)[1]
+            return _BlockDiagrams(block), block  # type: ignore[return-value]  # a sequence like the list
         if uniform.size:
-            diagrams, block = _uniform_diagrams(self, cr, uniform, n_st)
+            diagrams, _ = _uniform_diagrams(self, cr, uniform, n_st)
             for k, dg in zip(uniform, diagrams):
                 out[k] = dg
         for k in generic:
             out[k] = self._diagram(cr, k, n_st)
         # every slot is filled: uniform and generic cover 0..m-1
-        return out, block if uniform.size == m else None  # type: ignore[return-value]
+        return out, None  # type: ignore[return-value]
 
     def _diagram(self, cr: CaseResult, k: int, n_st: int) -> MemberDiagram:
         L = float(self.L[k])
@@ -393,8 +426,8 @@ class Results:
         }
 
 
-def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray,
-                      n_st: int) -> tuple[list[MemberDiagram], DiagramBlock]:
+def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int,
+                      views: bool = True) -> tuple[list[MemberDiagram], DiagramBlock]:
     """Diagrams of members loaded by uniform full-length loads only, batched over members.
 
     With end forces f (nodes on member, member axes) and a uniform load q the
@@ -485,8 +518,9 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray,
     st_all = stations[keep]
     F_all = np.ascontiguousarray(F.transpose(0, 2, 1)[keep])  # (S,6)
     D_all = np.stack([v[keep], w[keep]], axis=1)  # (S,2)
+    # each member's diagram: views of the block's rows (``views=False``: the block only)
     diagrams = [MemberDiagram(stations=st_all[a:b], forces=F_all[a:b], deflections=D_all[a:b])
-                for a, b in zip(bounds[:-1], bounds[1:])]
+                for a, b in zip(bounds[:-1], bounds[1:])] if views else []
     sizes = counts.astype(np.int64)
     return diagrams, DiagramBlock(sizes=sizes, starts=np.asarray(bounds[:-1], dtype=np.int64), stations=st_all,
                                   forces=F_all, deflections=D_all)

@@ -251,3 +251,24 @@ def test_diagram_block_is_the_members_diagrams_end_to_end():
             assert np.array_equal(blk.stations[rows], dg.stations)
             assert np.array_equal(blk.forces[rows], dg.forces)
             assert np.array_equal(blk.deflections[rows], dg.deflections)
+
+
+def test_diagrams_of_a_batched_case_are_made_when_asked_for():
+    # Where every member is batched, Results.diagram hands out views of the block made on first use: the
+    # same numbers as the batch's own per-member list, any index a list takes, IndexError beyond.
+    # Consistency of two paths, common practice, no source.
+    import pytest
+
+    from analysis.results import _uniform_diagrams
+
+    case = LoadCase("w", member=tuple(LineLoad(f"B{k}", "z", -4e3, axes="global") for k in range(3)))
+    r = run(beam(12.0, n=3, left="fixed", right="uy uz", case=case))
+    listed, _ = _uniform_diagrams(r, r.cases["w"], np.arange(3), r.options.stations)
+    r.diagram("w", 0)
+    lazy = r._diagram_cache[("w", r.options.stations)]
+    assert len(lazy) == 3 and lazy[-1] is lazy[2] and r.diagram("w", 1) is lazy[1]
+    for dg, ref in zip((lazy[k] for k in range(3)), listed):
+        assert np.array_equal(dg.stations, ref.stations) and np.array_equal(dg.forces, ref.forces)
+        assert np.array_equal(dg.deflections, ref.deflections)
+    with pytest.raises(IndexError):
+        lazy[3]
