@@ -102,6 +102,8 @@ def select_stations_batch(sizes: np.ndarray, stations: np.ndarray, forces: np.nd
         v = values[:, col]
         for ext, beyond in ((lo[:, col], lo[:, col] < ends_lo[:, col] - margin[:, col]),
                             (hi[:, col], hi[:, col] > ends_hi[:, col] + margin[:, col])):
+            if not beyond.any():  # no diagram has an extreme of this column between its ends (a zero column)
+                continue
             hit = (v == ext[owner]) & beyond[owner]
             if hit.any():
                 rows = np.flatnonzero(hit)
