@@ -599,6 +599,7 @@ class _StructuralReader:
         self._references: dict[tuple[int, int], Vec3] = {}
         self._point_kinds: dict[int, bool] = {}
         self._axes_cache: dict[tuple[bytes, bytes, float], Mat | None] = {}
+        self._parallel: dict[tuple[bytes, bytes], bool] = {}  # (direction, reference) -> Axis parallel to it
         self._relating_material: dict[int, int] = {}
         self._last_key: tuple[int, tuple[int, ...] | None] = (-1, None)
         self._section_map: SectionMap | None = defaults.sections if defaults is not None else None
@@ -1125,7 +1126,11 @@ class _StructuralReader:
         axis = member.get_argument(self._axis_index) if self._axis_index is not None else None
         if axis is not None:
             ref = self._reference(ends["frame"], axis)
-            if _norm(_cross(ref, ex)) < 1e-9 * max(_norm(ref), 1e-300):
+            key = (ex.tobytes(), ref.tobytes())  # members of a regular frame repeat a few directions
+            parallel = self._parallel.get(key)
+            if parallel is None:
+                parallel = self._parallel[key] = _norm(_cross(ref, ex)) < 1e-9 * max(_norm(ref), 1e-300)
+            if parallel:
                 raise self.fail(member, "Axis is parallel to the member's reference edge")
         profile, cardinal, usage = self._profile(member)
         if axis is None and usage is not None and usage.is_a("IfcRelAssociatesProfileProperties"):
@@ -1364,11 +1369,13 @@ class _StructuralReader:
 
     def _profile(self, member: Entity) -> tuple[Entity | None, int | None, Entity | None]:
         """(profile, cardinal point, usage) of a member, shared between members with the same association."""
+        key = self._shared_key(member)
+        if key is not None:
+            found = self._profiles.get(key)
+            if found is not None:
+                return found
         from .materials import element_profile
 
-        key = self._shared_key(member)
-        if key is not None and key in self._profiles:
-            return self._profiles[key]
         found = element_profile(self.f, member)
         if key is not None:
             self._profiles[key] = found
