@@ -468,10 +468,10 @@ def _indeterminacy(frame, options, con):
     return indeterminacy(frame, options)
 
 
-def _ind_dict(ind) -> dict | None:
+def _ind_dict(ind, joints: bool = True) -> dict | None:
     if ind is None:
         return None
-    return ind.to_dict() if hasattr(ind, "to_dict") else dict(ind)
+    return ind.to_dict(joints=joints) if hasattr(ind, "to_dict") else dict(ind)
 
 
 def _mechanism_texts(frame, options) -> tuple[str, ...]:
@@ -801,7 +801,7 @@ def _analyze(args, con) -> int:
         # the engine fell back to the frame's own plane (a mechanism only out of it): count the same way
         ind = _indeterminacy(model.frame, results.options, con)
     _keep(args, results=results, ind=ind)
-    d = _ind_dict(ind)
+    d = _ind_dict(ind, joints=False)  # the counts for the IFC and the summary; the JSON takes the joint rows too
     if d and d.get("mechanisms", 0) > 0:  # the counts see a mechanism the solver did not trip over
         _print_unstable(con, UnstableStructureError("; ".join(d.get("notes", [])) or "mechanism found by the counts"),
                         ind, model)
@@ -813,7 +813,8 @@ def _analyze(args, con) -> int:
     size = f"{len(results.cases)} cases of {model.frame.n_members:,} members"
     side: list[tuple[str, Callable[[], None]]] = []
     if args.json:
-        side.append(("JSON", lambda: _write_json(args.json, results.to_dict(indeterminacy=d, arrays=True))))
+        side.append(("JSON", lambda: _write_json(args.json, results.to_dict(indeterminacy=_ind_dict(ind),
+                                                                             arrays=True))))
     if args.report:
         def report() -> None:
             from .report import write_report

@@ -181,16 +181,19 @@ class Indeterminacy:
     def stable(self) -> bool:
         return self.mechanisms == 0
 
-    def to_dict(self) -> dict:
-        """The ``indeterminacy`` block of the results JSON (ARCHITECTURE.md)."""
-        return {
+    def to_dict(self, joints: bool = True) -> dict:
+        """The ``indeterminacy`` block of the results JSON (ARCHITECTURE.md); ``joints=False`` leaves out the
+        joint-by-joint rows (for the summaries that read only the counts)."""
+        out = {
             "kinematic": int(self.kinematic),
             "static": int(self.static),
             "mechanisms": int(self.mechanisms),
             "terms": {k: int(self.terms[k]) for k in TERM_KEYS},
             "notes": list(self.notes),
-            "joints": {j.node_id: j.to_dict() for j in self.joints},
         }
+        if joints:
+            out["joints"] = {j.node_id: j.to_dict() for j in self.joints}
+        return out
 
     def format_joint_table(self, width: int = 100) -> str:
         """The count joint by joint as fixed-width text (``plumbframe check --by-joint``)."""

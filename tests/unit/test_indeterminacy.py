@@ -184,6 +184,8 @@ def test_to_dict_is_the_json_block_and_table_lists_terms():
     assert list(d) == ["kinematic", "static", "mechanisms", "terms", "notes", "joints"]
     assert list(d["terms"]) == list(TERM_KEYS)
     json.dumps(d)  # plain JSON types only
+    counts_only = r.to_dict(joints=False)  # what the IFC and the summary read: the same, without the joint rows
+    assert counts_only == {k: v for k, v in d.items() if k != "joints"}
     table = r.format_table()
     for words in ("joints x DOF per joint", "releases", "restraints", "constraints", "reductions",
                   "kinematic indeterminacy", "static indeterminacy", "mechanisms", "Notes:"):
