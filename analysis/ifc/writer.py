@@ -161,8 +161,9 @@ def write_results(source_path, out_path, model, results, indeterminacy=None, *, 
     progress : optional callable(step: str).
     stations : the stations of the curve reactions: 'ends', 'extremes' (default) or 'all'
         (see `analysis.stations`); the property sets and the JSON always use every station.
-    fork : format the curve reactions in a forked process while the property sets are
-        made (the same bytes, sooner on a machine with a spare core): True, False
+    fork : format the curve reactions in forked processes while the writer goes on (the
+        first result set's as soon as it is prepared, the others' while the property sets
+        are made; the same bytes, sooner on a machine with a spare core): True, False
         (default: in this process), None (where `side_text_possible`). Never from
         inside an application that cannot be forked safely (Blender).
 
@@ -1310,7 +1311,8 @@ class _SideText:
     """The text of `_CurveLines` jobs, made by a forked process while the writer goes on (Linux).
 
     Each job's text goes into an anonymous in-memory file; the writer reads
-    it when it writes the file, after the process has ended well. A failure
+    it when it writes the file, after the process has ended well. The writer
+    starts two at most: one for the first result set, one for the rest. A failure
     there is raised in the writer; `close` stops the process if the writer
     gives up first.
     """
