@@ -592,9 +592,7 @@ def governing(results) -> dict[str, tuple[float, str, str]]:
 
     best: dict[str, tuple[float, str, str]] = {}
     ids = results.frame.member_ids
-    for name in results.cases:
-        if not ids:
-            continue
+    for name in results.cases if ids else ():
         blk = results.diagram_block(name)
         sizes = blk.sizes
         F = blk.forces if sizes.sum() else np.zeros((1, len(ACTION_NAMES)))

@@ -899,11 +899,15 @@ class FrameBuilder:
         sections, s_at = shared(column("section"))
         materials, m_at = shared(column("material"))
 
+        def spread(distinct: list, at: npt.NDArray[np.intp], name: str) -> FloatArray:
+            """One attribute of the distinct objects, as a column over the members."""
+            return np.array([getattr(x, name) for x in distinct], dtype=np.float64).reshape(-1)[at]
+
         def of_sections(name: str) -> FloatArray:
-            return np.array([getattr(x, name) for x in sections], dtype=np.float64).reshape(-1)[s_at] if mems else np.zeros(0)
+            return spread(sections, s_at, name)
 
         def of_materials(name: str) -> FloatArray:
-            return np.array([getattr(x, name) for x in materials], dtype=np.float64).reshape(-1)[m_at] if mems else np.zeros(0)
+            return spread(materials, m_at, name)
 
         ends = column("ends")
         return Frame(

@@ -9,7 +9,7 @@ positive-face rule (see `analysis.stiffness.elements`): N > 0 tension.
 from __future__ import annotations
 
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any
 
@@ -120,6 +120,16 @@ class DiagramBlock:
     deflections: np.ndarray  # (S,2)
 
 
+def join_diagrams(diagrams: Sequence[MemberDiagram]) -> DiagramBlock:
+    """Diagrams end to end as one `DiagramBlock`, in the order given."""
+    sizes = np.array([len(dg.stations) for dg in diagrams], dtype=np.int64)
+    return DiagramBlock(
+        sizes=sizes, starts=np.concatenate([[0], np.cumsum(sizes)[:-1]]).astype(np.int64),
+        stations=np.concatenate([dg.stations for dg in diagrams]) if len(diagrams) else np.zeros(0),
+        forces=np.concatenate([dg.forces for dg in diagrams]) if len(diagrams) else np.zeros((0, 6)),
+        deflections=np.concatenate([dg.deflections for dg in diagrams]) if len(diagrams) else np.zeros((0, 2)))
+
+
 class _BlockDiagrams:
     """The members' diagrams of a `DiagramBlock`, made when first asked for (a sequence like the list).
 
@@ -138,12 +148,12 @@ class _BlockDiagrams:
         return len(self.block.sizes)
 
     def __getitem__(self, k: int) -> MemberDiagram:
+        if not -len(self) <= k < len(self):
+            raise IndexError(k)
+        k %= len(self)  # a negative index names the same member (and its one object)
         dg = self._made.get(k)
         if dg is None:
             b = self.block
-            if not -len(self) <= k < len(self):
-                raise IndexError(k)
-            k %= len(self)
             a = int(b.starts[k])
             rows = slice(a, a + int(b.sizes[k]))
             dg = self._made[k] = MemberDiagram(stations=b.stations[rows], forces=b.forces[rows],
@@ -216,14 +226,7 @@ class Results:
                 self.diagram(case, 0)  # every member's diagram, and the block where the closed forms made one
             hit = self._diagram_cache.get(key)
             if hit is None:
-                diagrams = [self.diagram(case, k) for k in range(m)]
-                sizes = np.array([len(dg.stations) for dg in diagrams], dtype=np.int64)
-                hit = DiagramBlock(
-                    sizes=sizes, starts=np.concatenate([[0], np.cumsum(sizes)[:-1]]).astype(np.int64),
-                    stations=np.concatenate([dg.stations for dg in diagrams]) if m else np.zeros(0),
-                    forces=np.concatenate([dg.forces for dg in diagrams]) if m else np.zeros((0, 6)),
-                    deflections=np.concatenate([dg.deflections for dg in diagrams]) if m else np.zeros((0, 2)))
-                self._diagram_cache[key] = hit
+                hit = self._diagram_cache[key] = join_diagrams([self.diagram(case, k) for k in range(m)])
         return hit
 
     def warm_diagrams(self) -> None:

@@ -1900,15 +1900,13 @@ class _StructuralReader:
             raise self.fail(action, f"curve action extends beyond {entity_label(member)}")
         return min(max(s[0], 0.0), L), min(max(s[1], 0.0), L)
 
-    def _curve_samples(self, action, load, kind: str, extent, configuration: bool | None = None) -> list:
+    def _curve_samples(self, action, load, kind: str, extent, configuration: bool) -> list:
         """(position m from end i, SI linear-force vector in the load's axes) samples, ascending.
 
-        ``configuration``: whether ``load`` is an IfcStructuralLoadConfiguration (found here when None).
+        ``configuration``: whether ``load`` is an IfcStructuralLoadConfiguration (`_load_class`).
         """
         a, b = extent
         reverse = b < a
-        if configuration is None:
-            configuration = bool(load.is_a("IfcStructuralLoadConfiguration"))
         if configuration:
             values = list(load.Values or ())
             locations = list(load.Locations or ())

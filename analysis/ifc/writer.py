@@ -912,13 +912,11 @@ class _Writer:
         order = [(k, offset) for segments in chains.values() for k, offset in segments]
         if [k for k, _ in order] == list(range(self.frame.n_members)):  # one IFC member per frame member, in order
             blk = res.diagram_block(case)
-            sizes, S, F, D = blk.sizes, blk.stations, blk.forces, blk.deflections
         else:
-            diagrams = [res.diagram(case, k) for k, _ in order]
-            sizes = np.array([len(dg.stations) for dg in diagrams], dtype=np.int64)
-            S = np.concatenate([dg.stations for dg in diagrams])
-            F = np.concatenate([dg.forces for dg in diagrams])
-            D = np.concatenate([dg.deflections for dg in diagrams])
+            from ..results import join_diagrams
+
+            blk = join_diagrams([res.diagram(case, k) for k, _ in order])
+        sizes, S, F, D = blk.sizes, blk.stations, blk.forces, blk.deflections
         # each reaction at its own stations: the forces at the ends, both sides of concentrated loads and the
         # forces' extremes; the deflections at the ends, the load points and the deflections' extremes
         keep_f = select_stations_batch(sizes, S, F, np.zeros_like(D), self.stations)

@@ -266,7 +266,7 @@ def test_diagrams_of_a_batched_case_are_made_when_asked_for():
     listed, _ = _uniform_diagrams(r, r.cases["w"], np.arange(3), r.options.stations)
     r.diagram("w", 0)
     lazy = r._diagram_cache[("w", r.options.stations)]
-    assert len(lazy) == 3 and lazy[-1] is lazy[2] and r.diagram("w", 1) is lazy[1]
+    assert len(lazy) == 3 and lazy[-1] is lazy[2] and lazy[-1] is lazy[-1] and r.diagram("w", 1) is lazy[1]
     for dg, ref in zip((lazy[k] for k in range(3)), listed):
         assert np.array_equal(dg.stations, ref.stations) and np.array_equal(dg.forces, ref.forces)
         assert np.array_equal(dg.deflections, ref.deflections)
