@@ -457,8 +457,8 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int,
     P[:, 4, 0], P[:, 4, 1], P[:, 4, 2] = -f[:, 4], -f[:, 2], -q[:, 2] / 2
     P[:, 5, 0], P[:, 5, 1], P[:, 5, 2] = -f[:, 5], f[:, 1], q[:, 1] / 2
 
-    def slopes(s, pre=None, comp=None):  # s (g,k), or (r,1) with pre = (P, d, C) of r rows -> dv/ds, dw/ds
-        Pr, dr, Cr = pre if pre is not None else (P, d, C)
+    def slopes(s, comp=None):  # s (g,k) -> dv/ds, dw/ds
+        Pr, dr, Cr = P, d, C
         if comp != 1:
             Vy = Pr[:, 1, 0, None] + Pr[:, 1, 1, None] * s
             iz = Pr[:, 5, 0, None] * s + Pr[:, 5, 1, None] * s**2 / 2 + Pr[:, 5, 2, None] * s**3 / 3
@@ -487,14 +487,23 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int,
         if rows.size:
             a, b = fine[rows, cols], fine[rows, cols + 1]
             fa = val[rows, cols]
-            pre = (P[rows], d[rows], C[rows])
+            # the slope as a cubic c0 + c1 s + c2 s² + c3 s³ (the terms of `slopes`), evaluated by Horner's rule
+            Pr, dr, Cr = P[rows], d[rows], C[rows]
+            if comp == 0:
+                c0 = dr[:, 5] + Cr[:, 1] * Pr[:, 1, 0]
+                c1 = Cr[:, 5] * Pr[:, 5, 0] + Cr[:, 1] * Pr[:, 1, 1]
+                c2, c3 = Cr[:, 5] * Pr[:, 5, 1] / 2, Cr[:, 5] * Pr[:, 5, 2] / 3
+            else:
+                c0 = -dr[:, 4] + Cr[:, 2] * Pr[:, 2, 0]
+                c1 = -Cr[:, 4] * Pr[:, 4, 0] + Cr[:, 2] * Pr[:, 2, 1]
+                c2, c3 = -Cr[:, 4] * Pr[:, 4, 1] / 2, -Cr[:, 4] * Pr[:, 4, 2] / 3
+            positive = fa > 0
             for _ in range(60):
                 mid = (a + b) / 2
-                fm = slopes(mid[:, None], pre, comp)[:, 0]
-                left = np.sign(fm) == np.sign(fa)
-                a = np.where(left, mid, a)
-                fa = np.where(left, fm, fa)
-                b = np.where(left, b, mid)
+                fm = ((c3 * mid + c2) * mid + c1) * mid + c0
+                left = (fm > 0) == positive  # the same sign as at a (fa is never 0: a sign change brackets it)
+                np.copyto(a, mid, where=left)
+                np.copyto(b, mid, where=~left)
             # the roots of each row side by side (np.nonzero lists them row by row): as few columns as needed
             pos = np.arange(rows.size) - np.searchsorted(rows, rows, side="left")
             roots = np.full((g, int(pos.max()) + 1), np.nan)
