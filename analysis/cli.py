@@ -444,15 +444,19 @@ def _check_output(path: str, input_path: str, what: str, allow_input: bool = Fal
 
 
 def _read(args, con):
-    from .ifc.reader import read_ifc
+    from .warm_imports import ANALYZE_MODULES, CHECK_MODULES, importing_alongside
 
     _check_input(args.input)
     con.progress("reading")
     t0 = time.perf_counter()
-    model = read_ifc(args.input, model=args.model, merge_tolerance=args.merge_tolerance,
-                     select=args.select, exclude=args.exclude, supports=args.supports, strict=args.strict,
-                     members=args.members, materials=args.materials, sections=args.sections,
-                     progress=con.progress)
+    later = CHECK_MODULES if args.command == "check" else ANALYZE_MODULES
+    with importing_alongside(later if not getattr(args, "keep", None) else (), args.input):
+        from .ifc.reader import read_ifc  # (while the parser runs, the thread imports what comes after it)
+
+        model = read_ifc(args.input, model=args.model, merge_tolerance=args.merge_tolerance,
+                         select=args.select, exclude=args.exclude, supports=args.supports, strict=args.strict,
+                         members=args.members, materials=args.materials, sections=args.sections,
+                         progress=con.progress)
     con.info(f"read {args.input} in {time.perf_counter() - t0:.2f} s "
              f"(route {getattr(model, 'route', '?')}, schema {getattr(model, 'schema', '?')})")
     return model
