@@ -419,7 +419,12 @@ def _member_force_counts(frame: Frame, R: np.ndarray, plane_axis: int | None) ->
         nloc = np.round(R[:, :, plane_axis], 9)
         keys = np.concatenate([rel.astype(float), nloc], axis=1)
         base = 3
-    uniq, inverse = np.unique(keys, axis=0, return_inverse=True)
+    if plane_axis is None:  # twelve flags: one integer per member, distinct rows found on those (faster)
+        codes = rel.astype(np.int64) @ (np.int64(1) << np.arange(12, dtype=np.int64))
+        _, first, inverse = np.unique(codes, return_index=True, return_inverse=True)
+        uniq = keys[first]
+    else:
+        uniq, inverse = np.unique(keys, axis=0, return_inverse=True)
     inverse = np.asarray(inverse).reshape(-1)
     counts = np.empty(len(uniq), int)
     for u, key in enumerate(uniq):
@@ -619,46 +624,55 @@ def _geometric_mechanisms(frame: Frame, dofs, R: np.ndarray, force: bool = False
 
     # -- reduced columns: per cluster the master's active components; singletons' free
     #    components; own end rotations
-    col_rows, col_cols, col_vals = [], [], []
-    act_list = list(dofs.active)
+    act = np.array(list(dofs.active), dtype=np.int64)
+    rows_p: list[np.ndarray] = []
+    cols_p: list[np.ndarray] = []
+    vals_p: list[np.ndarray] = []
+    rot_p: list[np.ndarray] = []
+    ks = np.flatnonzero(in_cluster)
     nc = 0
-    col_is_rot: list[bool] = []
-    master = {}
-    for k in np.flatnonzero(in_cluster):
-        c = lab[k]
-        if c not in master:
-            master[c] = (k, nc)
-            nc += len(act_list)
-            col_is_rot += [a >= 3 for a in act_list]
-    if master:
-        ks = np.flatnonzero(in_cluster)
-        for k in ks:
-            mk, c0 = master[lab[k]]
-            d = frame.nodes[k] - frame.nodes[mk]
-            S = np.eye(6)
-            S[:3, 3:] = -_skew(d)
-            sub = S[np.ix_(act_list, act_list)]
-            r, q = np.nonzero(np.abs(sub) > 0)
-            col_rows += list(6 * k + np.array(act_list)[r])
-            col_cols += list(c0 + q)
-            col_vals += list(sub[r, q])
+    if ks.size:
+        # clusters numbered in the order of their first node; each gets the master's active components
+        labels, first = np.unique(lab[ks], return_index=True)
+        order = np.argsort(first, kind="stable")
+        rank = np.empty(len(labels), dtype=np.int64)
+        rank[order] = np.arange(len(labels))
+        which = rank[np.searchsorted(labels, lab[ks])]  # each cluster node's cluster, by first appearance
+        mk = ks[first[order]][which]  # its master node
+        c0 = which * act.size  # the master's first column
+        nc = len(labels) * act.size
+        rot_p.append(np.tile(act >= 3, len(labels)))
+        # a node of the cluster moves with the master: translation u_m + theta_m x d, rotation theta_m
+        d = frame.nodes[ks] - frame.nodes[mk]
+        S = np.zeros((ks.size, 6, 6))
+        S[:, np.arange(6), np.arange(6)] = 1.0
+        S[:, 0, 4], S[:, 0, 5] = d[:, 2], -d[:, 1]  # -skew(d) in the upper right block
+        S[:, 1, 3], S[:, 1, 5] = -d[:, 2], d[:, 0]
+        S[:, 2, 3], S[:, 2, 4] = d[:, 1], -d[:, 0]
+        sub = S[:, act[:, None], act[None, :]]
+        kk, r, q = np.nonzero(np.abs(sub) > 0)
+        rows_p.append(6 * ks[kk] + act[r])
+        cols_p.append(c0[kk] + q)
+        vals_p.append(sub[kk, r, q])
     single = ~in_cluster
     nd = dofs.node_dof.copy()
     nd[~single] = -1
     fr = np.argwhere(nd >= 0)
-    col_rows += list(6 * fr[:, 0] + fr[:, 1])
-    col_cols += list(nc + np.arange(len(fr)))
-    col_vals += [1.0] * len(fr)
-    col_is_rot += list(fr[:, 1] >= 3)
+    rows_p.append(6 * fr[:, 0] + fr[:, 1])
+    cols_p.append(nc + np.arange(len(fr)))
+    vals_p.append(np.ones(len(fr)))
+    rot_p.append(fr[:, 1] >= 3)
     nc += len(fr)
     h = dofs.hinge_dof.reshape(-1)
     hk = h[h >= 0]
-    col_rows += list(N6 + (hk - n_joint_x))
-    col_cols += list(nc + np.arange(hk.size))
-    col_vals += [1.0] * hk.size
-    col_is_rot += [True] * hk.size
+    rows_p.append(N6 + (hk - n_joint_x))
+    cols_p.append(nc + np.arange(hk.size))
+    vals_p.append(np.ones(hk.size))
+    rot_p.append(np.ones(hk.size, bool))
     nc += hk.size
-    Tc = sp.coo_array((np.array(col_vals, float), (np.array(col_rows, int), np.array(col_cols, int))),
+    col_is_rot = np.concatenate(rot_p).astype(bool).tolist()
+    Tc = sp.coo_array((np.concatenate(vals_p).astype(float),
+                       (np.concatenate(rows_p).astype(np.int64), np.concatenate(cols_p).astype(np.int64))),
                       shape=(n_ext, nc)).tocsr()
     if nc == 0:
         return 0, []
