@@ -26,33 +26,76 @@ __all__ = ["SIGNIFICANT_DIGITS", "real", "reals", "string", "ref", "refs", "enum
 
 #: Significant digits of every number the bulk writer formats.
 SIGNIFICANT_DIGITS = 12
-_FMT = f"{{:.{SIGNIFICANT_DIGITS}g}}"
 _PCT = f"%.{SIGNIFICANT_DIGITS}g,"  # the same format for one %-operation over many values (faster than map)
 
 
 def real(x: float) -> str:
-    """A STEP REAL for a finite float (``$`` for NaN or infinity): ``1.``, ``-2.5``, ``1.E-13``."""
-    x = float(x)
-    if not math.isfinite(x):
-        return "$"
-    s = _FMT.format(x)
-    if "e" in s:
-        m, e = s.split("e")
-        if "." not in m:
-            m += "."
-        return f"{m}E{e}"
-    if "." not in s:
-        if s == "-0":
-            return "0."
-        return s + "."
-    return s
+    """A STEP REAL for a finite float (``$`` for NaN or infinity): ``1.``, ``-2.5``, ``1.E-13`` (as `reals`)."""
+    return reals(np.array([float(x)]))[0]
 
 
 def reals(values: Any) -> list[str]:
-    """`real` of every value of an array (flattened, C order), formatted in one pass."""
+    """A STEP REAL of every value of an array (flattened, C order), formatted in one pass.
+
+    Each value is rounded to `SIGNIFICANT_DIGITS` significant digits as a
+    decimal, and the double nearest that decimal is written in its shortest
+    round-trip form (orjson): the same decimal as ``%.12g`` gives, at a tenth
+    of the cost. The rounding is ``rint(x * 10**k) / 10**k`` with an exact
+    power of ten, so the result is the double nearest an integer of twelve
+    digits times 10**-k (one IEEE division, correctly rounded), whose
+    shortest form has at most twelve digits; it can differ from ``%.12g`` by
+    one unit in the twelfth digit where x * 10**k lands within an ulp of a
+    half. Values outside 1e-11 to 1e34 in magnitude (k beyond the exact
+    powers of ten) are formatted with ``%.12g``.
+    """
     flat = np.asarray(values, dtype=float).ravel()
     if flat.size == 0:
         return []
+    try:
+        import orjson
+    except ImportError:  # pragma: no cover - orjson is a dependency
+        return _reals_printf(flat)
+    a = np.abs(flat)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        k = (SIGNIFICANT_DIGITS - 1) - np.floor(np.log10(a))  # 10**k scales |x| to twelve integer digits
+    fast = np.isfinite(flat) & (a > 0)
+    fast[fast] = np.abs(k[fast]) <= 21  # an exact power of ten also after a correction by one
+    x, kf = flat[fast], k[fast]
+    n, p, up = _scaled(x, kf)
+    # log10 may miss the exponent by one near a power of ten (and rint may carry to 10**12): correct once
+    kf = kf - (np.abs(n) >= 10.0 ** SIGNIFICANT_DIGITS) + (np.abs(n) < 10.0 ** (SIGNIFICANT_DIGITS - 1))
+    n, p, up = _scaled(x, kf)
+    rounded = flat.copy()
+    rounded[fast] = np.where(up, n / p, n * p)
+    rounded[~np.isfinite(flat)] = np.nan
+    rounded[flat == 0] = 0.0  # -0.0 too
+    text = "," + orjson.dumps(rounded, option=orjson.OPT_SERIALIZE_NUMPY).decode("ascii")[1:-1] + ","
+    # to STEP: null (NaN, infinity) -> $; 1e-7 -> 1.E-7; 100.0 -> 100.
+    if "n" in text:
+        text = text.replace(",null,", ",$,").replace(",null,", ",$,")
+    text = text.replace(".0,", ".,")
+    if "e" in text:
+        text = _NO_POINT.sub(r"\1.E", text.replace("e", "E"))
+    tokens = text[1:-1].split(",")
+    rest = np.flatnonzero(~fast & np.isfinite(flat) & (flat != 0))
+    if rest.size:
+        for i, t in zip(rest.tolist(), _reals_printf(flat[rest])):
+            tokens[i] = t
+    return tokens
+
+
+def _scaled(x: np.ndarray, k: np.ndarray) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """rint(x * 10**k) (an integer of twelve digits when k is right), 10**|k| and whether k >= 0."""
+    up = k >= 0
+    p = 10.0 ** np.abs(k)  # exact for |k| <= 22
+    return np.rint(np.where(up, x * p, x / p)), p, up
+
+
+_NO_POINT = re.compile(r"(,-?[0-9]+)E")  # a mantissa without a decimal point
+
+
+def _reals_printf(flat: np.ndarray) -> list[str]:
+    """`reals` through ``%.12g`` (one %-operation over all values)."""
     tokens = ((_PCT * flat.size) % tuple(flat.tolist()))[:-1].replace("e", "E").split(",")
     return [t if "." in t else _fix(t) for t in tokens]
 
