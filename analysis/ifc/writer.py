@@ -1233,6 +1233,24 @@ def _activity_lines(fmt: str, rel: str, first: int, owner: str, names: list[str]
             for j in range(len(loads))]
 
 
+def _numbered(fmt: str, first: int, tokens: list[str], per: int) -> str:
+    """Lines ``#id=<fmt>;`` with ids from ``first``, ``per`` tokens each, made by one %-operation."""
+    n = len(tokens) // per
+    if not n:
+        return ""
+    args: list[Any] = [None] * ((per + 1) * n)
+    args[0::per + 1] = range(first, first + n)
+    for c in range(per):
+        args[1 + c::per + 1] = tokens[c::per]
+    return (f"#%d={fmt};\n" * n) % tuple(args)
+
+
+def _spans(refs) -> tuple[str, list[int]]:
+    """``refs`` joined by commas, and where each starts in that text (one more: the end plus one)."""
+    refs = list(refs)
+    return ",".join(refs), list(itertools.accumulate([len(r) + 1 for r in refs], initial=0))
+
+
 @dataclass
 class _CurveLines:
     """The STEP lines of one result set's curve reactions, for ids handed out already (see `_curve_results`).
@@ -1275,16 +1293,17 @@ class _CurveLines:
         where_d = [f"({t})" for t in reals(self.where_d)]
         tok_f, tok_d = reals(self.forces), reals(self.deflections)
         force_fmt, defl_fmt, config_fmt, names = self.force_fmt, self.defl_fmt, self.config_fmt, self.names
-        lines = [f"#{f0 + j}={force_fmt % tuple(tok_f[6 * j:6 * j + 6])};\n" for j in range(total_f)]
-        lines += [f"#{d0 + j}={defl_fmt % (tok_d[2 * j], tok_d[2 * j + 1])};\n" for j in range(total_d)]
-        refs_f = [f"#{f0 + x}" for x in range(total_f)]
-        refs_d = [f"#{d0 + x}" for x in range(total_d)]
-        kinds = ((refs_f, where_f, self.starts_f), (refs_d, where_d, self.starts_d))
+        # the loads: one %-operation over all of them (id, then the values), a line each
+        lines = [_numbered(force_fmt, f0, tok_f, 6), _numbered(defl_fmt, d0, tok_d, 2)]
+        kinds = ((_spans(f"#{f0 + x}" for x in range(total_f)), where_f, self.starts_f),
+                 (_spans(f"#{d0 + x}" for x in range(total_d)), where_d, self.starts_d))
         items, labels = [], []
         for j, (ref, label) in enumerate(zip(self.items, self.labels)):
-            for w, (refs, where, starts) in enumerate(kinds):
+            for w, ((refs, at), where, starts) in enumerate(kinds):
                 a, b = starts[j], starts[j + 1]
-                lines.append(f"#{c0 + 2 * j + w}={config_fmt % (names[w], '(' + ','.join(refs[a:b]) + ')', '(' + ','.join(where[a:b]) + ')')};\n")
+                # the member's references: a slice of all of them joined (the ids run on)
+                listed = refs[at[a]:at[b] - 1] if b > a else ""
+                lines.append(f"#{c0 + 2 * j + w}={config_fmt % (names[w], '(' + listed + ')', '(' + ','.join(where[a:b]) + ')')};\n")
                 labels.append(label[w])
                 items.append(ref)
         fmt, rel = self.activity_fmts
