@@ -444,19 +444,21 @@ def _check_output(path: str, input_path: str, what: str, allow_input: bool = Fal
 
 
 def _read(args, con):
-    from .warm_imports import ANALYZE_MODULES, CHECK_MODULES, importing_alongside
+    from . import warm_imports
+    from .ifc.reader import read_ifc
 
     _check_input(args.input)
     con.progress("reading")
     t0 = time.perf_counter()
-    later = CHECK_MODULES if args.command == "check" else ANALYZE_MODULES
-    with importing_alongside(later if not getattr(args, "keep", None) else (), args.input):
-        from .ifc.reader import read_ifc  # (while the parser runs, the thread imports what comes after it)
-
+    if getattr(args, "keep", None) is None:  # (batch runs share a process: their modules stay imported)
+        warm_imports.expect(warm_imports.CHECK_MODULES if args.command == "check" else warm_imports.ANALYZE_MODULES)
+    try:
         model = read_ifc(args.input, model=args.model, merge_tolerance=args.merge_tolerance,
                          select=args.select, exclude=args.exclude, supports=args.supports, strict=args.strict,
                          members=args.members, materials=args.materials, sections=args.sections,
                          progress=con.progress)
+    finally:
+        warm_imports.expect(())  # a file that failed before parsing leaves nothing for the next
     con.info(f"read {args.input} in {time.perf_counter() - t0:.2f} s "
              f"(route {getattr(model, 'route', '?')}, schema {getattr(model, 'schema', '?')})")
     return model

@@ -5,9 +5,11 @@ reading and hashing the file (`analysis.ifc.source`) release it too: measured
 on these machines, another thread keeps over 80 % of its speed meanwhile. The
 modules an ``analyze`` run imports only after reading (the sparse solver with
 its MKL libraries, scipy.spatial, the counts, the writer: about 0.4 s) are
-therefore imported by a thread while the parser runs, and the thread is
-joined before the reading returns: nothing else runs beside the command's
-own thread afterwards (forking, `analysis.fileio.side_outputs`, needs that).
+therefore imported by a thread while the parser runs (the command names
+them with `expect`, `analysis.ifc.source.open_source` parses inside
+`while_parsing`), and the thread is stopped and joined when the parser
+returns: nothing else runs beside the command's own thread afterwards
+(forking, `analysis.fileio.side_outputs`, needs that).
 
 A module that fails to import in the thread is left alone: the command's own
 import of it raises where it is needed, with its usual message.
@@ -20,7 +22,7 @@ import os
 import threading
 from collections.abc import Iterator, Sequence
 
-__all__ = ["ANALYZE_MODULES", "CHECK_MODULES", "importing_alongside", "WORTH_FROM_BYTES"]
+__all__ = ["ANALYZE_MODULES", "CHECK_MODULES", "expect", "while_parsing", "WORTH_FROM_BYTES"]
 
 #: what ``plumbframe check`` imports after reading
 CHECK_MODULES = ("scipy.spatial", "analysis.indeterminacy")
@@ -30,32 +32,46 @@ ANALYZE_MODULES = (*CHECK_MODULES, "pypardiso", "uuid", "analysis.magnitudes", "
 #: files smaller than this parse in a few hundredths of a second: nothing to overlap, the modules come as needed
 WORTH_FROM_BYTES = 2_000_000
 
+_expected: tuple[str, ...] = ()
 
-def _import_all(names: Sequence[str]) -> None:
+
+def expect(names: Sequence[str]) -> None:
+    """Name the modules the next file parsed (`while_parsing`) may import alongside; once."""
+    global _expected
+    _expected = tuple(names)
+
+
+def _import_all(names: Sequence[str], stop: threading.Event) -> None:
     for name in names:
+        if stop.is_set():  # the parser is done: the rest is imported where it is needed, as before
+            return
         with contextlib.suppress(Exception):  # the command's own import reports it
             importlib.import_module(name)
 
 
 @contextlib.contextmanager
-def importing_alongside(names: Sequence[str], path: str | os.PathLike[str] | None = None) -> Iterator[None]:
-    """Import ``names`` in a thread while the block runs (joined when it ends); only where ``path``, the file
-    the block parses, is at least `WORTH_FROM_BYTES` (or not given). ``plumbframe batch`` passes nothing: its
-    runs share a process, where the modules stay imported after the first."""
-    if not names:
+def while_parsing(path: str | os.PathLike[str]) -> Iterator[None]:
+    """While the block parses ``path``, import the modules `expect` named (then forgotten) in a thread.
+
+    Only for a file of `WORTH_FROM_BYTES` or more. When the block ends the
+    thread stops after the module it is importing, and is joined: the
+    reader's own Python work after parsing does not share the interpreter
+    with it.
+    """
+    global _expected
+    names, _expected = _expected, ()
+    try:
+        worth = bool(names) and os.stat(path).st_size >= WORTH_FROM_BYTES
+    except OSError:
+        worth = False  # the reader reports the file
+    if not worth:
         yield
         return
-    if path is not None:
-        try:
-            worth = os.stat(path).st_size >= WORTH_FROM_BYTES
-        except OSError:
-            worth = False  # the reader reports the file
-        if not worth:
-            yield
-            return
-    thread = threading.Thread(target=_import_all, args=(tuple(names),), name="plumbframe-imports", daemon=True)
+    stop = threading.Event()
+    thread = threading.Thread(target=_import_all, args=(names, stop), name="plumbframe-imports", daemon=True)
     thread.start()
     try:
         yield
     finally:
+        stop.set()
         thread.join()

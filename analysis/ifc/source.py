@@ -35,6 +35,7 @@ from collections.abc import Callable
 from typing import Any
 
 from ..errors import Diagnostic, IfcInputError, entity_label
+from ..warm_imports import while_parsing
 
 __all__ = ["SourceStamp", "Source", "open_source", "verify_unchanged", "dangling_references", "parser_findings",
            "SUPPORTED_SCHEMAS"]
@@ -438,7 +439,14 @@ def open_source(path: str | os.PathLike[str], *, checks: bool = True) -> Source:
     st = check_regular(path)
     if not os.access(path, os.R_OK):
         raise IfcInputError(f"{path}: cannot be read (permission denied)")
-    scan = _read_through(path, st)
+    # the modules the command needs next are imported while the file is read and parsed (analysis.warm_imports)
+    warm = contextlib.ExitStack()
+    warm.enter_context(while_parsing(path))
+    try:
+        scan = _read_through(path, st)
+    except BaseException:
+        warm.close()
+        raise
     try:
         kind = _check_kind(path, scan)
         if kind == "step":
@@ -446,7 +454,10 @@ def open_source(path: str | os.PathLike[str], *, checks: bool = True) -> Source:
         parse_path = scan.copy or path
         _take_log()  # start with an empty log
         try:
-            f = ifcopenshell.open(parse_path) if scan.copy is None else ifcopenshell.open(parse_path, format=".ifc")
+            try:
+                f = ifcopenshell.open(parse_path) if scan.copy is None else ifcopenshell.open(parse_path, format=".ifc")
+            finally:
+                warm.close()
         except Exception as exc:  # ifcopenshell raises several types for unreadable files
             log = _parse_log(_take_log())
             message = _schema_message(path, exc)
@@ -456,6 +467,7 @@ def open_source(path: str | os.PathLike[str], *, checks: bool = True) -> Source:
         log = _parse_log(_take_log())
         diagnostics, dangling = _findings(path, parse_path, len(_BOM) if scan.bom else 0, f, log)
     finally:
+        warm.close()  # (closed already where the parser ran)
         if scan.copy:
             _remove(scan.copy)
     try:
