@@ -670,7 +670,7 @@ def _geometric_mechanisms(frame: Frame, dofs, R: np.ndarray, force: bool = False
     vals_p.append(np.ones(hk.size))
     rot_p.append(np.ones(hk.size, bool))
     nc += hk.size
-    col_is_rot = np.concatenate(rot_p).astype(bool).tolist()
+    col_is_rot = np.concatenate(rot_p)  # (nc,) bool
     Tc = sp.coo_array((np.concatenate(vals_p).astype(float),
                        (np.concatenate(rows_p).astype(np.int64), np.concatenate(cols_p).astype(np.int64))),
                       shape=(n_ext, nc)).tocsr()

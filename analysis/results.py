@@ -457,18 +457,13 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int,
     P[:, 4, 0], P[:, 4, 1], P[:, 4, 2] = -f[:, 4], -f[:, 2], -q[:, 2] / 2
     P[:, 5, 0], P[:, 5, 1], P[:, 5, 2] = -f[:, 5], f[:, 1], q[:, 1] / 2
 
-    def slopes(s, comp=None):  # s (g,k) -> dv/ds, dw/ds
-        Pr, dr, Cr = P, d, C
-        if comp != 1:
-            Vy = Pr[:, 1, 0, None] + Pr[:, 1, 1, None] * s
-            iz = Pr[:, 5, 0, None] * s + Pr[:, 5, 1, None] * s**2 / 2 + Pr[:, 5, 2, None] * s**3 / 3
-            dv = dr[:, 5, None] + Cr[:, 5, None] * iz + Cr[:, 1, None] * Vy
-            if comp == 0:
-                return dv
-        Vz = Pr[:, 2, 0, None] + Pr[:, 2, 1, None] * s
-        iy = Pr[:, 4, 0, None] * s + Pr[:, 4, 1, None] * s**2 / 2 + Pr[:, 4, 2, None] * s**3 / 3
-        dw = -dr[:, 4, None] - Cr[:, 4, None] * iy + Cr[:, 2, None] * Vz
-        return dw if comp == 1 else (dv, dw)
+    def slope_cubic(comp):  # dv/ds (comp 0) or dw/ds (comp 1) as c0 + c1 s + c2 s² + c3 s³: (4, g) coefficients
+        if comp == 0:  # dv/ds = d5 + C5 ∫Mz + C1 Vy
+            return np.array([d[:, 5] + C[:, 1] * P[:, 1, 0], C[:, 5] * P[:, 5, 0] + C[:, 1] * P[:, 1, 1],
+                             C[:, 5] * P[:, 5, 1] / 2, C[:, 5] * P[:, 5, 2] / 3])
+        # dw/ds = -d4 - C4 ∫My + C2 Vz
+        return np.array([-d[:, 4] + C[:, 2] * P[:, 2, 0], -C[:, 4] * P[:, 4, 0] + C[:, 2] * P[:, 2, 1],
+                         -C[:, 4] * P[:, 4, 1] / 2, -C[:, 4] * P[:, 4, 2] / 3])
 
     grid = np.linspace(0.0, 1.0, n_st)[None, :] * L[:, None]
     extra = []
@@ -479,7 +474,8 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int,
         extra.append(np.where(ok, s0, np.nan))
     fine = np.linspace(0.0, 1.0, 4 * n_st + 1)[None, :] * L[:, None]
     for comp in (0, 1):
-        val = slopes(fine, comp=comp)
+        c0, c1, c2, c3 = slope_cubic(comp)
+        val = ((c3[:, None] * fine + c2[:, None]) * fine + c1[:, None]) * fine + c0[:, None]  # Horner's rule
         scale = np.abs(val).max(axis=1, keepdims=True) + 1e-300
         sign = np.sign(np.where(np.abs(val) <= 1e-13 * scale, 0.0, val))
         change = (sign[:, :-1] * sign[:, 1:]) < 0
@@ -487,16 +483,7 @@ def _uniform_diagrams(res: "Results", cr: CaseResult, ks: np.ndarray, n_st: int,
         if rows.size:
             a, b = fine[rows, cols], fine[rows, cols + 1]
             fa = val[rows, cols]
-            # the slope as a cubic c0 + c1 s + c2 s² + c3 s³ (the terms of `slopes`), evaluated by Horner's rule
-            Pr, dr, Cr = P[rows], d[rows], C[rows]
-            if comp == 0:
-                c0 = dr[:, 5] + Cr[:, 1] * Pr[:, 1, 0]
-                c1 = Cr[:, 5] * Pr[:, 5, 0] + Cr[:, 1] * Pr[:, 1, 1]
-                c2, c3 = Cr[:, 5] * Pr[:, 5, 1] / 2, Cr[:, 5] * Pr[:, 5, 2] / 3
-            else:
-                c0 = -dr[:, 4] + Cr[:, 2] * Pr[:, 2, 0]
-                c1 = -Cr[:, 4] * Pr[:, 4, 0] + Cr[:, 2] * Pr[:, 2, 1]
-                c2, c3 = -Cr[:, 4] * Pr[:, 4, 1] / 2, -Cr[:, 4] * Pr[:, 4, 2] / 3
+            c0, c1, c2, c3 = c0[rows], c1[rows], c2[rows], c3[rows]
             positive = fa > 0
             for _ in range(60):
                 mid = (a + b) / 2

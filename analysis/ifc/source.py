@@ -442,12 +442,9 @@ def open_source(path: str | os.PathLike[str], *, checks: bool = True) -> Source:
     # the modules the command needs next are imported while the file is read and parsed (analysis.warm_imports)
     warm = contextlib.ExitStack()
     warm.enter_context(while_parsing(path))
+    scan = None
     try:
         scan = _read_through(path, st)
-    except BaseException:
-        warm.close()
-        raise
-    try:
         kind = _check_kind(path, scan)
         if kind == "step":
             _check_complete(path, scan)
@@ -468,7 +465,7 @@ def open_source(path: str | os.PathLike[str], *, checks: bool = True) -> Source:
         diagnostics, dangling = _findings(path, parse_path, len(_BOM) if scan.bom else 0, f, log)
     finally:
         warm.close()  # (closed already where the parser ran)
-        if scan.copy:
+        if scan is not None and scan.copy:
             _remove(scan.copy)
     try:
         after = os.stat(path)

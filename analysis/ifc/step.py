@@ -14,7 +14,6 @@ every double exactly).
 from __future__ import annotations
 
 import base64
-import math
 import os
 import re
 from typing import Any, Iterable
@@ -67,13 +66,10 @@ def reals(values: Any) -> list[str]:
     n, p, up = _scaled(x, kf)
     rounded = flat.copy()
     rounded[fast] = np.where(up, n / p, n * p)
-    rounded[~np.isfinite(flat)] = np.nan
     rounded[flat == 0] = 0.0  # -0.0 too
     text = "," + orjson.dumps(rounded, option=orjson.OPT_SERIALIZE_NUMPY).decode("ascii")[1:-1] + ","
-    # to STEP: null (NaN, infinity) -> $; 1e-7 -> 1.E-7; 100.0 -> 100.
-    if "n" in text:
-        text = text.replace(",null,", ",$,").replace(",null,", ",$,")
-    text = text.replace(".0,", ".,")
+    # to STEP: null (orjson's NaN and infinity) -> $; 1e-7 -> 1.E-7; 100.0 -> 100.
+    text = text.replace("null", "$").replace(".0,", ".,")
     if "e" in text:
         text = _NO_POINT.sub(r"\1.E", text.replace("e", "E"))
     tokens = text[1:-1].split(",")
