@@ -26,8 +26,10 @@ __all__ = ["ANALYZE_MODULES", "CHECK_MODULES", "expect", "while_parsing", "WORTH
 
 #: what ``plumbframe check`` imports after reading
 CHECK_MODULES = ("scipy.spatial", "analysis.indeterminacy")
-#: what ``plumbframe analyze`` imports after reading (pypardiso where installed)
-ANALYZE_MODULES = (*CHECK_MODULES, "pypardiso", "uuid", "analysis.magnitudes", "analysis.stations",
+#: what ``plumbframe analyze`` imports after reading (pypardiso where installed); ``module:function`` imports
+#: the module and calls the function (pypardiso must be told where MKL is before its import, or it searches
+#: the whole environment for it)
+ANALYZE_MODULES = (*CHECK_MODULES, "analysis.stiffness.solvers:import_pardiso", "uuid", "analysis.magnitudes", "analysis.stations",
                    "analysis.jsonio", "analysis.fileio", "analysis.ifc.writer")
 #: files smaller than this parse in a few hundredths of a second: nothing to overlap, the modules come as needed
 WORTH_FROM_BYTES = 2_000_000
@@ -36,7 +38,10 @@ _expected: tuple[str, ...] = ()
 
 
 def expect(names: Sequence[str]) -> None:
-    """Name the modules the next file parsed (`while_parsing`) may import alongside; once."""
+    """Name the modules the next file parsed (`while_parsing`) may import alongside; once.
+
+    A name ``module:function`` imports the module and calls its function without arguments.
+    """
     global _expected
     _expected = tuple(names)
 
@@ -45,8 +50,11 @@ def _import_all(names: Sequence[str], stop: threading.Event) -> None:
     for name in names:
         if stop.is_set():  # the parser is done: the rest is imported where it is needed, as before
             return
+        module, _, function = name.partition(":")
         with contextlib.suppress(Exception):  # the command's own import reports it
-            importlib.import_module(name)
+            imported = importlib.import_module(module)
+            if function:
+                getattr(imported, function)()
 
 
 @contextlib.contextmanager

@@ -22,7 +22,7 @@ import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-__all__ = ["Factor", "SingularStiffness", "factorize", "available_solvers", "choose_solver"]
+__all__ = ["Factor", "SingularStiffness", "factorize", "available_solvers", "choose_solver", "import_pardiso"]
 
 log = logging.getLogger(__name__)
 
@@ -154,6 +154,12 @@ def _point_pardiso_at_mkl() -> None:  # pragma: no cover - optional library
             continue
         os.environ["PYPARDISO_MKL_RT"] = path
         return
+
+
+def import_pardiso() -> None:  # pragma: no cover - optional library
+    """Import pypardiso, told first where MKL is (`_point_pardiso_at_mkl`); ImportError where it is missing."""
+    _point_pardiso_at_mkl()
+    import pypardiso  # noqa: F401
 
 
 def _pardiso(K, diag) -> Factor:  # pragma: no cover - optional library
