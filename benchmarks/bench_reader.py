@@ -290,10 +290,12 @@ def least_reading_structural(path: str) -> float:
     placement, representation down to both vertices' coordinates, its relations to point connections
     (each with its connection and end condition) and its material association; per point connection its
     GlobalId, Name, vertex coordinates and support condition; per action its load and the item it acts on.
-    Attributes are read by position (`get_argument`), as the reader reads them.
+    Attributes are read by position (`get_argument`), as the reader reads them; each read looks its
+    position up in a dict, which the reader does not, so this is slightly above the true floor (a version
+    with the positions written out measured 1.05 s against 1.20 s on the tower).
 
     What this takes over `baseline_structural` is a floor under the reader's ratio that no logic of
-    the reader's own can go below.
+    the reader's own can go below. ``n`` only keeps the coordinates' reads from being skipped.
     """
     import ifcopenshell
 
